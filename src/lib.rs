@@ -1,0 +1,34 @@
+//! Nervure: the graph-building core of a Mapper workbench.
+//!
+//! Data flows one way, each stage a plain value the next one reads:
+//!
+//! ```text
+//! bytes ─► Table ─► Points ─► lens values ─► Cover ─► clusters ─► Nerve ─► Layout
+//! ```
+//!
+//! This crate knows nothing of the DOM or of WebAssembly except in `web`, the thin
+//! wasm-bindgen surface compiled only for `wasm32`. Everything else is tested natively.
+//!
+//! A Mapper graph depends on its settings: it is a hypothesis about the data's shape to
+//! be confirmed, not a finding.
+
+pub mod error;
+pub mod settings;
+pub mod table;
+pub mod points;
+pub mod filter;
+pub mod cover;
+pub mod cluster;
+pub mod graph;
+pub mod layout;
+pub mod auto;
+pub mod engine;
+pub mod rng;
+
+#[cfg(target_arch = "wasm32")]
+pub mod web;
+
+pub use error::{Error, Result};
+pub use settings::Settings;
+pub use table::{Table, TableReader, ReadOptions};
+// pub use engine::{build, Build, Summary, Workbench};

@@ -197,7 +197,7 @@ impl ColumnBuilder {
                     }
                     // Not a number (or a "NaN" the user did not list as missing).
                     _ => {
-                        self.to_category(row, text);
+                        self.become_category(row, text);
                         self.push_text(text);
                     }
                 }
@@ -216,7 +216,7 @@ impl ColumnBuilder {
         Ok(())
     }
 
-    fn to_category(&mut self, row: usize, text: &str) {
+    fn become_category(&mut self, row: usize, text: &str) {
         let Kind::Number(values) = &self.kind else { return };
         let mut codes = Vec::with_capacity(values.len() + 1);
         let mut index: HashMap<String, u32> = HashMap::new();

@@ -416,11 +416,10 @@ fn rows_read_reports_progress() {
 
 // ---------------------------------------------------------------- throughput
 
-/// Throughput on about 100 MB of numeric CSV, pushed in 1 MiB chunks. Run with
-/// `cargo test --release --lib table::reader_tests::throughput -- --ignored --nocapture`.
-#[test]
-#[ignore]
-fn throughput() {
+/// About 100 MB of numeric CSV, 8 columns: `shortest` writes 2 of them with Rust's `{}`
+/// (up to 17 significant digits, beyond the parser's fast path), the others with 4 decimals
+/// or as integers; otherwise all columns have 4 decimals.
+fn numeric_text(shortest: bool) -> String {
     let mut rng = crate::rng::SplitMix64::new(3);
     let mut text = String::from("a,b,c,d,e,f,g,h\n");
     while text.len() < 100_000_000 {
@@ -430,26 +429,78 @@ fn throughput() {
                 text.push(',');
             }
             match k {
-                0 => text.push_str(&format!("{}", (x * 10.0) as i64)),
-                1..=5 => text.push_str(&format!("{x:.4}")),
-                _ => text.push_str(&format!("{x}")),
+                0 if shortest => text.push_str(&format!("{}", (x * 10.0) as i64)),
+                6 | 7 if shortest => text.push_str(&format!("{x}")),
+                _ => text.push_str(&format!("{x:.4}")),
             }
         }
         text.push('\n');
     }
-    let start = std::time::Instant::now();
-    let mut r = TableReader::new("big.csv", ReadOptions::default());
-    for chunk in text.as_bytes().chunks(1 << 20) {
-        r.push(chunk).unwrap();
+    text
+}
+
+fn mb_per_s(bytes: usize, start: std::time::Instant) -> f64 {
+    bytes as f64 / 1e6 / start.elapsed().as_secs_f64()
+}
+
+/// Throughput, pushed in 1 MiB chunks, with two baselines on the same text: `csv-core` alone
+/// and `f64::from_str` alone. Run with
+/// `cargo test --release --lib table::reader_tests::throughput -- --ignored --nocapture`.
+#[test]
+#[ignore]
+fn throughput() {
+    // Best of three runs of each: the machine may be shared.
+    fn best<T>(bytes: usize, mut f: impl FnMut() -> T) -> (f64, T) {
+        let mut rate = 0.0f64;
+        let mut out = None;
+        for _ in 0..3 {
+            let start = std::time::Instant::now();
+            let r = f();
+            rate = rate.max(mb_per_s(bytes, start));
+            out = Some(r);
+        }
+        (rate, out.unwrap())
     }
-    let t = r.finish().unwrap();
-    let secs = start.elapsed().as_secs_f64();
-    assert!(t.columns.iter().all(|c| c.as_numbers().is_some()));
-    println!(
-        "read {:.1} MB, {} rows in {:.3} s: {:.0} MB/s",
-        text.len() as f64 / 1e6,
-        t.n_rows,
-        secs,
-        text.len() as f64 / 1e6 / secs
-    );
+    for shortest in [false, true] {
+        let text = numeric_text(shortest);
+        let (core_rate, fields) = best(text.len(), || {
+            let mut core = csv_core::Reader::new();
+            let (mut out, mut ends, mut input, mut fields) = (vec![0u8; 4096], vec![0usize; 64], text.as_bytes(), 0usize);
+            loop {
+                let (res, nin, _, nend) = core.read_record(input, &mut out, &mut ends);
+                input = &input[nin..];
+                fields += nend;
+                match res {
+                    csv_core::ReadRecordResult::End => break,
+                    csv_core::ReadRecordResult::Record | csv_core::ReadRecordResult::InputEmpty => {}
+                    other => panic!("{other:?}"),
+                }
+            }
+            fields
+        });
+        let (parse_rate, sum) = best(text.len(), || {
+            let mut sum = 0.0;
+            for cell in text.as_bytes().split(|&b| b == b',' || b == b'\n').skip(8) {
+                sum += std::str::from_utf8(cell).unwrap().parse::<f64>().unwrap_or(0.0);
+            }
+            sum
+        });
+        let (rate, t) = best(text.len(), || {
+            let mut r = TableReader::new("big.csv", ReadOptions::default());
+            for chunk in text.as_bytes().chunks(1 << 20) {
+                r.push(chunk).unwrap();
+            }
+            r.finish().unwrap()
+        });
+        assert!(t.columns.iter().all(|c| c.as_numbers().is_some()));
+        let total: f64 = t.columns.iter().flat_map(|c| c.as_numbers().unwrap()).sum();
+        assert!((total - sum).abs() <= 1e-6 * sum.abs().max(1.0), "{total} vs {sum}");
+        println!(
+            "{}: {:.1} MB, {fields} fields, {} rows; reader {rate:.0} MB/s; csv-core alone {core_rate:.0} MB/s; \
+             f64::from_str alone {parse_rate:.0} MB/s",
+            if shortest { "mixed, 2 of 8 columns with 17 digits" } else { "4 decimals" },
+            text.len() as f64 / 1e6,
+            t.n_rows,
+        );
+    }
 }

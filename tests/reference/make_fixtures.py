@@ -144,10 +144,15 @@ def dbscan_case(label, pts, eps, min_samples):
 
 def dbscan_fixture(iris_z):
     blobs, _ = make_blobs(n_samples=300, centers=3, cluster_std=0.9, random_state=7)
+    # Two touching blobs and a large min_samples: several border points lie within eps of
+    # core points of two clusters, so the border-point rule is exercised.
+    touching, _ = make_blobs(n_samples=300, centers=[[0.0, 0.0], [2.2, 0.0]], cluster_std=0.6, random_state=7)
     cases = [
         dbscan_case("iris z-scored (StandardScaler)", iris_z, 0.5, 5),
         dbscan_case("iris z-scored (StandardScaler)", iris_z, 0.8, 5),
         dbscan_case("make_blobs(n_samples=300, centers=3, cluster_std=0.9, random_state=7)", blobs, 0.6, 5),
+        dbscan_case("make_blobs(n_samples=300, centers=[[0, 0], [2.2, 0]], cluster_std=0.6, random_state=7)",
+                    touching, 0.3, 12),
     ]
     write("dbscan.json", {
         "source": (f"{lib('scikit-learn')}: sklearn.cluster.DBSCAN(eps, min_samples).fit(points); "

@@ -159,16 +159,16 @@ def generate(rows, out):
 
             # Water temperature: seasonal + daily wave + AR(1) noise; storms cool it.
             st.temp_noise = 0.85 * st.temp_noise + rng.gauss(0.0, 0.12)
-            temp_model = seasonal + st.t_off + st.amp * sun * math.sin(phase_t) - 1.8 * dilution
+            temp_model = seasonal + st.t_off + st.amp * sun * math.sin(phase_t) - 0.6 * dilution
             water = temp_model + st.temp_noise
             air = seasonal + 1.5 + 5.0 * sun * math.sin(two_pi * (hod - 9) / 24.0) + rng.gauss(0.0, 0.8)
 
             # Oxygen: near saturation, plus the daily swing of photosynthesis (which
             # leads temperature by three hours, so the two trace a loop), plus
             # reaeration in storms.
-            photo = 1.5 * sun * math.sin(phase_o) * (1.0 - dilution)
-            oxy_model = 0.93 * oxygen_saturation(temp_model) + photo + 0.5 * dilution
-            oxy = 0.93 * oxygen_saturation(water) + photo + 0.5 * dilution + rng.gauss(0.0, 0.12)
+            photo = 1.5 * sun * math.sin(phase_o) * (1.0 - 0.3 * dilution)
+            oxy_model = 0.93 * oxygen_saturation(temp_model) + photo + 0.2 * dilution
+            oxy = 0.93 * oxygen_saturation(water) + photo + 0.2 * dilution + rng.gauss(0.0, 0.12)
 
             ph = 7.55 + st.ph_off + 0.18 * photo - 0.35 * dilution + rng.gauss(0.0, 0.03)
             cond = st.cond * (1.0 - 0.6 * dilution) * (1.0 + rng.gauss(0.0, 0.015))

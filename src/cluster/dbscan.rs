@@ -26,6 +26,14 @@
 use super::kdtree::KdTree;
 use super::Labels;
 
+fn dist2(a: &[f64], b: &[f64]) -> f64 {
+    a.iter().zip(b).map(|(x, y)| (x - y) * (x - y)).sum()
+}
+
+fn dist(a: &[f64], b: &[f64]) -> f64 {
+    dist2(a, b).sqrt()
+}
+
 /// DBSCAN labels for the rows of `points` (row-major, `dim` columns).
 pub fn dbscan(points: &[f64], dim: usize, eps: f64, min_points: usize) -> Labels {
     if dim == 0 || points.is_empty() {
@@ -35,10 +43,40 @@ pub fn dbscan(points: &[f64], dim: usize, eps: f64, min_points: usize) -> Labels
     let tree = KdTree::new(points, dim);
     let row = |i: usize| &points[i * dim..(i + 1) * dim];
 
-    let core: Vec<bool> = (0..m).map(|i| tree.count_within(row(i), eps, min_points) >= min_points).collect();
+    // A leaf whose box fits inside an eps-ball around any of its points and that holds at
+    // least `min_points` points makes every one of them a core point with no query.
+    let mut core = vec![false; m];
+    let mut settled = vec![false; m];
+    for (leaf, diag2) in tree.leaves() {
+        let rows = tree.rows_in(leaf);
+        if rows.len() >= min_points && diag2 <= eps * eps {
+            for &r in rows {
+                core[r as usize] = true;
+                settled[r as usize] = true;
+            }
+        }
+    }
+    for i in 0..m {
+        if !settled[i] {
+            core[i] = tree.count_within(row(i), eps, min_points) >= min_points;
+        }
+    }
 
     let mut labels: Labels = vec![None; m];
+    // Two devices keep the expansion cheap in dense data without changing its result
+    // (which points a cluster takes does not depend on the order its core points are
+    // expanded in; clusters still grow one at a time, seeds in row order):
+    // - labelled points are taken out of `open`, so queries skip finished subtrees;
+    // - the core points of one k-d tree leaf are expanded together: one query with the
+    //   radius grown by the batch's spread finds the candidates, and each candidate is
+    //   then checked against the batch's points.
+    let mut open = tree.unvisited();
+    let mut expanded = vec![false; m];
     let mut stack: Vec<usize> = Vec::new();
+    let mut batch: Vec<usize> = Vec::new();
+    let mut found: Vec<usize> = Vec::new();
+    let mut centre = vec![0.0; dim];
+    let eps2 = eps * eps;
     let mut next = 0u32;
     for seed in 0..m {
         if !core[seed] || labels[seed].is_some() {
@@ -47,17 +85,39 @@ pub fn dbscan(points: &[f64], dim: usize, eps: f64, min_points: usize) -> Labels
         let c = next;
         next += 1;
         labels[seed] = Some(c);
+        open.take(seed);
         stack.push(seed);
         while let Some(p) = stack.pop() {
-            // Only core points are on the stack.
-            tree.for_each_within(row(p), eps, |q| {
-                if labels[q].is_none() {
+            if expanded[p] {
+                continue;
+            }
+            batch.clear();
+            for &r in tree.rows_in(open.leaf_of(p)) {
+                let r = r as usize;
+                if core[r] && !expanded[r] && labels[r] == Some(c) {
+                    expanded[r] = true;
+                    batch.push(r);
+                }
+            }
+            centre.iter_mut().for_each(|v| *v = 0.0);
+            for &b in &batch {
+                centre.iter_mut().zip(row(b)).for_each(|(v, x)| *v += x);
+            }
+            centre.iter_mut().for_each(|v| *v /= batch.len() as f64);
+            let spread = batch.iter().map(|&b| dist(&centre, row(b))).fold(0.0, f64::max);
+            found.clear();
+            tree.visit_unvisited_within(&centre, eps + spread * (1.0 + 1e-12), &open, &mut |q| {
+                if labels[q].is_none() && batch.iter().any(|&b| dist2(row(b), row(q)) <= eps2) {
                     labels[q] = Some(c);
-                    if core[q] {
-                        stack.push(q);
-                    }
+                    found.push(q);
                 }
             });
+            for &q in &found {
+                open.take(q);
+                if core[q] {
+                    stack.push(q);
+                }
+            }
         }
     }
     super::renumber(&mut labels);

@@ -347,6 +347,112 @@ impl KdTree {
             self.other_rec(c, dl, q, own, comp, node_comp, best);
         }
     }
+
+    /// The caller's row numbers of the points in node `n` (a leaf from [`Unvisited::leaf_of`]).
+    pub fn rows_in(&self, n: usize) -> &[u32] {
+        let node = self.nodes[n];
+        &self.index[node.start as usize..node.end as usize]
+    }
+
+    /// Every leaf's node number with the squared length of its box's diagonal (an upper
+    /// bound on the squared distance between any two of its points).
+    pub fn leaves(&self) -> impl Iterator<Item = (usize, f64)> + '_ {
+        self.nodes.iter().enumerate().filter(|(_, n)| n.children == 0).map(move |(i, _)| {
+            let b = &self.bounds[2 * self.dim * i..2 * self.dim * (i + 1)];
+            let (lo, hi) = b.split_at(self.dim);
+            (i, lo.iter().zip(hi).map(|(a, c)| (c - a) * (c - a)).sum())
+        })
+    }
+
+    /// A fresh [`Unvisited`] set holding every point, for [`KdTree::visit_unvisited_within`].
+    pub fn unvisited(&self) -> Unvisited {
+        let count: Vec<u32> = self.nodes.iter().map(|n| n.end - n.start).collect();
+        let mut parent = vec![0u32; self.nodes.len()];
+        let mut leaf = vec![0u32; self.len()];
+        for (i, n) in self.nodes.iter().enumerate() {
+            if n.children == 0 {
+                for pos in n.start..n.end {
+                    leaf[pos as usize] = i as u32;
+                }
+            } else {
+                parent[n.children as usize] = i as u32;
+                parent[n.children as usize + 1] = i as u32;
+            }
+        }
+        let mut pos_of_row = vec![0u32; self.len()];
+        for (pos, &row) in self.index.iter().enumerate() {
+            pos_of_row[row as usize] = pos as u32;
+        }
+        Unvisited { count, parent, leaf, pos_of_row }
+    }
+
+    /// Like [`KdTree::for_each_within`], but skips every subtree whose points have all been
+    /// taken out of `set`. Points still in `set` are all reported; points already taken out
+    /// may be reported too (the caller checks its own marks), which keeps leaves simple.
+    /// This is what makes region growing (DBSCAN's expansion) cheap in dense data: a
+    /// region, once labelled, is pruned at the top of the tree.
+    pub fn visit_unvisited_within(&self, q: &[f64], r: f64, set: &Unvisited, f: &mut impl FnMut(usize)) {
+        if !self.is_empty() && r >= 0.0 {
+            self.unvisited_rec(0, q, r * r, set, f);
+        }
+    }
+
+    fn unvisited_rec(&self, n: usize, q: &[f64], r2: f64, set: &Unvisited, f: &mut impl FnMut(usize)) {
+        if set.count[n] == 0 {
+            return;
+        }
+        let node = self.nodes[n];
+        let (near, far) = self.box_dist2(n, q);
+        if near > r2 {
+            return;
+        }
+        let (s, e) = (node.start as usize, node.end as usize);
+        let whole = set.count[n] as usize == e - s;
+        if far <= r2 && (whole || node.children == 0) {
+            self.index[s..e].iter().for_each(|&row| f(row as usize));
+        } else if node.children == 0 {
+            for pos in s..e {
+                if dist2(q, self.point_at(pos)) <= r2 {
+                    f(self.index[pos] as usize);
+                }
+            }
+        } else {
+            let c = node.children as usize;
+            self.unvisited_rec(c, q, r2, set, f);
+            self.unvisited_rec(c + 1, q, r2, set, f);
+        }
+    }
+}
+
+/// Which points of a [`KdTree`] have not yet been taken out, counted per node so that
+/// queries can skip finished subtrees. Take each point out at most once.
+#[derive(Debug, Clone)]
+pub struct Unvisited {
+    count: Vec<u32>,
+    parent: Vec<u32>,
+    leaf: Vec<u32>,
+    pos_of_row: Vec<u32>,
+}
+
+impl Unvisited {
+    /// The leaf (node number) that holds the point with the caller's row number `row`.
+    pub fn leaf_of(&self, row: usize) -> usize {
+        self.leaf[self.pos_of_row[row] as usize] as usize
+    }
+
+    /// Takes the point with the caller's row number `row` out of the set.
+    pub fn take(&mut self, row: usize) {
+        let mut n = self.leaf[self.pos_of_row[row] as usize] as usize;
+        loop {
+            debug_assert!(self.count[n] > 0, "a point was taken out twice");
+            self.count[n] -= 1;
+            if n == 0 {
+                break;
+            }
+            n = self.parent[n] as usize;
+        }
+    }
+
 }
 
 #[cfg(test)]

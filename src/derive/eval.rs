@@ -30,6 +30,9 @@ pub struct Undefined {
     pub first_row: usize,
 }
 
+/// What an undefined input is called, when an input is undefined, and the function.
+type Unary = (&'static str, fn(f64) -> bool, fn(f64) -> f64);
+
 enum Val {
     Scalar(f64),
     Column(Vec<f64>),
@@ -174,7 +177,7 @@ fn eval(e: &Expr, cx: &mut Ctx) -> Result<Val, ExprError> {
         }
         ExprKind::Call(f, args) => {
             let a = eval(&args[0], cx)?;
-            let (what, bad, g): (&str, fn(f64) -> bool, fn(f64) -> f64) = match f {
+            let (what, bad, g): Unary = match f {
                 Func::Abs => ("", |_| false, f64::abs),
                 Func::Exp => ("", |_| false, f64::exp),
                 Func::Log => ("log of a value <= 0", |x| x <= 0.0, f64::ln),

@@ -60,6 +60,7 @@ pub fn auto_settings(table: &Table) -> Result<Settings> {
         clustering: Clustering::Dbscan { eps: 1.0, min_points: MIN_POINTS },
         edges: EdgeRule::default(),
         seed: 1,
+        derived: Vec::new(),
     };
     let pts = build_points(table, &s)?;
     let n = pts.rows.len();

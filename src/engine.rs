@@ -9,12 +9,14 @@ use serde::Serialize;
 
 use crate::cluster;
 use crate::cover::{self, Cover};
+use crate::derive::{self, DerivedInfo};
+use crate::explain::{self, ColumnContrast, SortedColumns};
 use crate::error::{Error, Result};
 use crate::filter;
 use crate::graph::{Nerve, Node};
 use crate::layout;
 use crate::points::{self, Points, PointsKey};
-use crate::settings::{Clustering, CoverSettings, EdgeRule, Lens, Settings};
+use crate::settings::{Clustering, CoverSettings, Derived, EdgeRule, Lens, Settings};
 use crate::table::{ColumnData, Table, MISSING_CODE};
 
 /// What one run produced, with the settings that produced it.
@@ -108,10 +110,19 @@ fn graph_key(s: &Settings) -> GraphKey {
     (cluster_key(s), s.edges.clone())
 }
 
+/// Derived columns are recomputed when their list or the fill values change.
+type DerivedKey = (Vec<Derived>, Vec<f64>);
+
 /// A table and the cached stages of the last run on it.
 #[derive(Default)]
 pub struct Workbench {
+    /// The file's columns, then the derived columns of the last run appended in place.
     table: Option<Table>,
+    /// How many of `table.columns` came from the file.
+    base_columns: usize,
+    derived: Option<(DerivedKey, Vec<DerivedInfo>)>,
+    /// Sorted rows per numeric column for [`Workbench::explain`], made on first use.
+    sorted: Option<(DerivedKey, SortedColumns)>,
     points: Option<(PointsKey, Points)>,
     lens: Option<(LensKey, Vec<f64>)>,
     cover: Option<(CoverKey, Cover)>,
@@ -126,7 +137,8 @@ impl Workbench {
 
     /// Takes a new table and drops every cached stage.
     pub fn set_table(&mut self, table: Table) {
-        *self = Workbench { table: Some(table), ..Default::default() };
+        let base_columns = table.columns.len();
+        *self = Workbench { table: Some(table), base_columns, ..Default::default() };
     }
 
     pub fn table(&self) -> Option<&Table> {
@@ -142,13 +154,40 @@ impl Workbench {
     }
 
     pub fn auto_settings(&self) -> Result<Settings> {
-        crate::auto::auto_settings(self.need_table()?)
+        let mut s = crate::auto::auto_settings(self.need_table()?)?;
+        // Keep the derived columns already made, so the names auto may choose resolve.
+        s.derived = self.derived.as_ref().map(|((d, _), _)| d.clone()).unwrap_or_default();
+        Ok(s)
+    }
+
+    /// What the last run's derived columns found (missing values, undefined operations).
+    pub fn derived_info(&self) -> &[DerivedInfo] {
+        self.derived.as_ref().map_or(&[], |(_, i)| i)
+    }
+
+    /// Makes the table's derived columns those of `s`, evaluating only when the list or
+    /// the fill values changed. On error the previous derived columns stay.
+    fn sync_derived(&mut self, s: &Settings) -> Result<()> {
+        let key: DerivedKey = (s.derived.clone(), s.missing.fill_values.clone());
+        let base = self.base_columns;
+        let current = self.derived.as_ref().map(|(k, _)| k);
+        let table = self.table.as_mut().ok_or_else(|| Error::Input("no table is loaded yet: open a CSV file first".into()))?;
+        if current == Some(&key) || (current.is_none() && key.0.is_empty()) {
+            return Ok(());
+        }
+        let (made, infos) = derive::derive_columns(&table.columns[..base], table.n_rows, &key.0, &key.1)?;
+        table.columns.truncate(base);
+        table.columns.extend(made);
+        self.derived = Some((key, infos));
+        self.sorted = None;
+        Ok(())
     }
 
     /// Runs the pipeline, re-using every stage whose part of the settings is unchanged.
     /// On error the previous build stays in place.
     pub fn run(&mut self, s: &Settings, progress: &mut dyn FnMut(&str, f64)) -> Result<Summary> {
         s.validate()?;
+        self.sync_derived(s)?;
         let table = self.table.as_ref().ok_or_else(|| Error::Input("no table is loaded yet: open a CSV file first".into()))?;
         if let Some(b) = &self.last {
             if graph_key(&b.settings) == graph_key(s) {
@@ -268,6 +307,79 @@ impl Workbench {
         })
     }
 
+    /// The rows of the given nodes of the last build (the union of their members), as
+    /// table row indices, increasing.
+    pub fn rows_of(&self, nodes: &[usize]) -> Result<Vec<u32>> {
+        let (_, b) = self.table_and_build()?;
+        let mut rows = Vec::new();
+        for &k in nodes {
+            let n = b.nerve.nodes.get(k).ok_or_else(|| Error::Data(format!("there is no node {k}; the graph has {}", b.nerve.nodes.len())))?;
+            rows.extend_from_slice(&n.members);
+        }
+        rows.sort_unstable();
+        rows.dedup();
+        Ok(rows)
+    }
+
+    /// Every numeric column compared between the rows of `nodes` and all other rows of the
+    /// table, most different first (see [`crate::explain`]).
+    pub fn explain(&mut self, nodes: &[usize]) -> Result<Vec<ColumnContrast>> {
+        let rows = self.rows_of(nodes)?;
+        if rows.is_empty() {
+            return Err(Error::Data("choose at least one node to compare with the rest".into()));
+        }
+        let (table, b) = self.table_and_build()?;
+        let fills = b.settings.missing.fill_values.clone();
+        let key: DerivedKey = (b.settings.derived.clone(), fills.clone());
+        if self.sorted.as_ref().map(|(k, _)| k) != Some(&key) {
+            let sorted = SortedColumns::new(table, &fills);
+            self.sorted = Some((key, sorted));
+        }
+        let table = self.table.as_ref().expect("checked");
+        let mut in_group = vec![false; table.n_rows];
+        for &r in &rows {
+            in_group[r as usize] = true;
+        }
+        Ok(explain::contrast(table, &self.sorted.as_ref().expect("just set").1, &in_group))
+    }
+
+    /// The values of `columns` (every column when empty) at table rows `rows`, for the
+    /// page's row table; pass the first rows you want to show.
+    pub fn row_values(&self, rows: &[u32], columns: &[String]) -> Result<RowValues> {
+        let table = self.need_table()?;
+        let fills = self.last.as_ref().map(|b| b.settings.missing.fill_values.clone()).unwrap_or_default();
+        let cols: Vec<&crate::table::Column> = if columns.is_empty() {
+            table.columns.iter().collect()
+        } else {
+            columns.iter().map(|c| table.column(c).ok_or_else(|| Error::settings("columns", format!("no column named '{c}'")))).collect::<Result<_>>()?
+        };
+        if let Some(&r) = rows.iter().find(|&&r| r as usize >= table.n_rows) {
+            return Err(Error::Data(format!("row index {r} is past the table's {} rows", table.n_rows)));
+        }
+        let cells = rows
+            .iter()
+            .map(|&r| {
+                cols.iter()
+                    .map(|c| match &c.data {
+                        ColumnData::Number(v) => {
+                            let x = v[r as usize];
+                            if points::is_missing(x, &fills) { serde_json::Value::Null } else { serde_json::json!(x) }
+                        }
+                        ColumnData::Category { codes, levels } => match codes[r as usize] {
+                            MISSING_CODE => serde_json::Value::Null,
+                            k => serde_json::Value::String(levels[k as usize].clone()),
+                        },
+                    })
+                    .collect()
+            })
+            .collect();
+        Ok(RowValues {
+            columns: cols.iter().map(|c| c.name.clone()).collect(),
+            data_rows: rows.iter().map(|&r| r as usize + 1).collect(),
+            cells,
+        })
+    }
+
     fn table_and_build(&self) -> Result<(&Table, &Build)> {
         let t = self.need_table()?;
         let b = self.last.as_ref().ok_or_else(|| Error::Data("no graph has been built yet".into()))?;
@@ -275,9 +387,27 @@ impl Workbench {
     }
 }
 
-/// Runs the whole pipeline once, with no cache.
+/// Cells of chosen rows: `cells[i][j]` is column `j` at data row `data_rows[i]` (1-based),
+/// a number, a text or null for a missing value.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+#[serde(rename_all = "camelCase")]
+pub struct RowValues {
+    pub columns: Vec<String>,
+    pub data_rows: Vec<usize>,
+    pub cells: Vec<Vec<serde_json::Value>>,
+}
+
+/// Runs the whole pipeline once, with no cache. With derived columns this works on a copy
+/// of the table that has them appended.
 pub fn build(table: &Table, s: &Settings) -> Result<Build> {
     s.validate()?;
+    let owned;
+    let table = if s.derived.is_empty() {
+        table
+    } else {
+        owned = derive::with_derived(table, &s.derived, &s.missing.fill_values)?.0;
+        &owned
+    };
     let mut quiet = |_: &str, _: f64| {};
     let pts = points::build_points(table, s)?;
     let lens = lens_values(table, &pts, s)?;

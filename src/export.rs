@@ -1,9 +1,24 @@
-//! Writing a build out: the graph as JSON (our own format, described here) so a user or a
-//! script can rebuild, check or draw it elsewhere.
+//! Writing a build out, so a user or a script can rebuild, check or draw it elsewhere:
 //!
-//! Graph JSON: `{"format": "nervure-graph", "version": 1, "settings": {...}, "summary":
-//! {...}, "nodes": [{"id", "element", "size", "lens", "rows": [1-based data rows]}],
-//! "edges": [{"source", "target", "shared"}]}`.
+//! - Graph JSON (our own format, described here): `{"format": "nervure-graph", "version":
+//!   1, "settings": {...}, "summary": {...}, "nodes": [{"id", "element", "size", "lens",
+//!   "rows": [1-based data rows]}], "edges": [{"source", "target", "shared"}]}`.
+//! - GraphML, the open standard (<http://graphml.graphdrawing.org/>, namespace
+//!   `http://graphml.graphdrawing.org/xmlns`): undirected graph; node ids `n0, n1, ...` in
+//!   node order; node attributes `size` (int), `element` (int, the cover element), `lens`
+//!   (double, the mean lens value) and, when given, the current colour column's node
+//!   values (double, named after the column; no value written for a node without one);
+//!   edge attribute `shared` (int, rows the two nodes share); graph attribute `settings`
+//!   (string, the settings JSON that rebuilds the graph). Checked with NetworkX's reader.
+//! - Memberships CSV: header `data_row,node`, then one line per (row, node) membership,
+//!   by node then row; `data_row` counts the file's data rows from 1 (the header not
+//!   counted), `node` is the node's index (the `n` number of the GraphML id).
+//! - A short text report: the settings, the summary and the caution that goes with any
+//!   Mapper graph.
+//!
+//! What it is not: a reader of these formats (settings are read back from the JSON).
+
+use std::fmt::Write as _;
 
 use serde_json::json;
 
@@ -35,4 +50,214 @@ pub fn graph_json(b: &Build) -> String {
         "edges": edges,
     }))
     .expect("graph serialises")
+}
+
+/// Text safe inside an XML attribute value or element: `& < > " '` escaped, and the
+/// characters XML 1.0 forbids (controls other than tab, newline and carriage return)
+/// replaced by U+FFFD.
+pub fn xml_escape(text: &str) -> String {
+    let mut out = String::with_capacity(text.len());
+    for c in text.chars() {
+        match c {
+            '&' => out.push_str("&amp;"),
+            '<' => out.push_str("&lt;"),
+            '>' => out.push_str("&gt;"),
+            '"' => out.push_str("&quot;"),
+            '\'' => out.push_str("&apos;"),
+            '\t' | '\n' | '\r' => out.push(c),
+            c if (c as u32) < 0x20 || c == '\u{FFFE}' || c == '\u{FFFF}' => out.push('\u{FFFD}'),
+            c => out.push(c),
+        }
+    }
+    out
+}
+
+/// The graph as GraphML. `colour`: the page's current colour column and one value per node.
+pub fn graphml(b: &Build, colour: Option<(&str, &[f64])>) -> String {
+    let mut x = String::new();
+    x.push_str("<?xml version=\"1.0\" encoding=\"UTF-8\"?>\n");
+    x.push_str("<graphml xmlns=\"http://graphml.graphdrawing.org/xmlns\" xmlns:xsi=\"http://www.w3.org/2001/XMLSchema-instance\" xsi:schemaLocation=\"http://graphml.graphdrawing.org/xmlns http://graphml.graphdrawing.org/xmlns/1.0/graphml.xsd\">\n");
+    x.push_str("  <key id=\"settings\" for=\"graph\" attr.name=\"settings\" attr.type=\"string\"/>\n");
+    x.push_str("  <key id=\"size\" for=\"node\" attr.name=\"size\" attr.type=\"int\"/>\n");
+    x.push_str("  <key id=\"element\" for=\"node\" attr.name=\"element\" attr.type=\"int\"/>\n");
+    x.push_str("  <key id=\"lens\" for=\"node\" attr.name=\"lens\" attr.type=\"double\"/>\n");
+    if let Some((name, _)) = colour {
+        let _ = writeln!(x, "  <key id=\"colour\" for=\"node\" attr.name=\"{}\" attr.type=\"double\"/>", xml_escape(name));
+    }
+    x.push_str("  <key id=\"shared\" for=\"edge\" attr.name=\"shared\" attr.type=\"int\"/>\n");
+    x.push_str("  <graph id=\"G\" edgedefault=\"undirected\">\n");
+    let settings = serde_json::to_string(&b.settings).expect("settings serialise");
+    let _ = writeln!(x, "    <data key=\"settings\">{}</data>", xml_escape(&settings));
+    for (i, n) in b.nerve.nodes.iter().enumerate() {
+        let _ = write!(
+            x,
+            "    <node id=\"n{i}\"><data key=\"size\">{}</data><data key=\"element\">{}</data><data key=\"lens\">{:?}</data>",
+            n.members.len(),
+            n.element,
+            b.node_lens[i]
+        );
+        if let Some((_, v)) = colour {
+            if let Some(c) = v.get(i).filter(|c| c.is_finite()) {
+                let _ = write!(x, "<data key=\"colour\">{c:?}</data>");
+            }
+        }
+        x.push_str("</node>\n");
+    }
+    for e in &b.nerve.edges {
+        let _ = writeln!(x, "    <edge source=\"n{}\" target=\"n{}\"><data key=\"shared\">{}</data></edge>", e.a, e.b, e.shared);
+    }
+    x.push_str("  </graph>\n</graphml>\n");
+    x
+}
+
+/// One line per membership: `data_row,node` (see the module doc).
+pub fn memberships_csv(b: &Build) -> String {
+    let total: usize = b.nerve.nodes.iter().map(|n| n.members.len()).sum();
+    let mut out = String::with_capacity(14 + total * 10);
+    out.push_str("data_row,node\n");
+    for (i, n) in b.nerve.nodes.iter().enumerate() {
+        for &r in &n.members {
+            let _ = writeln!(out, "{},{i}", r as usize + 1);
+        }
+    }
+    out
+}
+
+/// A short plain-text account of a build: what file, which settings, what came out, and
+/// the caution that goes with any Mapper graph.
+pub fn report(b: &Build, file_name: &str) -> String {
+    let s = &b.summary;
+    let mut t = String::new();
+    let _ = writeln!(t, "Nervure graph of {file_name}\n");
+    let _ = writeln!(t, "Rows used: {} ({} left out for a missing value)", s.rows, s.rows_left_out);
+    for (c, k) in &s.left_out_by_column {
+        let _ = writeln!(t, "  '{c}' had no value in {k} rows");
+    }
+    let _ = writeln!(t, "Nodes: {}, edges: {}, connected components: {}, independent loops: {}", s.nodes, s.edges, s.components, s.loops);
+    let _ = writeln!(t, "Cover elements holding rows: {}; rows in no node (noise): {}", s.elements, s.noise_rows);
+    let _ = writeln!(t, "Lens range: {} to {}", b.lens_range.0, b.lens_range.1);
+    let _ = writeln!(t, "\nSettings (load this to rebuild the same graph):\n{}\n", b.settings.to_json());
+    t.push_str(
+        "Caution: a Mapper graph depends on its settings (the lens, the number of intervals and \
+their overlap, the clustering). Its nodes, edges and loops are a hypothesis about the shape of \
+the data, to be checked: change the settings a little and see whether the feature stays, and \
+look at the rows behind it.\n",
+    );
+    t
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::settings::*;
+    use crate::table::{Column, Table};
+
+    /// Two separate arcs of points along x: a small graph with a known number of nodes.
+    fn small_build() -> Build {
+        let x: Vec<f64> = (0..40).map(|i| if i < 20 { i as f64 * 0.1 } else { 10.0 + (i - 20) as f64 * 0.1 }).collect();
+        let t = Table::from_columns("t", vec![Column::number("x", x.clone()), Column::number("y", x.iter().map(|v| v * 0.5).collect())]).unwrap();
+        let s = Settings {
+            version: 1,
+            columns: vec!["x".into(), "y".into()],
+            scaling: Scaling::None,
+            missing: Missing::default(),
+            lens: Lens::Column { column: "x".into() },
+            cover: CoverSettings { intervals: 8, overlap: 0.3 },
+            clustering: Clustering::Dbscan { eps: 0.3, min_points: 1 },
+            edges: EdgeRule::default(),
+            seed: 1,
+            derived: Vec::new(),
+        };
+        crate::engine::build(&t, &s).unwrap()
+    }
+
+    const NAME: &str = "a&b <c> \"d\" 'e'";
+
+    #[test]
+    fn escapes_every_special_character() {
+        assert_eq!(xml_escape(NAME), "a&amp;b &lt;c&gt; &quot;d&quot; &apos;e&apos;");
+        assert_eq!(xml_escape("x\u{1}y"), "x\u{FFFD}y");
+    }
+
+    #[test]
+    fn graphml_counts_and_escaping_natively() {
+        let b = small_build();
+        let colour: Vec<f64> = (0..b.nerve.nodes.len()).map(|i| if i == 0 { f64::NAN } else { i as f64 }).collect();
+        let g = graphml(&b, Some((NAME, &colour)));
+        assert!(b.nerve.nodes.len() >= 4 && !b.nerve.edges.is_empty());
+        assert_eq!(g.matches("<node ").count(), b.nerve.nodes.len());
+        assert_eq!(g.matches("<edge ").count(), b.nerve.edges.len());
+        assert_eq!(g.matches("<data key=\"colour\">").count(), b.nerve.nodes.len() - 1, "no value for the NaN node");
+        assert!(g.contains("attr.name=\"a&amp;b &lt;c&gt; &quot;d&quot; &apos;e&apos;\""));
+        // Every '&' starts one of the five predefined entities; no raw '<' outside tags.
+        for (i, _) in g.match_indices('&') {
+            let rest = &g[i..];
+            assert!(["&amp;", "&lt;", "&gt;", "&quot;", "&apos;"].iter().any(|e| rest.starts_with(e)), "bad entity at {i}");
+        }
+        assert!(!g.contains("<c>"));
+        assert!(g.contains("&quot;version&quot;:1"), "settings JSON as an escaped string");
+    }
+
+    #[test]
+    fn graphml_reads_back_with_networkx() {
+        let b = small_build();
+        let colour: Vec<f64> = (0..b.nerve.nodes.len()).map(|i| i as f64 * 0.5).collect();
+        let dir = std::env::temp_dir().join(format!("nervure-graphml-{}", std::process::id()));
+        std::fs::create_dir_all(&dir).unwrap();
+        let path = dir.join("small.graphml");
+        std::fs::write(&path, graphml(&b, Some((NAME, &colour)))).unwrap();
+        let python = std::env::var("NERVURE_PYTHON").unwrap_or_else(|_| "python3".into());
+        let has_networkx = std::process::Command::new(&python).args(["-c", "import networkx"]).output().is_ok_and(|o| o.status.success());
+        if !has_networkx {
+            eprintln!(
+                "SKIPPED, not a pass: {python} cannot import networkx, so the GraphML file was not read back; \
+                 set NERVURE_PYTHON to a Python with networkx (tests/reference/requirements.txt)"
+            );
+            let _ = std::fs::remove_dir_all(&dir);
+            return;
+        }
+        let script = format!("{}/tests/reference/check_graphml.py", env!("CARGO_MANIFEST_DIR"));
+        let out = std::process::Command::new(&python)
+            .arg(&script)
+            .arg(&path)
+            .arg(b.nerve.nodes.len().to_string())
+            .arg(b.nerve.edges.len().to_string())
+            .arg(NAME)
+            .arg(b.nerve.edges.iter().map(|e| e.shared as usize).sum::<usize>().to_string())
+            .output()
+            .unwrap();
+        let _ = std::fs::remove_dir_all(&dir);
+        let text = format!("{}{}", String::from_utf8_lossy(&out.stdout), String::from_utf8_lossy(&out.stderr));
+        assert!(out.status.success(), "check_graphml.py failed:\n{text}");
+        eprintln!("{}", text.trim());
+    }
+
+    #[test]
+    fn memberships_one_line_per_membership_with_1_based_rows() {
+        let b = small_build();
+        let csv = memberships_csv(&b);
+        let mut lines = csv.lines();
+        assert_eq!(lines.next(), Some("data_row,node"));
+        let body: Vec<(usize, usize)> = lines.map(|l| {
+            let (r, n) = l.split_once(',').unwrap();
+            (r.parse().unwrap(), n.parse().unwrap())
+        }).collect();
+        assert_eq!(body.len(), b.nerve.nodes.iter().map(|n| n.members.len()).sum::<usize>());
+        for (r, n) in &body {
+            assert!(b.nerve.nodes[*n].members.contains(&(*r as u32 - 1)));
+        }
+        assert!(body.iter().all(|(r, _)| *r >= 1 && *r <= 40));
+    }
+
+    #[test]
+    fn report_carries_settings_summary_and_caution() {
+        let b = small_build();
+        let r = report(&b, "arcs.csv");
+        assert!(r.contains("arcs.csv"));
+        assert!(r.contains(&format!("Nodes: {}, edges: {}", b.summary.nodes, b.summary.edges)));
+        assert!(r.contains("hypothesis"));
+        let start = r.find('{').unwrap();
+        let end = r.rfind('}').unwrap();
+        assert_eq!(Settings::from_json(&r[start..=end]).unwrap(), b.settings);
+    }
 }

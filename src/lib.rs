@@ -15,6 +15,8 @@
 pub mod error;
 pub mod settings;
 pub mod table;
+pub mod timecol;
+pub mod derive;
 pub mod points;
 pub mod filter;
 pub mod cover;
@@ -24,6 +26,7 @@ pub mod layout;
 pub mod auto;
 pub mod engine;
 pub mod export;
+pub mod explain;
 pub mod rng;
 
 #[cfg(target_arch = "wasm32")]

@@ -30,6 +30,8 @@ pub struct PointsKey {
     scaling: Scaling,
     fill_values: Vec<f64>,
     lens_column: Option<String>,
+    /// Derived columns change the values behind their names.
+    derived: Vec<crate::settings::Derived>,
 }
 
 impl PointsKey {
@@ -42,6 +44,7 @@ impl PointsKey {
                 Lens::Column { column } => Some(column.clone()),
                 _ => None,
             },
+            derived: s.derived.clone(),
         }
     }
 }
@@ -146,6 +149,7 @@ mod tests {
             clustering: Clustering::Dbscan { eps: 1.0, min_points: 2 },
             edges: EdgeRule::default(),
             seed: 1,
+            derived: Vec::new(),
         }
     }
 

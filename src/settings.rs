@@ -29,6 +29,17 @@ pub struct Settings {
     /// Seed for every random choice (subsamples, layout start).
     #[serde(default = "default_seed")]
     pub seed: u64,
+    /// Numeric columns computed from others, in order; usable wherever a file column is.
+    #[serde(default)]
+    pub derived: Vec<Derived>,
+}
+
+/// A derived column: `expression` over column names (see [`crate::derive`]).
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(rename_all = "camelCase", deny_unknown_fields)]
+pub struct Derived {
+    pub name: String,
+    pub expression: String,
 }
 
 fn default_seed() -> u64 {
@@ -199,6 +210,7 @@ impl Settings {
         if self.missing.fill_values.iter().any(|v| v.is_nan()) {
             return Err(Error::settings("missing.fillValues", "NaN is always missing; list numbers only"));
         }
+        crate::derive::validate(&self.derived)?;
         Ok(())
     }
 }
@@ -218,6 +230,7 @@ mod tests {
             clustering: Clustering::Dbscan { eps: 0.5, min_points: 5 },
             edges: EdgeRule { min_shared: 1 },
             seed: 1,
+            derived: vec![Derived { name: "ratio".into(), expression: "a / b".into() }],
         }
     }
 
@@ -265,5 +278,22 @@ mod tests {
         let mut s = sample();
         s.clustering = Clustering::Dbscan { eps: 0.0, min_points: 3 };
         assert!(s.validate().unwrap_err().to_string().contains("clustering.eps"));
+    }
+
+    #[test]
+    fn derived_columns_default_to_none_and_are_checked() {
+        let text = r#"{"version":1,"columns":["a"],"scaling":"none","lens":{"kind":"principal","component":1},
+            "cover":{"intervals":3,"overlap":0.2},"clustering":{"kind":"singleLinkage","gapBins":8}}"#;
+        assert!(Settings::from_json(text).unwrap().derived.is_empty());
+        let mut s = sample();
+        s.derived[0].expression = "a / (b".into();
+        let e = s.validate().unwrap_err().to_string();
+        assert!(e.contains("derived[0].expression") && e.contains("a / (b\n      ^"), "{e}");
+        let mut s = sample();
+        s.derived.push(s.derived[0].clone());
+        assert!(s.validate().unwrap_err().to_string().contains("derived[1].name"));
+        let mut v: serde_json::Value = serde_json::from_str(&sample().to_json()).unwrap();
+        v["derived"][0]["formula"] = serde_json::json!("a");
+        assert!(Settings::from_value(v).unwrap_err().to_string().contains("formula"));
     }
 }

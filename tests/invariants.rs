@@ -36,6 +36,7 @@ fn settings(d: usize, lens: Lens, clustering: Clustering) -> Settings {
         clustering,
         edges: EdgeRule { min_shared: 1 },
         seed: 1,
+        derived: Vec::new(),
     }
 }
 

@@ -76,6 +76,7 @@ fn settings(columns: &[String], lens: Lens, intervals: usize, overlap: f64, clus
         clustering,
         edges: EdgeRule { min_shared: 1 },
         seed: 1,
+        derived: Vec::new(),
     };
     s.validate().expect("test settings are valid");
     s

@@ -95,6 +95,7 @@ fn run(name: &str, pts: &Cloud, lens: Lens, intervals: usize, overlap: f64, eps:
         clustering: Clustering::Dbscan { eps, min_points },
         edges: EdgeRule { min_shared: 1 },
         seed: 1,
+        derived: Vec::new(),
     };
     nervure::build(&table, &s).unwrap_or_else(|e| panic!("{name}: {e}"))
 }
@@ -263,6 +264,7 @@ fn demo_temperature_and_oxygen_make_one_loop() {
         clustering: Clustering::Dbscan { eps: 0.2, min_points: 8 },
         edges: EdgeRule { min_shared: 1 },
         seed: 1,
+        derived: Vec::new(),
     };
     let b = nervure::build(&table, &s).unwrap();
     expect("demo temperature-oxygen", &b, 1, 1);

@@ -21,6 +21,7 @@ import io
 import json
 import os
 import sys
+from datetime import datetime, timedelta, timezone
 
 import networkx
 import numpy as np
@@ -29,7 +30,8 @@ import scipy
 import sklearn
 from scipy.cluster.hierarchy import linkage
 from scipy.spatial.distance import cdist
-from scipy.stats import gaussian_kde
+from scipy.special import smirnov
+from scipy.stats import gaussian_kde, ks_2samp, kstwo
 from sklearn.cluster import DBSCAN
 from sklearn.datasets import load_iris, load_wine, make_blobs
 from sklearn.decomposition import PCA
@@ -264,6 +266,146 @@ def penguins_fixture():
     })
 
 
+def times_fixture():
+    """Date-time text and what Python's datetime makes of it."""
+    rng = np.random.default_rng(31)
+    offsets = [0, 3600, -18000, 19800, -34200, 45900, 7200]
+    cases = []
+
+    def expect(text, dt):
+        aware = dt if dt.tzinfo is not None else dt.replace(tzinfo=timezone.utc)
+        cases.append({
+            "text": text,
+            "seconds": aware.timestamp(),
+            "hour": dt.hour + dt.minute / 60 + (dt.second + dt.microsecond / 1e6) / 3600,
+            "doy": dt.timetuple().tm_yday,
+        })
+
+    fixed = ["2024-07-15T00:00", "2024-07-15", "2000-02-29T23:59:59", "1900-03-01 12:00",
+             "1969-12-31T23:59:59.5", "2024-12-31T23:59:59.999999", "1970-01-01T00:00Z",
+             "2024-07-15T10:00+02:00", "2024-07-15T10:00:00-0530", "2024-07-15 10:00:00.25+02",
+             "0001-01-01T00:00", "9999-12-31T23:59:59"]
+    for t in fixed:
+        expect(t, datetime.fromisoformat(t))
+    for k in range(120):
+        secs = int(rng.integers(-2_000_000_000, 4_000_000_000))
+        off = offsets[k % len(offsets)]
+        micro = int(rng.integers(0, 1_000_000)) if k % 3 == 0 else 0
+        tz = timezone(timedelta(seconds=off))
+        dt = datetime.fromtimestamp(secs, tz) + timedelta(microseconds=micro)
+        form = k % 6
+        if form == 0:
+            text = dt.strftime("%Y-%m-%dT%H:%M:%S.%f") + dt.strftime("%z")[:3] + ":" + dt.strftime("%z")[3:]
+            expect(text, datetime.fromisoformat(text))
+        elif form == 1:
+            text = dt.strftime("%Y-%m-%d %H:%M")
+            expect(text, datetime.fromisoformat(text))
+        elif form == 2:
+            text = dt.strftime("%Y-%m-%dT%H:%M:%S") + ("Z" if off == 0 else dt.strftime("%z"))
+            expect(text, datetime.fromisoformat(text))
+        elif form == 3:
+            text = dt.strftime("%Y/%m/%d %H:%M")
+            expect(text, datetime.strptime(text, "%Y/%m/%d %H:%M"))
+        elif form == 4:
+            text = dt.strftime("%d.%m.%Y %H:%M:%S")
+            expect(text, datetime.strptime(text, "%d.%m.%Y %H:%M:%S"))
+        else:
+            text = dt.strftime("%d.%m.%Y")
+            expect(text, datetime.strptime(text, "%d.%m.%Y"))
+    columns = []
+    for values, fmt in ((["01/02/2024 08:00", "13/02/2024 09:30", "28/12/1999 23:59"], "%d/%m/%Y %H:%M"),
+                        (["01/02/2024", "02/13/2024", "12/31/1999"], "%m/%d/%Y"),
+                        (["01/02/2024", "03/04/2024"], None),
+                        (["13/02/2024", "02/13/2024"], None)):
+        parsed = None
+        if fmt is not None:
+            parsed = [datetime.strptime(v, fmt).replace(tzinfo=timezone.utc).timestamp() for v in values]
+        columns.append({"values": values, "format": fmt, "seconds": parsed})
+    refused = ["2023-02-29", "2024-04-31", "2024-13-01", "2024-00-10", "2024-01-01T24:00",
+               "2024-01-01T10:60", "2024-01-01T10:00:60", "1900-02-29", "0000-01-01", "2024-1-01"]
+    for t in refused:
+        try:
+            datetime.fromisoformat(t)
+        except ValueError:
+            continue
+        raise SystemExit(f"Python accepts {t!r}; it cannot stand as a refused example")
+    write("times.json", {
+        "source": ("Python " + sys.version.split()[0] + " datetime: ISO forms parsed with "
+                   "datetime.fromisoformat, others with datetime.strptime (formats as in 'format'); "
+                   "a value without offset is taken as UTC; seconds = aware.timestamp(), "
+                   "hour = dt.hour + dt.minute/60 + (dt.second + dt.microsecond/1e6)/3600 (clock as "
+                   "written), doy = dt.timetuple().tm_yday; random instants from "
+                   "numpy.random.default_rng(31); 'refused' are values fromisoformat raises ValueError on"),
+        "cases": cases,
+        "columns": columns,
+        "refused": refused,
+    })
+
+
+def ks_fixture():
+    """Two-sample KS (scipy.stats.ks_2samp, method='auto') and Cohen's d (NumPy)."""
+    rng = np.random.default_rng(41)
+
+    def r3(x):
+        return np.round(x, 3)
+
+    pairs = [
+        ("normal 8 vs 8, shift 1", r3(rng.normal(0, 1, 8)), r3(rng.normal(1, 1, 8))),
+        ("normal 7 vs 13, shift 0.5", r3(rng.normal(0, 1, 7)), r3(rng.normal(0.5, 1, 13))),
+        ("integers 0-9, 50 vs 30 (ties)", rng.integers(0, 10, 50).astype(float), rng.integers(2, 12, 30).astype(float)),
+        ("normal 200 vs 150, shift 0.2", r3(rng.normal(0, 1, 200)), r3(rng.normal(0.2, 1, 150))),
+        ("same distribution 1000 vs 1000", r3(rng.normal(0, 1, 1000)), r3(rng.normal(0, 1, 1000))),
+        ("exponential 3000 vs 20", r3(rng.exponential(1, 3000)), r3(rng.exponential(1.6, 20))),
+        ("levels 0-2, 40 vs 60 (heavy ties)", rng.integers(0, 3, 40).astype(float), rng.integers(0, 3, 60).astype(float)),
+        ("identical samples", np.array([1.0, 2.0, 2.0, 3.0, 5.0]), np.array([5.0, 3.0, 2.0, 2.0, 1.0])),
+        ("fully separated 10 vs 12", r3(rng.uniform(0, 1, 10)), r3(rng.uniform(2, 3, 12))),
+        ("normal 10001 vs 40, shift 0.6 (asymptotic, N <= 140)", r3(rng.normal(0, 1, 10001)), r3(rng.normal(0.6, 1, 40))),
+        ("normal 12000 vs 500, shift 0.15 (asymptotic)", r3(rng.normal(0, 1, 12000)), r3(rng.normal(0.15, 1, 500))),
+        ("same distribution 10100 vs 3000 (asymptotic, small D)", r3(rng.normal(0, 1, 10100)), r3(rng.normal(0, 1, 3000))),
+        ("integers 0-5, 10500 vs 10500 (asymptotic, ties)", rng.integers(0, 6, 10500).astype(float), rng.integers(0, 6, 10500).astype(float)),
+        ("normal 9000 vs 7000, shift 0.05", r3(rng.normal(0, 1, 9000)), r3(rng.normal(0.05, 1, 7000))),
+    ]
+    cases = []
+    for label, a, b in pairs:
+        r = ks_2samp(a, b, method="auto")
+        na, nb = len(a), len(b)
+        sp = np.sqrt(((na - 1) * a.var(ddof=1) + (nb - 1) * b.var(ddof=1)) / (na + nb - 2))
+        cases.append({
+            "label": label,
+            "a": floats(a),
+            "b": floats(b),
+            "statistic": float(r.statistic),
+            "pvalue": float(r.pvalue),
+            "exact": bool(max(na, nb) <= 10000),
+            "smd": float((a.mean() - b.mean()) / sp) if sp > 0 else None,
+        })
+    grid = []
+    for n in (5, 30, 100, 140, 141, 500, 5000, 50000, 200000):
+        for nx2 in (0.3, 0.7, 1.0, 2.0, 3.0, 5.0, 20.0, 100.0, 400.0):
+            x = float(np.sqrt(nx2 / n))
+            if x < 1:
+                grid.append({"n": n, "x": x, "sf": float(kstwo.sf(x, n))})
+        for x in (0.6 / n, 0.9 / n, 0.55, 1 - 0.5 / n):
+            grid.append({"n": n, "x": float(x), "sf": float(kstwo.sf(x, n))})
+    one_sided = []
+    for n in (1, 2, 10, 141, 1000, 20000, 200000):
+        for nx2 in (0.5, 2.2, 10.0, 50.0, 300.0):
+            x = float(np.sqrt(nx2 / n))
+            if x < 1:
+                one_sided.append({"n": n, "x": x, "sf": float(smirnov(n, x))})
+    write("ks.json", {
+        "source": (f"{lib('scipy')}: scipy.stats.ks_2samp(a, b, alternative='two-sided', method='auto') "
+                   "statistic and pvalue (exact when max(len(a), len(b)) <= 10000); "
+                   "kstwo_sf = scipy.stats.kstwo.sf(x, n); smirnov = scipy.special.smirnov(n, x); "
+                   f"smd with {lib('numpy')}: (a.mean() - b.mean()) / sqrt(((na-1) a.var(ddof=1) + "
+                   "(nb-1) b.var(ddof=1)) / (na+nb-2)) (Cohen's d, pooled sd); samples from "
+                   "numpy.random.default_rng(41), rounded to 3 decimals"),
+        "cases": cases,
+        "kstwo_sf": grid,
+        "smirnov": one_sided,
+    })
+
+
 def main():
     os.makedirs(OUT, exist_ok=True)
     x, target, names, columns = iris()
@@ -278,6 +420,8 @@ def main():
     eccentricity_fixture(iris_z)
     iris_species_fixture(x, target, names, columns)
     penguins_fixture()
+    times_fixture()
+    ks_fixture()
 
 
 if __name__ == "__main__":

@@ -1,1 +1,372 @@
-//! placeholder
+//! The pipeline, stage by stage, with each stage's result cached under the part of the
+//! settings it reads, so a change downstream never recomputes upstream: changing the
+//! overlap re-uses the lens; re-colouring re-uses the graph.
+//!
+//! [`build`] runs the whole pipeline once (the command-line runner, the tests);
+//! [`Workbench`] keeps a table and the cached stages for the page.
+
+use serde::Serialize;
+
+use crate::cluster;
+use crate::cover::{self, Cover};
+use crate::error::{Error, Result};
+use crate::filter;
+use crate::graph::{Nerve, Node};
+use crate::layout;
+use crate::points::{self, Points, PointsKey};
+use crate::settings::{Clustering, CoverSettings, EdgeRule, Lens, Settings};
+use crate::table::{ColumnData, Table, MISSING_CODE};
+
+/// What one run produced, with the settings that produced it.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Build {
+    pub settings: Settings,
+    pub summary: Summary,
+    pub nerve: Nerve,
+    /// One position per node, in [-1, 1].
+    pub layout: Vec<[f64; 2]>,
+    /// Mean lens value of each node's rows.
+    pub node_lens: Vec<f64>,
+    /// The lens's range over the rows used.
+    pub lens_range: (f64, f64),
+    pub intervals: Vec<(f64, f64)>,
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize)]
+#[serde(rename_all = "camelCase")]
+pub struct Summary {
+    /// Rows that took part (had a value in every chosen column).
+    pub rows: usize,
+    pub rows_left_out: usize,
+    pub nodes: usize,
+    pub edges: usize,
+    pub components: usize,
+    pub loops: usize,
+    /// Rows that took part but fell in no node (DBSCAN noise in every element they are in).
+    pub noise_rows: usize,
+    /// Cover elements that held at least one row.
+    pub elements: usize,
+    pub left_out_by_column: Vec<(String, usize)>,
+}
+
+/// Statistic of a column over a node's rows.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, serde::Deserialize)]
+#[serde(rename_all = "camelCase")]
+pub enum NodeStat {
+    Mean,
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize)]
+#[serde(rename_all = "camelCase")]
+pub struct NodeColumn {
+    pub name: String,
+    pub kind: &'static str,
+    pub mean: Option<f64>,
+    pub min: Option<f64>,
+    pub max: Option<f64>,
+    pub missing: usize,
+    /// For a category column: the most common value and its share of the node's rows.
+    pub top: Option<String>,
+    pub top_share: Option<f64>,
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize)]
+#[serde(rename_all = "camelCase")]
+pub struct NodeDetail {
+    pub node: usize,
+    pub size: usize,
+    pub element: usize,
+    pub interval: (f64, f64),
+    pub degree: usize,
+    pub columns: Vec<NodeColumn>,
+    /// The first member rows, as 1-based data rows of the file.
+    pub rows: Vec<usize>,
+}
+
+/// Clusters of every cover element, as nodes, and the rows that fell in none.
+#[derive(Debug, Clone, PartialEq)]
+struct Clustered {
+    nodes: Vec<Node>,
+    noise_rows: usize,
+}
+
+type LensKey = (PointsKey, Lens, u64);
+type CoverKey = (LensKey, CoverSettings);
+type ClusterKey = (CoverKey, Clustering);
+type GraphKey = (ClusterKey, EdgeRule);
+
+fn lens_key(s: &Settings) -> LensKey {
+    (PointsKey::of(s), s.lens.clone(), s.seed)
+}
+fn cover_key(s: &Settings) -> CoverKey {
+    (lens_key(s), s.cover.clone())
+}
+fn cluster_key(s: &Settings) -> ClusterKey {
+    (cover_key(s), s.clustering.clone())
+}
+fn graph_key(s: &Settings) -> GraphKey {
+    (cluster_key(s), s.edges.clone())
+}
+
+/// A table and the cached stages of the last run on it.
+#[derive(Default)]
+pub struct Workbench {
+    table: Option<Table>,
+    points: Option<(PointsKey, Points)>,
+    lens: Option<(LensKey, Vec<f64>)>,
+    cover: Option<(CoverKey, Cover)>,
+    clustered: Option<(ClusterKey, Clustered)>,
+    last: Option<Build>,
+}
+
+impl Workbench {
+    pub fn new() -> Self {
+        Self::default()
+    }
+
+    /// Takes a new table and drops every cached stage.
+    pub fn set_table(&mut self, table: Table) {
+        *self = Workbench { table: Some(table), ..Default::default() };
+    }
+
+    pub fn table(&self) -> Option<&Table> {
+        self.table.as_ref()
+    }
+
+    pub fn last(&self) -> Option<&Build> {
+        self.last.as_ref()
+    }
+
+    fn need_table(&self) -> Result<&Table> {
+        self.table.as_ref().ok_or_else(|| Error::Input("no table is loaded yet: open a CSV file first".into()))
+    }
+
+    pub fn auto_settings(&self) -> Result<Settings> {
+        crate::auto::auto_settings(self.need_table()?)
+    }
+
+    /// Runs the pipeline, re-using every stage whose part of the settings is unchanged.
+    /// On error the previous build stays in place.
+    pub fn run(&mut self, s: &Settings, progress: &mut dyn FnMut(&str, f64)) -> Result<Summary> {
+        s.validate()?;
+        let table = self.table.as_ref().ok_or_else(|| Error::Input("no table is loaded yet: open a CSV file first".into()))?;
+        if let Some(b) = &self.last {
+            if graph_key(&b.settings) == graph_key(s) {
+                let b = self.last.as_mut().expect("checked");
+                b.settings = s.clone();
+                return Ok(b.summary.clone());
+            }
+        }
+        let pk = PointsKey::of(s);
+        if self.points.as_ref().map(|(k, _)| k) != Some(&pk) {
+            progress("points", 0.0);
+            self.points = Some((pk, points::build_points(table, s)?));
+            self.lens = None;
+        }
+        let pts = &self.points.as_ref().expect("just set").1;
+        let lk = lens_key(s);
+        if self.lens.as_ref().map(|(k, _)| k) != Some(&lk) {
+            progress("lens", 0.0);
+            self.lens = Some((lk, lens_values(table, pts, s)?));
+            self.cover = None;
+        }
+        let lens = &self.lens.as_ref().expect("just set").1;
+        let ck = cover_key(s);
+        if self.cover.as_ref().map(|(k, _)| k) != Some(&ck) {
+            progress("cover", 0.0);
+            self.cover = Some((ck, cover::uniform(lens, s.cover.intervals, s.cover.overlap)));
+            self.clustered = None;
+        }
+        let cov = &self.cover.as_ref().expect("just set").1;
+        let kk = cluster_key(s);
+        if self.clustered.as_ref().map(|(k, _)| k) != Some(&kk) {
+            self.clustered = Some((kk, cluster_elements(pts, cov, &s.clustering, progress)));
+        }
+        let clustered = &self.clustered.as_ref().expect("just set").1;
+        let b = assemble(table, pts, lens, cov, clustered, s, progress);
+        let summary = b.summary.clone();
+        self.last = Some(b);
+        Ok(summary)
+    }
+
+    /// One value per node of the last build: for a numeric column the statistic over the
+    /// node's rows that have a value (NaN if none has); for a category column the share
+    /// of the node's most common value.
+    pub fn node_values(&self, column: &str, stat: NodeStat) -> Result<Vec<f64>> {
+        let (table, b) = self.table_and_build()?;
+        let fills = &b.settings.missing.fill_values;
+        let col = table.column(column).ok_or_else(|| Error::settings("colour", format!("no column named '{column}'")))?;
+        Ok(b.nerve
+            .nodes
+            .iter()
+            .map(|n| match (&col.data, stat) {
+                (ColumnData::Number(v), NodeStat::Mean) => {
+                    let (s, k) = n.members.iter().map(|&r| v[r as usize]).filter(|x| !points::is_missing(*x, fills)).fold((0.0, 0usize), |(s, k), x| (s + x, k + 1));
+                    if k == 0 { f64::NAN } else { s / k as f64 }
+                }
+                (ColumnData::Category { codes, levels }, _) => dominant(codes, levels.len(), &n.members).map_or(f64::NAN, |(_, share)| share),
+            })
+            .collect())
+    }
+
+    /// For a category column: the code of each node's most common value (`MISSING_CODE` if none).
+    pub fn node_categories(&self, column: &str) -> Result<Vec<u32>> {
+        let (table, b) = self.table_and_build()?;
+        match table.column(column).map(|c| &c.data) {
+            Some(ColumnData::Category { codes, levels }) => {
+                Ok(b.nerve.nodes.iter().map(|n| dominant(codes, levels.len(), &n.members).map_or(MISSING_CODE, |(c, _)| c)).collect())
+            }
+            _ => Err(Error::settings("colour", format!("'{column}' is not a category column"))),
+        }
+    }
+
+    pub fn node_detail(&self, node: usize) -> Result<NodeDetail> {
+        let (table, b) = self.table_and_build()?;
+        let n = b.nerve.nodes.get(node).ok_or_else(|| Error::Data(format!("there is no node {node}; the graph has {}", b.nerve.nodes.len())))?;
+        let fills = &b.settings.missing.fill_values;
+        let columns = table
+            .columns
+            .iter()
+            .map(|c| match &c.data {
+                ColumnData::Number(v) => {
+                    let vals: Vec<f64> = n.members.iter().map(|&r| v[r as usize]).filter(|x| !points::is_missing(*x, fills)).collect();
+                    let k = vals.len();
+                    NodeColumn {
+                        name: c.name.clone(),
+                        kind: "number",
+                        mean: (k > 0).then(|| vals.iter().sum::<f64>() / k as f64),
+                        min: vals.iter().cloned().reduce(f64::min),
+                        max: vals.iter().cloned().reduce(f64::max),
+                        missing: n.members.len() - k,
+                        top: None,
+                        top_share: None,
+                    }
+                }
+                ColumnData::Category { codes, levels } => {
+                    let top = dominant(codes, levels.len(), &n.members);
+                    NodeColumn {
+                        name: c.name.clone(),
+                        kind: "category",
+                        mean: None,
+                        min: None,
+                        max: None,
+                        missing: n.members.iter().filter(|&&r| codes[r as usize] == MISSING_CODE).count(),
+                        top: top.map(|(c, _)| levels[c as usize].clone()),
+                        top_share: top.map(|(_, s)| s),
+                    }
+                }
+            })
+            .collect();
+        Ok(NodeDetail {
+            node,
+            size: n.members.len(),
+            element: n.element,
+            interval: b.intervals.get(n.element).copied().unwrap_or((f64::NAN, f64::NAN)),
+            degree: b.nerve.degrees()[node],
+            columns,
+            rows: n.members.iter().take(200).map(|&r| r as usize + 1).collect(),
+        })
+    }
+
+    fn table_and_build(&self) -> Result<(&Table, &Build)> {
+        let t = self.need_table()?;
+        let b = self.last.as_ref().ok_or_else(|| Error::Data("no graph has been built yet".into()))?;
+        Ok((t, b))
+    }
+}
+
+/// Runs the whole pipeline once, with no cache.
+pub fn build(table: &Table, s: &Settings) -> Result<Build> {
+    s.validate()?;
+    let mut quiet = |_: &str, _: f64| {};
+    let pts = points::build_points(table, s)?;
+    let lens = lens_values(table, &pts, s)?;
+    let cov = cover::uniform(&lens, s.cover.intervals, s.cover.overlap);
+    let clustered = cluster_elements(&pts, &cov, &s.clustering, &mut quiet);
+    Ok(assemble(table, &pts, &lens, &cov, &clustered, s, &mut quiet))
+}
+
+fn lens_values(table: &Table, pts: &Points, s: &Settings) -> Result<Vec<f64>> {
+    let v = filter::compute_lens(table, pts, s)?;
+    if let Some(i) = v.iter().position(|x| !x.is_finite()) {
+        return Err(Error::Data(format!(
+            "the filter gave no finite value on data row {}; choose another filter or check that column",
+            pts.rows[i] + 1
+        )));
+    }
+    Ok(v)
+}
+
+fn cluster_elements(pts: &Points, cov: &Cover, method: &Clustering, progress: &mut dyn FnMut(&str, f64)) -> Clustered {
+    let d = pts.data.ncols();
+    let flat = pts.data.as_slice().expect("points are row-major and contiguous");
+    let mut in_node = vec![false; pts.rows.len()];
+    let mut nodes = Vec::new();
+    let mut buf = Vec::new();
+    let total: usize = cov.elements.iter().map(|e| e.len()).sum::<usize>().max(1);
+    let mut done = 0;
+    for (e, members) in cov.elements.iter().enumerate() {
+        progress("clusters", done as f64 / total as f64);
+        done += members.len();
+        if members.is_empty() {
+            continue;
+        }
+        buf.clear();
+        for &p in members {
+            buf.extend_from_slice(&flat[p as usize * d..(p as usize + 1) * d]);
+        }
+        let labels = cluster::cluster(&buf, d, method);
+        let k = labels.iter().flatten().map(|&c| c as usize + 1).max().unwrap_or(0);
+        let mut groups: Vec<Vec<u32>> = vec![Vec::new(); k];
+        for (&p, l) in members.iter().zip(&labels) {
+            if let Some(c) = l {
+                groups[*c as usize].push(pts.rows[p as usize]);
+                in_node[p as usize] = true;
+            }
+        }
+        nodes.extend(groups.into_iter().filter(|g| !g.is_empty()).map(|members| Node { element: e, members }));
+    }
+    progress("clusters", 1.0);
+    Clustered { nodes, noise_rows: in_node.iter().filter(|&&b| !b).count() }
+}
+
+fn assemble(table: &Table, pts: &Points, lens: &[f64], cov: &Cover, c: &Clustered, s: &Settings, progress: &mut dyn FnMut(&str, f64)) -> Build {
+    progress("graph", 0.0);
+    let nerve = Nerve::new(c.nodes.clone(), table.n_rows, s.edges.min_shared);
+    let (components, loops) = nerve.counts();
+    // Mean lens value of each node: rows map back to points by binary search (rows increase).
+    let node_lens: Vec<f64> = nerve
+        .nodes
+        .iter()
+        .map(|n| n.members.iter().map(|r| lens[pts.rows.binary_search(r).expect("member rows are points")]).sum::<f64>() / n.members.len() as f64)
+        .collect();
+    progress("layout", 0.0);
+    let layout = layout::layout(&nerve, &node_lens, s.seed);
+    let summary = Summary {
+        rows: pts.rows.len(),
+        rows_left_out: pts.left_out,
+        nodes: nerve.nodes.len(),
+        edges: nerve.edges.len(),
+        components,
+        loops,
+        noise_rows: c.noise_rows,
+        elements: cov.elements.iter().filter(|e| !e.is_empty()).count(),
+        left_out_by_column: pts.left_out_by_column.clone(),
+    };
+    Build { settings: s.clone(), summary, nerve, layout, node_lens, lens_range: (cov.lo, cov.hi), intervals: cov.intervals.clone() }
+}
+
+/// The most common code among `rows` and its share, ignoring missing values.
+fn dominant(codes: &[u32], n_levels: usize, rows: &[u32]) -> Option<(u32, f64)> {
+    let mut counts = vec![0usize; n_levels];
+    let mut total = 0;
+    for &r in rows {
+        let c = codes[r as usize];
+        if c != MISSING_CODE {
+            counts[c as usize] += 1;
+            total += 1;
+        }
+    }
+    let (best, &k) = counts.iter().enumerate().max_by_key(|&(i, k)| (*k, std::cmp::Reverse(i)))?;
+    (total > 0).then(|| (best as u32, k as f64 / total as f64))
+}

@@ -23,6 +23,7 @@ pub mod graph;
 pub mod layout;
 pub mod auto;
 pub mod engine;
+pub mod export;
 pub mod rng;
 
 #[cfg(target_arch = "wasm32")]
@@ -31,4 +32,4 @@ pub mod web;
 pub use error::{Error, Result};
 pub use settings::Settings;
 pub use table::{Table, TableReader, ReadOptions};
-// pub use engine::{build, Build, Summary, Workbench};
+pub use engine::{build, Build, Summary, Workbench, NodeStat};

@@ -1,1 +1,208 @@
-//! placeholder
+//! From a table to points: the chosen columns, with rows that miss a value left out
+//! (and counted), scaled, as one contiguous row-major n × d matrix for distance work.
+//!
+//! This module decides which rows take part; every later stage works on point indices
+//! and maps back to table rows through [`Points::rows`].
+
+use ndarray::Array2;
+
+use crate::error::{Error, Result};
+use crate::settings::{Lens, Scaling, Settings};
+use crate::table::Table;
+
+#[derive(Debug, Clone, PartialEq)]
+pub struct Points {
+    /// n × d, row-major, scaled.
+    pub data: Array2<f64>,
+    /// Table row index of each point, increasing.
+    pub rows: Vec<u32>,
+    pub columns: Vec<String>,
+    /// Rows left out because a chosen column (or the lens column) had no value.
+    pub left_out: usize,
+    /// For each column that cost rows, how many rows had no value there.
+    pub left_out_by_column: Vec<(String, usize)>,
+}
+
+/// The part of the settings this stage reads; equal keys give equal points.
+#[derive(Debug, Clone, PartialEq)]
+pub struct PointsKey {
+    columns: Vec<String>,
+    scaling: Scaling,
+    fill_values: Vec<f64>,
+    lens_column: Option<String>,
+}
+
+impl PointsKey {
+    pub fn of(s: &Settings) -> Self {
+        PointsKey {
+            columns: s.columns.clone(),
+            scaling: s.scaling,
+            fill_values: s.missing.fill_values.clone(),
+            lens_column: match &s.lens {
+                Lens::Column { column } => Some(column.clone()),
+                _ => None,
+            },
+        }
+    }
+}
+
+/// A value counts as missing when it is NaN, infinite or one of the declared fill values.
+pub fn is_missing(x: f64, fill_values: &[f64]) -> bool {
+    !x.is_finite() || fill_values.contains(&x)
+}
+
+pub fn build_points(table: &Table, s: &Settings) -> Result<Points> {
+    let key = PointsKey::of(s);
+    let mut seen = std::collections::HashSet::new();
+    for c in &key.columns {
+        if !seen.insert(c.as_str()) {
+            return Err(Error::settings("columns", format!("column '{c}' is listed twice")));
+        }
+    }
+    let cols: Vec<&[f64]> = key.columns.iter().map(|c| table.numbers(c, "columns")).collect::<Result<_>>()?;
+    let lens_col = match &key.lens_column {
+        Some(c) => Some(table.numbers(c, "lens.column")?),
+        None => None,
+    };
+    let fills = &key.fill_values;
+    let n = table.n_rows;
+    let d = cols.len();
+
+    let mut keep = vec![true; n];
+    let mut by_column = Vec::new();
+    for (name, col) in key.columns.iter().zip(&cols).chain(key.lens_column.iter().zip(lens_col.iter())) {
+        let mut count = 0;
+        for (k, &x) in keep.iter_mut().zip(col.iter()) {
+            if is_missing(x, fills) {
+                *k = false;
+                count += 1;
+            }
+        }
+        if count > 0 && !by_column.iter().any(|(c, _): &(String, usize)| c == name) {
+            by_column.push((name.clone(), count));
+        }
+    }
+    let rows: Vec<u32> = (0..n as u32).filter(|&i| keep[i as usize]).collect();
+    if rows.is_empty() {
+        let worst = by_column.iter().max_by_key(|(_, c)| *c).map(|(c, k)| format!(" ('{c}' is missing in {k} rows)")).unwrap_or_default();
+        return Err(Error::Data(format!(
+            "no row has a value in every chosen column{worst}; choose other columns or declare fewer fill values"
+        )));
+    }
+    let m = rows.len();
+    let mut data = Array2::<f64>::zeros((m, d));
+    for (j, col) in cols.iter().enumerate() {
+        let (shift, scale) = scaling_of(col, &rows, s.scaling).map_err(|why| {
+            Error::Data(format!("column '{}' {why}; leave it out or choose scaling 'none'", key.columns[j]))
+        })?;
+        for (i, &r) in rows.iter().enumerate() {
+            data[[i, j]] = (col[r as usize] - shift) / scale;
+        }
+    }
+    Ok(Points { data, rows, columns: key.columns, left_out: n - m, left_out_by_column: by_column })
+}
+
+/// (shift, scale) so that (x - shift) / scale is the scaled value.
+fn scaling_of(col: &[f64], rows: &[u32], scaling: Scaling) -> std::result::Result<(f64, f64), &'static str> {
+    let m = rows.len() as f64;
+    match scaling {
+        Scaling::None => Ok((0.0, 1.0)),
+        Scaling::Zscore => {
+            let mean = rows.iter().map(|&r| col[r as usize]).sum::<f64>() / m;
+            let var = rows.iter().map(|&r| (col[r as usize] - mean).powi(2)).sum::<f64>() / m;
+            let sd = var.sqrt();
+            if !(sd > 0.0) || !sd.is_finite() {
+                return Err("has the same value in every used row, so z-score cannot scale it");
+            }
+            Ok((mean, sd))
+        }
+        Scaling::MinMax => {
+            let (lo, hi) = rows.iter().fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), &r| {
+                let x = col[r as usize];
+                (lo.min(x), hi.max(x))
+            });
+            if !(hi > lo) || !(hi - lo).is_finite() {
+                return Err("has the same value in every used row, so min-max cannot scale it");
+            }
+            Ok((lo, hi - lo))
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::settings::*;
+    use crate::table::Column;
+
+    fn settings(cols: &[&str], scaling: Scaling) -> Settings {
+        Settings {
+            version: 1,
+            columns: cols.iter().map(|s| s.to_string()).collect(),
+            scaling,
+            missing: Missing { fill_values: vec![-9999.0] },
+            lens: Lens::Principal { component: 1 },
+            cover: CoverSettings { intervals: 4, overlap: 0.25 },
+            clustering: Clustering::Dbscan { eps: 1.0, min_points: 2 },
+            edges: EdgeRule::default(),
+            seed: 1,
+        }
+    }
+
+    fn table() -> Table {
+        Table::from_columns(
+            "t",
+            vec![
+                Column::number("a", vec![1.0, 2.0, f64::NAN, 4.0, 5.0]),
+                Column::number("b", vec![10.0, -9999.0, 30.0, 40.0, 50.0]),
+                Column::number("k", vec![7.0; 5]),
+                Column::category("s", vec![0, 1, 0, 1, 0], vec!["x".into(), "y".into()]),
+            ],
+        )
+        .unwrap()
+    }
+
+    #[test]
+    fn leaves_out_and_counts_rows_with_missing_or_fill_values() {
+        let p = build_points(&table(), &settings(&["a", "b"], Scaling::None)).unwrap();
+        assert_eq!(p.rows, vec![0, 3, 4]);
+        assert_eq!(p.left_out, 2);
+        assert_eq!(p.left_out_by_column, vec![("a".to_string(), 1), ("b".to_string(), 1)]);
+        assert_eq!(p.data.row(1).to_vec(), vec![4.0, 40.0]);
+    }
+
+    #[test]
+    fn zscore_uses_population_sd() {
+        // numpy: (x - x.mean()) / x.std() with ddof = 0 (NumPy's default; scikit-learn's StandardScaler).
+        let p = build_points(&table(), &settings(&["a"], Scaling::Zscore)).unwrap();
+        let x = [1.0, 2.0, 4.0, 5.0];
+        let mean = 3.0;
+        let sd = (x.iter().map(|v| (v - mean) * (v - mean)).sum::<f64>() / 4.0).sqrt();
+        for (i, v) in x.iter().enumerate() {
+            assert!((p.data[[i, 0]] - (v - mean) / sd).abs() < 1e-12);
+        }
+    }
+
+    #[test]
+    fn constant_column_is_refused_by_name() {
+        let e = build_points(&table(), &settings(&["a", "k"], Scaling::Zscore)).unwrap_err().to_string();
+        assert!(e.contains("'k'") && e.contains("same value"), "{e}");
+        assert!(build_points(&table(), &settings(&["a", "k"], Scaling::None)).is_ok());
+    }
+
+    #[test]
+    fn category_and_unknown_columns_are_refused_by_name() {
+        let e = build_points(&table(), &settings(&["s"], Scaling::None)).unwrap_err().to_string();
+        assert!(e.contains("'s'") && e.contains("categories"), "{e}");
+        let e = build_points(&table(), &settings(&["zz"], Scaling::None)).unwrap_err().to_string();
+        assert!(e.contains("'zz'"), "{e}");
+    }
+
+    #[test]
+    fn lens_column_missing_rows_are_left_out_too() {
+        let mut s = settings(&["b"], Scaling::None);
+        s.lens = Lens::Column { column: "a".into() };
+        let p = build_points(&table(), &s).unwrap();
+        assert_eq!(p.rows, vec![0, 3, 4]);
+    }
+}

@@ -1,1 +1,93 @@
-fn main() {}
+//! Command-line runner: the same settings document as the page, for files too big for a
+//! browser tab and for scripts.
+//!
+//! ```text
+//! nervure DATA.csv [--settings S.json] [--write-settings S.json] [--out GRAPH.json] [--summary]
+//! ```
+//! Without `--settings` the automatic first settings are used (and can be written out
+//! with `--write-settings`, to edit and pass back). `--summary` prints the summary JSON.
+
+use std::io::Read;
+use std::process::ExitCode;
+
+use nervure::table::{ReadOptions, TableReader};
+use nervure::{Settings, Workbench};
+
+const USAGE: &str = "usage: nervure DATA.csv [--settings S.json] [--write-settings S.json] [--out GRAPH.json] [--summary]";
+
+struct Args {
+    data: String,
+    settings: Option<String>,
+    write_settings: Option<String>,
+    out: Option<String>,
+    summary: bool,
+}
+
+fn parse_args() -> Result<Args, String> {
+    let mut it = std::env::args().skip(1);
+    let mut a = Args { data: String::new(), settings: None, write_settings: None, out: None, summary: false };
+    while let Some(arg) = it.next() {
+        let mut value = |name: &str| it.next().ok_or_else(|| format!("{name} needs a file name\n{USAGE}"));
+        match arg.as_str() {
+            "--settings" => a.settings = Some(value("--settings")?),
+            "--write-settings" => a.write_settings = Some(value("--write-settings")?),
+            "--out" => a.out = Some(value("--out")?),
+            "--summary" => a.summary = true,
+            "-h" | "--help" => return Err(USAGE.to_string()),
+            s if s.starts_with("--") => return Err(format!("unknown option {s}\n{USAGE}")),
+            s if a.data.is_empty() => a.data = s.to_string(),
+            s => return Err(format!("one data file at a time (got '{}' and '{s}')\n{USAGE}", a.data)),
+        }
+    }
+    if a.data.is_empty() {
+        return Err(USAGE.to_string());
+    }
+    Ok(a)
+}
+
+fn run() -> Result<(), String> {
+    let a = parse_args()?;
+    let name = std::path::Path::new(&a.data).file_name().map_or(a.data.clone(), |n| n.to_string_lossy().into_owned());
+    let mut file = std::fs::File::open(&a.data).map_err(|e| format!("cannot open {}: {e}", a.data))?;
+    let mut reader = TableReader::new(&name, ReadOptions::default());
+    let mut buf = vec![0u8; 1 << 20];
+    loop {
+        let k = file.read(&mut buf).map_err(|e| format!("cannot read {}: {e}", a.data))?;
+        if k == 0 {
+            break;
+        }
+        reader.push(&buf[..k]).map_err(|e| e.to_string())?;
+    }
+    let table = reader.finish().map_err(|e| e.to_string())?;
+    let mut bench = Workbench::new();
+    bench.set_table(table);
+    let settings = match &a.settings {
+        Some(p) => {
+            let text = std::fs::read_to_string(p).map_err(|e| format!("cannot read {p}: {e}"))?;
+            Settings::from_json(&text).map_err(|e| format!("{p}: {e}"))?
+        }
+        None => bench.auto_settings().map_err(|e| e.to_string())?,
+    };
+    if let Some(p) = &a.write_settings {
+        std::fs::write(p, settings.to_json()).map_err(|e| format!("cannot write {p}: {e}"))?;
+    }
+    let summary = bench.run(&settings, &mut |_, _| {}).map_err(|e| e.to_string())?;
+    if let Some(p) = &a.out {
+        let b = bench.last().expect("a run just succeeded");
+        std::fs::write(p, nervure::export::graph_json(b)).map_err(|e| format!("cannot write {p}: {e}"))?;
+    }
+    if a.summary || a.out.is_none() {
+        println!("{}", serde_json::to_string(&summary).expect("summary serialises"));
+    }
+    Ok(())
+}
+
+fn main() -> ExitCode {
+    match run() {
+        Ok(()) => ExitCode::SUCCESS,
+        Err(e) => {
+            eprintln!("nervure: {e}");
+            ExitCode::from(2)
+        }
+    }
+}

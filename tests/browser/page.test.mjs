@@ -1,0 +1,231 @@
+// Browser tests of the built page, dist/nervure.html, opened from file:// in headless
+// Chromium (Debian's /usr/bin/chromium) and driven as a person would.
+//
+//   cargo run --release --features page-builder --bin nervure-build   # builds the page
+//   npm ci && node --test tests/browser/
+//
+// Every test fails on any request that is not the page itself or a blob:/data: URL, and on
+// any console error or uncaught page error. Summaries are compared with the command-line
+// runner's for the same settings (set NERVURE_CLI to a built `nervure` binary to skip cargo).
+
+import { test, before, after, beforeEach, afterEach } from "node:test";
+import assert from "node:assert/strict";
+import { spawnSync } from "node:child_process";
+import { copyFileSync, existsSync, mkdirSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from "node:fs";
+import { tmpdir } from "node:os";
+import { dirname, join } from "node:path";
+import { fileURLToPath, pathToFileURL } from "node:url";
+import { chromium } from "playwright-core";
+
+const here = dirname(fileURLToPath(import.meta.url));
+const root = join(here, "..", "..");
+const pagePath = join(root, "dist", "nervure.html");
+const pageUrl = pathToFileURL(pagePath).href;
+const outDir = join(here, "out");
+const circleCsv = join(here, "fixtures", "circle.csv");
+mkdirSync(outDir, { recursive: true });
+
+const CHROMIUM = process.env.CHROMIUM || "/usr/bin/chromium";
+const FLAGS = ["--no-sandbox", "--disable-gpu", "--disable-background-networking", "--disable-component-update", "--disable-sync", "--no-first-run", "--disable-quic"];
+
+let context, userDataDir;
+let page, problems;
+
+before(async () => {
+  assert.ok(existsSync(pagePath), `${pagePath} is missing: build it with cargo run --release --features page-builder --bin nervure-build`);
+  userDataDir = mkdtempSync(join(tmpdir(), "nervure-chromium-"));
+  context = await chromium.launchPersistentContext(userDataDir, {
+    executablePath: CHROMIUM,
+    headless: true,
+    args: FLAGS,
+    viewport: { width: 1600, height: 900 },
+    deviceScaleFactor: 1,
+  });
+});
+
+after(async () => {
+  if (context) await context.close();
+  if (userDataDir) rmSync(userDataDir, { recursive: true, force: true });
+});
+
+/** Opens a fresh page that records every request, console error and page error. */
+beforeEach(async () => {
+  problems = [];
+  page = await context.newPage();
+  const allowed = (url) => url === pageUrl || url.startsWith("blob:") || url.startsWith("data:");
+  page.on("request", (r) => { if (!allowed(r.url())) problems.push("request to " + r.url()); });
+  page.on("console", (m) => { if (m.type() === "error") problems.push("console error: " + m.text()); });
+  page.on("pageerror", (e) => problems.push("page error: " + e.message));
+  page.on("worker", (w) => w.on("console", (m) => { if (m.type() === "error") problems.push("worker console error: " + m.text()); }));
+  await page.goto(pageUrl);
+});
+
+afterEach(async () => {
+  await page.close();
+  assert.deepEqual(problems, [], "the page made requests or reported errors");
+});
+
+/** The summary the command-line runner prints for a file and a settings document. */
+function cliSummary(csvPath, settings) {
+  const settingsPath = join(outDir, "cli-settings.json");
+  writeFileSync(settingsPath, JSON.stringify(settings, null, 2));
+  const args = [csvPath, "--settings", settingsPath, "--summary"];
+  const r = process.env.NERVURE_CLI
+    ? spawnSync(process.env.NERVURE_CLI, args, { encoding: "utf8" })
+    : spawnSync("cargo", ["run", "-q", "--release", "--bin", "nervure", "--", ...args], { cwd: root, encoding: "utf8", timeout: 20 * 60 * 1000 });
+  assert.equal(r.status, 0, "the command-line runner failed: " + r.stderr);
+  return JSON.parse(r.stdout);
+}
+
+/** The automatic settings the command-line runner chooses for a file. */
+function cliAutoSettings(csvPath) {
+  const path = join(outDir, "cli-auto-settings.json");
+  const args = [csvPath, "--write-settings", path, "--summary"];
+  const r = process.env.NERVURE_CLI
+    ? spawnSync(process.env.NERVURE_CLI, args, { encoding: "utf8" })
+    : spawnSync("cargo", ["run", "-q", "--release", "--bin", "nervure", "--", ...args], { cwd: root, encoding: "utf8", timeout: 20 * 60 * 1000 });
+  assert.equal(r.status, 0, "the command-line runner failed: " + r.stderr);
+  return JSON.parse(readFileSync(path, "utf8"));
+}
+
+async function waitForGraph() {
+  await page.waitForFunction(() => window.nervure.summary() !== null && window.nervure.timings().firstGraphMs !== null, null, { timeout: 60000 });
+}
+
+async function loadCircleThroughInput() {
+  await page.setInputFiles("#file-input", circleCsv);
+  await waitForGraph();
+}
+
+test("the demo button draws a graph with no request", async (t) => {
+  if (!(await page.isVisible("#demo-button"))) {
+    t.skip("the page was built without demo/river-sensors.csv");
+    return;
+  }
+  const t0 = Date.now();
+  await page.click("#demo-button");
+  await waitForGraph();
+  const wall = Date.now() - t0;
+  const summary = await page.evaluate(() => window.nervure.summary());
+  const timings = await page.evaluate(() => window.nervure.timings());
+  assert.ok(summary.nodes > 0, "the demo graph has no node");
+  assert.ok(summary.rows > 0);
+  // The summary line shows the engine's counts.
+  const line = await page.textContent("#summary-line");
+  assert.match(line.replace(/\u2009/g, ""), new RegExp("\\b" + summary.nodes + " node"));
+  assert.ok(await page.isVisible("#caution"), "the caution about settings is not shown");
+  console.log(`demo: first graph drawn ${timings.firstGraphMs.toFixed(0)} ms after the button (table read at ${timings.tableReadMs.toFixed(0)} ms; ${wall} ms as the test saw it); ${summary.rows} rows, ${summary.nodes} nodes, ${summary.edges} edges`);
+  await page.waitForTimeout(200);
+  await page.screenshot({ path: join(outDir, "page.png") });
+  mkdirSync(join(root, "docs"), { recursive: true });
+  copyFileSync(join(outDir, "page.png"), join(root, "docs", "screenshot.png"));
+});
+
+test("a file picked with the file input gives the command-line runner's graph", async () => {
+  await loadCircleThroughInput();
+  const timings = await page.evaluate(() => window.nervure.timings());
+  console.log(`circle.csv: first graph drawn ${timings.firstGraphMs.toFixed(0)} ms after the file was given`);
+
+  // The automatic first settings are the runner's automatic settings for the same file.
+  const autoSettings = await page.evaluate(() => window.nervure.settings());
+  assert.deepEqual(autoSettings, cliAutoSettings(circleCsv));
+  // ... and the automatic graph has the runner's summary for them.
+  const autoSummary = await page.evaluate(() => window.nervure.summary());
+  assert.deepEqual(autoSummary, cliSummary(circleCsv, autoSettings));
+
+  // Settings chosen by hand: a noisy circle is one component with one loop by construction.
+  const chosen = {
+    version: 1, columns: ["x", "y"], scaling: "zscore", missing: { fillValues: [] },
+    lens: { kind: "principal", component: 1 }, cover: { intervals: 8, overlap: 0.3 },
+    clustering: { kind: "dbscan", eps: 0.3, minPoints: 5 }, edges: { minShared: 1 }, seed: 1,
+  };
+  await page.evaluate((s) => window.nervure.applySettings(s), chosen);
+  const summary = await page.evaluate(() => window.nervure.run());
+  assert.deepEqual(summary, cliSummary(circleCsv, chosen));
+  assert.equal(summary.rows, 600);
+  assert.equal(summary.components, 1, "a circle is one piece");
+  assert.equal(summary.loops, 1, "a circle has one loop");
+  // The form shows what was applied.
+  assert.equal(await page.inputValue("#s-intervals"), "8");
+  assert.equal(await page.inputValue("#s-eps"), "0.3");
+});
+
+test("the column table shows the file's columns and types", async () => {
+  await loadCircleThroughInput();
+  const rows = await page.$$eval("#columns-body tr", (trs) => trs.map((tr) => Array.from(tr.cells).slice(1).map((c) => c.textContent)));
+  assert.deepEqual(rows.map((r) => r[0]), ["x", "y", "angle_deg", "half"]);
+  assert.deepEqual(rows.map((r) => r[1].split(" ")[0]), ["number", "number", "number", "category"]);
+  assert.deepEqual(rows.map((r) => r[2]), ["0", "0", "0", "0"]);
+  // The category column cannot be a coordinate.
+  assert.equal(await page.isDisabled('#columns-body input[data-column="half"]'), true);
+});
+
+test("changing the colouring changes the legend and the drawing", async () => {
+  await loadCircleThroughInput();
+  const legendOf = () => page.evaluate(() => ["legend-title", "legend-min", "legend-max"].map((id) => document.getElementById(id).textContent));
+  const before = await legendOf();
+  const canvasBefore = await page.locator("#graph-canvas").screenshot();
+  const current = await page.inputValue("#colour-select");
+  const next = current === "angle_deg" ? "y" : "angle_deg";
+  await page.selectOption("#colour-select", next);
+  await page.waitForFunction((c) => document.getElementById("legend-title").textContent.includes(c), next);
+  const afterLegend = await legendOf();
+  assert.notDeepEqual(afterLegend, before);
+  assert.ok(afterLegend[0].includes(next));
+  // Angles run over [0, 360): node means of angle_deg stay inside that range.
+  if (next === "angle_deg") {
+    const lo = Number(afterLegend[1].replace("−", "-")), hi = Number(afterLegend[2].replace("−", "-"));
+    assert.ok(lo >= 0 && hi < 360 && lo < hi, `legend range ${lo}..${hi}`);
+  }
+  await page.waitForTimeout(100);
+  const canvasAfter = await page.locator("#graph-canvas").screenshot();
+  assert.ok(!canvasBefore.equals(canvasAfter), "the nodes were not recoloured");
+});
+
+test("clicking a node shows its size and rows", async () => {
+  await loadCircleThroughInput();
+  const layout = await page.evaluate(() => window.nervure.layout());
+  // A node whose centre no disc drawn above it covers.
+  const pos = (i) => ({ x: layout.positions[2 * i] * layout.scale + layout.offsetX, y: layout.positions[2 * i + 1] * layout.scale + layout.offsetY });
+  let target = null;
+  for (let k = layout.order.length - 1; k >= 0 && target === null; k--) {
+    const i = layout.order[k], p = pos(i);
+    const covered = layout.order.slice(k + 1).some((j) => Math.hypot(pos(j).x - p.x, pos(j).y - p.y) <= layout.radii[j] + 2);
+    if (!covered) target = i;
+  }
+  assert.notEqual(target, null);
+  const box = await page.locator("#graph-canvas").boundingBox();
+  const p = pos(target);
+  assert.ok(p.x > 0 && p.y > 0 && p.x < box.width && p.y < box.height, "the node lies inside the canvas");
+  await page.mouse.click(box.x + p.x, box.y + p.y);
+  await page.waitForSelector("#detail:not([hidden])");
+  assert.equal(await page.evaluate(() => window.nervure.selected()), target);
+  await page.waitForFunction(() => document.getElementById("detail-rows").textContent !== "…");
+  const sub = (await page.textContent("#detail-sub")).replace(/\u2009/g, "");
+  const size = layout.sizes[target];
+  assert.match(sub, new RegExp("^" + size + " rows?\\b"));
+  const listed = (await page.textContent("#detail-rows")).split(",").filter((s) => /^\s*\d+\s*$/.test(s)).length;
+  assert.equal(listed, Math.min(size, 200), "the detail lists the node's first rows (at most 200, as the engine documents)");
+  const statNames = await page.$$eval("#detail-stats th", (ths) => ths.map((th) => th.textContent));
+  assert.deepEqual(statNames, ["x", "y", "angle_deg", "half"]);
+});
+
+test("a bad setting is refused with the engine's message, shown on the page", async () => {
+  await loadCircleThroughInput();
+  const s = await page.evaluate(() => window.nervure.settings());
+  s.cover.overlap = 1.5;
+  const message = await page.evaluate((bad) => window.nervure.applySettings(bad).then(() => null, (e) => e.message), s);
+  assert.equal(message, "setting 'cover.overlap': 1.5 is outside [0, 1)");
+  assert.equal(await page.textContent("#message"), message);
+  assert.ok(await page.isVisible("#message"));
+});
+
+test("text from the file is shown as text, never as markup", async () => {
+  const name = '<img src=x id=injected>';
+  const info = await page.evaluate((n) => window.nervure.loadCsv(n + ",b\n1,2\n2,3\n3,5\n4,4\n5,1\n6,2\n7,3\n8,1\n", "<b>odd</b>.csv").catch((e) => ({ error: e.message })), name);
+  assert.equal(await page.$("#injected"), null, "a column name became an element");
+  const cell = await page.textContent("#columns-body tr td.name");
+  assert.equal(cell, name);
+  assert.ok((await page.textContent("#file-line")).includes("<b>odd</b>.csv"));
+  assert.ok(info.columns || info.error, "loadCsv resolved with the table or rejected with a message");
+});

@@ -15,6 +15,7 @@
 //!   of the full data (common practice for choosing eps from the k-distance curve,
 //!   Ester et al. 1996, §4.2).
 
+use crate::cluster::kdtree::KdTree;
 use crate::error::{Error, Result};
 use crate::points::{build_points, is_missing};
 use crate::rng::SplitMix64;
@@ -72,24 +73,15 @@ pub fn knn_distance_quantile(points: &[f64], dim: usize, k: usize, q: f64, sampl
     }
     let chosen = SplitMix64::new(seed).sample_indices(n, sample);
     let k = k.min(n);
-    let mut kth: Vec<f64> = Vec::with_capacity(chosen.len());
-    let mut best = Vec::with_capacity(k + 1);
-    for &i in &chosen {
-        let xi = &points[i * dim..(i + 1) * dim];
-        best.clear();
-        for j in 0..n {
-            let xj = &points[j * dim..(j + 1) * dim];
-            let d2: f64 = xi.iter().zip(xj).map(|(a, b)| (a - b) * (a - b)).sum();
-            if best.len() < k {
-                best.push(d2);
-                best.sort_by(|a: &f64, b| a.partial_cmp(b).unwrap());
-            } else if d2 < best[k - 1] {
-                best[k - 1] = d2;
-                best.sort_by(|a: &f64, b| a.partial_cmp(b).unwrap());
-            }
-        }
-        kth.push(best[k - 1].sqrt());
-    }
+    let tree = KdTree::new(points, dim);
+    let mut near = Vec::with_capacity(k);
+    let mut kth: Vec<f64> = chosen
+        .iter()
+        .map(|&i| {
+            tree.nearest(&points[i * dim..(i + 1) * dim], k, &mut near);
+            near.last().map_or(0.0, |nb| nb.dist)
+        })
+        .collect();
     kth.sort_by(|a, b| a.partial_cmp(b).unwrap());
     let pos = ((kth.len() - 1) as f64 * q).round() as usize;
     kth[pos]

@@ -1,0 +1,491 @@
+//! A k-d tree over a row-major slice of points, the one spatial index the clustering
+//! methods share: radius queries for DBSCAN, nearest-neighbour queries, and the
+//! "nearest point in another component" query that drives Borůvka's minimum spanning tree.
+//!
+//! Why our own tree: the number of columns is chosen by the user at run time, while the
+//! well-kept k-d tree crates fix the dimension as a const generic parameter at compile
+//! time. Compiling one instance per possible dimension is not an option for a page that
+//! takes any CSV, so this tree takes `dim` as a plain value.
+//!
+//! Layout (flat arrays, no per-node allocation): the rows are copied once into tree
+//! order, `index` maps a tree position back to the caller's row, and each node holds a
+//! contiguous range of positions plus its tight bounding box. Children of a node sit side
+//! by side in `nodes`, after their parent. Leaves hold at most [`LEAF_SIZE`] points. The
+//! build splits each node at the median of its widest coordinate (found with
+//! `select_nth_unstable`, linear time), so the depth is about log2(m / LEAF_SIZE) and the
+//! build is O(m log m) even when many points coincide.
+//!
+//! Distances are Euclidean; comparisons are made on squared distances, so "within r"
+//! means `sum (q_i - x_i)^2 <= r * r` as computed in floating point.
+//!
+//! Not here: other metrics, insertion or deletion after the build, approximate search.
+
+/// Largest number of points in a leaf.
+pub const LEAF_SIZE: usize = 16;
+
+/// Component label of a node whose points lie in more than one component.
+pub const MIXED: u32 = u32::MAX;
+
+#[derive(Debug, Clone, Copy)]
+struct Node {
+    start: u32,
+    end: u32,
+    /// 0 for a leaf (the root is never a child); otherwise the left child, the right
+    /// child being `children + 1`.
+    children: u32,
+}
+
+/// A k-d tree over `m` points of dimension `dim`, built once, queried many times.
+#[derive(Debug, Clone)]
+pub struct KdTree {
+    dim: usize,
+    /// The points in tree order, row-major.
+    data: Vec<f64>,
+    /// `index[pos]` is the caller's row number of the point at tree position `pos`.
+    index: Vec<u32>,
+    nodes: Vec<Node>,
+    /// Per node, `dim` lower bounds then `dim` upper bounds.
+    bounds: Vec<f64>,
+}
+
+/// One answer of a nearest-neighbour query.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Neighbour {
+    /// Row number in the slice the tree was built from.
+    pub index: usize,
+    /// Euclidean distance to the query.
+    pub dist: f64,
+}
+
+fn dist2(a: &[f64], b: &[f64]) -> f64 {
+    a.iter().zip(b).map(|(x, y)| (x - y) * (x - y)).sum()
+}
+
+impl KdTree {
+    /// Builds the tree over `points` (row-major, `dim` values a row).
+    ///
+    /// Panics if `dim` is 0, if `points.len()` is not a multiple of `dim`, or if there are
+    /// more than `u32::MAX` rows: these are programming errors upstream, not user input.
+    /// Coordinates must be finite (the points stage removes missing values).
+    pub fn new(points: &[f64], dim: usize) -> KdTree {
+        assert!(dim > 0, "k-d tree: dimension must be at least 1");
+        assert!(points.len() % dim == 0, "k-d tree: {} values do not make rows of {dim}", points.len());
+        let m = points.len() / dim;
+        assert!(m < u32::MAX as usize, "k-d tree: too many rows ({m})");
+        debug_assert!(points.iter().all(|v| v.is_finite()), "k-d tree: non-finite coordinate");
+
+        let mut perm: Vec<u32> = (0..m as u32).collect();
+        let mut nodes = vec![Node { start: 0, end: m as u32, children: 0 }];
+        let mut bounds: Vec<f64> = Vec::new();
+        // Nodes are finished in creation order, so node `i` is processed at step `i`.
+        let mut i = 0;
+        while i < nodes.len() {
+            let Node { start, end, .. } = nodes[i];
+            let (s, e) = (start as usize, end as usize);
+            let base = bounds.len();
+            bounds.extend(std::iter::repeat(f64::INFINITY).take(dim));
+            bounds.extend(std::iter::repeat(f64::NEG_INFINITY).take(dim));
+            for &r in &perm[s..e] {
+                let row = &points[r as usize * dim..(r as usize + 1) * dim];
+                for (k, &v) in row.iter().enumerate() {
+                    if v < bounds[base + k] {
+                        bounds[base + k] = v;
+                    }
+                    if v > bounds[base + dim + k] {
+                        bounds[base + dim + k] = v;
+                    }
+                }
+            }
+            if e - s > LEAF_SIZE {
+                let axis = (0..dim)
+                    .max_by(|&a, &b| {
+                        let wa = bounds[base + dim + a] - bounds[base + a];
+                        let wb = bounds[base + dim + b] - bounds[base + b];
+                        wa.total_cmp(&wb)
+                    })
+                    .unwrap_or(0);
+                let mid = s + (e - s) / 2;
+                perm[s..e].select_nth_unstable_by(mid - s, |&a, &b| {
+                    points[a as usize * dim + axis].total_cmp(&points[b as usize * dim + axis])
+                });
+                let children = nodes.len() as u32;
+                nodes[i].children = children;
+                nodes.push(Node { start, end: mid as u32, children: 0 });
+                nodes.push(Node { start: mid as u32, end, children: 0 });
+            }
+            i += 1;
+        }
+
+        let mut data = Vec::with_capacity(points.len());
+        for &r in &perm {
+            data.extend_from_slice(&points[r as usize * dim..(r as usize + 1) * dim]);
+        }
+        KdTree { dim, data, index: perm, nodes, bounds }
+    }
+
+    /// Number of points.
+    pub fn len(&self) -> usize {
+        self.index.len()
+    }
+
+    pub fn is_empty(&self) -> bool {
+        self.index.is_empty()
+    }
+
+    pub fn dim(&self) -> usize {
+        self.dim
+    }
+
+    /// Number of nodes (leaves and inner nodes).
+    pub fn node_count(&self) -> usize {
+        self.nodes.len()
+    }
+
+    /// The point at tree position `pos`.
+    pub fn point_at(&self, pos: usize) -> &[f64] {
+        &self.data[pos * self.dim..(pos + 1) * self.dim]
+    }
+
+    /// The caller's row number of the point at tree position `pos`.
+    pub fn row_at(&self, pos: usize) -> usize {
+        self.index[pos] as usize
+    }
+
+    /// Squared distances from `q` to the nearest and the farthest point of node `n`'s box.
+    fn box_dist2(&self, n: usize, q: &[f64]) -> (f64, f64) {
+        let b = &self.bounds[2 * self.dim * n..2 * self.dim * (n + 1)];
+        let (lo, hi) = b.split_at(self.dim);
+        let (mut near, mut far) = (0.0, 0.0);
+        for k in 0..self.dim {
+            let (a, c) = (lo[k] - q[k], q[k] - hi[k]);
+            let d = if a > 0.0 { a } else if c > 0.0 { c } else { 0.0 };
+            near += d * d;
+            let f = (q[k] - lo[k]).abs().max((hi[k] - q[k]).abs());
+            far += f * f;
+        }
+        (near, far)
+    }
+
+    fn box_near2(&self, n: usize, q: &[f64]) -> f64 {
+        let b = &self.bounds[2 * self.dim * n..2 * self.dim * (n + 1)];
+        let (lo, hi) = b.split_at(self.dim);
+        let mut near = 0.0;
+        for k in 0..self.dim {
+            let (a, c) = (lo[k] - q[k], q[k] - hi[k]);
+            let d = if a > 0.0 { a } else if c > 0.0 { c } else { 0.0 };
+            near += d * d;
+        }
+        near
+    }
+
+    /// Calls `f(row)` for every point within Euclidean distance `r` of `q` (the boundary
+    /// included), in no particular order; `f` returns `false` to stop early. Returns
+    /// `false` if it was stopped.
+    pub fn visit_within(&self, q: &[f64], r: f64, mut f: impl FnMut(usize) -> bool) -> bool {
+        assert_eq!(q.len(), self.dim, "k-d tree: query has {} values, the points have {}", q.len(), self.dim);
+        if self.is_empty() || !(r >= 0.0) {
+            return true;
+        }
+        self.within_rec(0, q, r * r, &mut f)
+    }
+
+    fn within_rec(&self, n: usize, q: &[f64], r2: f64, f: &mut impl FnMut(usize) -> bool) -> bool {
+        let node = self.nodes[n];
+        let (near, far) = self.box_dist2(n, q);
+        if near > r2 {
+            return true;
+        }
+        let (s, e) = (node.start as usize, node.end as usize);
+        if far <= r2 {
+            // The whole box is inside the ball: every point is (a point's squared distance
+            // never exceeds its box's farthest corner, also in floating point).
+            return self.index[s..e].iter().all(|&row| f(row as usize));
+        }
+        if node.children == 0 {
+            for pos in s..e {
+                if dist2(q, self.point_at(pos)) <= r2 && !f(self.index[pos] as usize) {
+                    return false;
+                }
+            }
+            return true;
+        }
+        let c = node.children as usize;
+        self.within_rec(c, q, r2, f) && self.within_rec(c + 1, q, r2, f)
+    }
+
+    /// Calls `f(row)` for every point within distance `r` of `q`.
+    pub fn for_each_within(&self, q: &[f64], r: f64, mut f: impl FnMut(usize)) {
+        self.visit_within(q, r, |row| {
+            f(row);
+            true
+        });
+    }
+
+    /// Clears `out` and fills it with the rows within distance `r` of `q`, in no
+    /// particular order. Reuse `out` across queries to avoid allocating.
+    pub fn within(&self, q: &[f64], r: f64, out: &mut Vec<usize>) {
+        out.clear();
+        self.for_each_within(q, r, |row| out.push(row));
+    }
+
+    /// Number of points within distance `r` of `q`, counting no further than `limit`.
+    pub fn count_within(&self, q: &[f64], r: f64, limit: usize) -> usize {
+        let mut count = 0;
+        if limit == 0 {
+            return 0;
+        }
+        self.visit_within(q, r, |_| {
+            count += 1;
+            count < limit
+        });
+        count
+    }
+
+    /// Clears `out` and fills it with the `k` points nearest to `q` (fewer if the tree is
+    /// smaller), closest first. Distances are exact; among points at the same distance
+    /// from `q` which ones are returned is unspecified.
+    pub fn nearest(&self, q: &[f64], k: usize, out: &mut Vec<Neighbour>) {
+        assert_eq!(q.len(), self.dim, "k-d tree: query has {} values, the points have {}", q.len(), self.dim);
+        out.clear();
+        if k == 0 || self.is_empty() {
+            return;
+        }
+        // (squared distance, row) kept sorted; k is small in practice.
+        let mut best: Vec<(f64, u32)> = Vec::with_capacity(k + 1);
+        self.nearest_rec(0, self.box_near2(0, q), q, k, &mut best);
+        out.extend(best.into_iter().map(|(d2, row)| Neighbour { index: row as usize, dist: d2.sqrt() }));
+    }
+
+    fn nearest_rec(&self, n: usize, near: f64, q: &[f64], k: usize, best: &mut Vec<(f64, u32)>) {
+        if best.len() == k && near >= best[k - 1].0 {
+            return;
+        }
+        let node = self.nodes[n];
+        if node.children == 0 {
+            for pos in node.start as usize..node.end as usize {
+                let d2 = dist2(q, self.point_at(pos));
+                if best.len() < k || d2 < best[k - 1].0 {
+                    let at = best.partition_point(|&(b, _)| b <= d2);
+                    best.insert(at, (d2, self.index[pos]));
+                    best.truncate(k);
+                }
+            }
+            return;
+        }
+        let c = node.children as usize;
+        let (dl, dr) = (self.box_near2(c, q), self.box_near2(c + 1, q));
+        if dl <= dr {
+            self.nearest_rec(c, dl, q, k, best);
+            self.nearest_rec(c + 1, dr, q, k, best);
+        } else {
+            self.nearest_rec(c + 1, dr, q, k, best);
+            self.nearest_rec(c, dl, q, k, best);
+        }
+    }
+
+    /// Fills `out` with one label per node: the component shared by all its points, or
+    /// [`MIXED`]. `comp` gives the component of each point by *tree position*.
+    pub fn node_components(&self, comp: &[u32], out: &mut Vec<u32>) {
+        assert_eq!(comp.len(), self.len());
+        out.clear();
+        out.resize(self.nodes.len(), MIXED);
+        // Children come after their parents, so a reverse sweep sees children first.
+        for n in (0..self.nodes.len()).rev() {
+            let node = self.nodes[n];
+            out[n] = if node.children == 0 {
+                let s = &comp[node.start as usize..node.end as usize];
+                match s.first() {
+                    Some(&c) if s.iter().all(|&x| x == c) => c,
+                    _ => MIXED,
+                }
+            } else {
+                let c = node.children as usize;
+                if out[c] == out[c + 1] { out[c] } else { MIXED }
+            };
+        }
+    }
+
+    /// The point nearest to `q` whose component differs from `own`, if one lies at squared
+    /// distance strictly below `bound2`. Returns its tree position and squared distance.
+    /// `comp` is the component of each point by tree position, `node_comp` the output of
+    /// [`KdTree::node_components`] for that `comp`; subtrees wholly inside `own` are
+    /// skipped. If several points tie, which one is returned is unspecified.
+    pub fn nearest_other(&self, q: &[f64], own: u32, comp: &[u32], node_comp: &[u32], bound2: f64) -> Option<(usize, f64)> {
+        assert_eq!(q.len(), self.dim, "k-d tree: query has {} values, the points have {}", q.len(), self.dim);
+        if self.is_empty() {
+            return None;
+        }
+        let mut best = (bound2, usize::MAX);
+        self.other_rec(0, self.box_near2(0, q), q, own, comp, node_comp, &mut best);
+        (best.1 != usize::MAX).then_some((best.1, best.0))
+    }
+
+    #[allow(clippy::too_many_arguments)]
+    fn other_rec(&self, n: usize, near: f64, q: &[f64], own: u32, comp: &[u32], node_comp: &[u32], best: &mut (f64, usize)) {
+        if near >= best.0 || node_comp[n] == own {
+            return;
+        }
+        let node = self.nodes[n];
+        if node.children == 0 {
+            for pos in node.start as usize..node.end as usize {
+                if comp[pos] != own {
+                    let d2 = dist2(q, self.point_at(pos));
+                    if d2 < best.0 {
+                        *best = (d2, pos);
+                    }
+                }
+            }
+            return;
+        }
+        let c = node.children as usize;
+        let (dl, dr) = (self.box_near2(c, q), self.box_near2(c + 1, q));
+        if dl <= dr {
+            self.other_rec(c, dl, q, own, comp, node_comp, best);
+            self.other_rec(c + 1, dr, q, own, comp, node_comp, best);
+        } else {
+            self.other_rec(c + 1, dr, q, own, comp, node_comp, best);
+            self.other_rec(c, dl, q, own, comp, node_comp, best);
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    //! Every query is checked against a brute-force scan over all points (common practice:
+    //! the scan is the definition of the query).
+    use super::*;
+    use crate::rng::SplitMix64;
+
+    fn random_points(rng: &mut SplitMix64, m: usize, dim: usize) -> Vec<f64> {
+        (0..m * dim).map(|_| rng.next_f64() * 10.0 - 5.0).collect()
+    }
+
+    fn brute_within(points: &[f64], dim: usize, q: &[f64], r: f64) -> Vec<usize> {
+        (0..points.len() / dim).filter(|&i| dist2(q, &points[i * dim..(i + 1) * dim]) <= r * r).collect()
+    }
+
+    #[test]
+    fn radius_queries_equal_brute_force() {
+        let mut rng = SplitMix64::new(11);
+        let mut got = Vec::new();
+        for &dim in &[1usize, 2, 3, 7] {
+            for &m in &[0usize, 1, 5, 17, 300, 2000] {
+                let pts = random_points(&mut rng, m, dim);
+                let tree = KdTree::new(&pts, dim);
+                assert_eq!(tree.len(), m);
+                // Radii chosen so that answers range from empty to nearly everything.
+                for &r in &[0.0, 0.3, 1.0, 2.5, 6.0, 40.0] {
+                    for t in 0..20 {
+                        // Half the queries at data points (the point itself must be found at r = 0).
+                        let q: Vec<f64> = if t % 2 == 0 && m > 0 {
+                            let i = rng.below(m);
+                            pts[i * dim..(i + 1) * dim].to_vec()
+                        } else {
+                            (0..dim).map(|_| rng.next_f64() * 12.0 - 6.0).collect()
+                        };
+                        tree.within(&q, r, &mut got);
+                        got.sort_unstable();
+                        let want = brute_within(&pts, dim, &q, r);
+                        assert_eq!(got, want, "dim {dim}, m {m}, r {r}");
+                        let limit = 3;
+                        assert_eq!(tree.count_within(&q, r, limit), want.len().min(limit));
+                    }
+                }
+            }
+        }
+    }
+
+    #[test]
+    fn knn_queries_equal_brute_force() {
+        let mut rng = SplitMix64::new(12);
+        let mut got = Vec::new();
+        for &dim in &[1usize, 2, 3, 7] {
+            for &m in &[1usize, 10, 500, 3000] {
+                let pts = random_points(&mut rng, m, dim);
+                let tree = KdTree::new(&pts, dim);
+                for &k in &[1usize, 5, 16, 40] {
+                    for _ in 0..20 {
+                        let q: Vec<f64> = (0..dim).map(|_| rng.next_f64() * 12.0 - 6.0).collect();
+                        tree.nearest(&q, k, &mut got);
+                        let mut all: Vec<(f64, usize)> =
+                            (0..m).map(|i| (dist2(&q, &pts[i * dim..(i + 1) * dim]).sqrt(), i)).collect();
+                        all.sort_by(|a, b| a.0.total_cmp(&b.0).then(a.1.cmp(&b.1)));
+                        all.truncate(k);
+                        // Random real coordinates: no ties, so rows must match too.
+                        let got_pairs: Vec<(f64, usize)> = got.iter().map(|n| (n.dist, n.index)).collect();
+                        assert_eq!(got_pairs, all, "dim {dim}, m {m}, k {k}");
+                    }
+                }
+            }
+        }
+    }
+
+    #[test]
+    fn nearest_other_component_equals_brute_force() {
+        let mut rng = SplitMix64::new(13);
+        for &dim in &[1usize, 2, 3, 7] {
+            let m = 700;
+            let pts = random_points(&mut rng, m, dim);
+            let tree = KdTree::new(&pts, dim);
+            // Components by spatial slabs along the first axis, so that whole subtrees
+            // share a label and the pruning path is exercised, plus a few scattered ones.
+            let comp: Vec<u32> = (0..m)
+                .map(|pos| {
+                    let x = tree.point_at(pos)[0];
+                    if pos % 97 == 0 { 9 } else { ((x + 5.0) / 2.5) as u32 }
+                })
+                .collect();
+            let mut node_comp = Vec::new();
+            tree.node_components(&comp, &mut node_comp);
+            if dim <= 2 {
+                // In low dimension leaves are narrow, so many lie inside one slab.
+                assert!(node_comp.iter().any(|&c| c != MIXED));
+            }
+            for p in 0..m {
+                let q = tree.point_at(p).to_vec();
+                let own = comp[p];
+                let want = (0..m)
+                    .filter(|&j| comp[j] != own)
+                    .map(|j| (dist2(&q, tree.point_at(j)), j))
+                    .min_by(|a, b| a.0.total_cmp(&b.0));
+                let got = tree.nearest_other(&q, own, &comp, &node_comp, f64::INFINITY);
+                assert_eq!(got.map(|g| g.1), want.map(|w| w.0), "dim {dim}, pos {p}");
+                // A bound at or below the true answer finds nothing.
+                if let Some((d2, _)) = want {
+                    assert_eq!(tree.nearest_other(&q, own, &comp, &node_comp, d2), None);
+                }
+            }
+        }
+    }
+
+    #[test]
+    fn duplicates_keep_leaves_small_and_queries_right() {
+        // 1000 copies of one point and 1000 of another: the build must still split.
+        let mut pts = vec![1.0, 2.0].repeat(1000);
+        pts.extend([4.0, 6.0].repeat(1000));
+        let tree = KdTree::new(&pts, 2);
+        assert!(tree.node_count() > 2000 / LEAF_SIZE);
+        let mut out = Vec::new();
+        tree.within(&[1.0, 2.0], 0.0, &mut out);
+        out.sort_unstable();
+        assert_eq!(out, (0..1000).collect::<Vec<_>>());
+        tree.within(&[1.0, 2.0], 5.0, &mut out);
+        assert_eq!(out.len(), 2000, "distance 5 exactly is inside the closed ball");
+        tree.within(&[1.0, 2.0], 4.999, &mut out);
+        assert_eq!(out.len(), 1000);
+    }
+
+    #[test]
+    fn rows_map_back_to_input() {
+        let mut rng = SplitMix64::new(14);
+        let pts = random_points(&mut rng, 100, 3);
+        let tree = KdTree::new(&pts, 3);
+        let mut seen = vec![false; 100];
+        for pos in 0..100 {
+            let r = tree.row_at(pos);
+            assert_eq!(tree.point_at(pos), &pts[r * 3..r * 3 + 3]);
+            seen[r] = true;
+        }
+        assert!(seen.iter().all(|&s| s));
+    }
+}

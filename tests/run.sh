@@ -1,0 +1,27 @@
+#!/usr/bin/env bash
+# Runs every test: the engine's native tests (unit, reference fixtures, known shapes),
+# then builds the page and drives it in headless Chromium from file://.
+# Usage: bash tests/run.sh      (from the repository's top folder or anywhere)
+set -euo pipefail
+cd "$(dirname "$0")/.."
+source tests/setup.sh
+
+need_wasm_target
+need_chromium
+need_node_modules
+
+step "native tests (cargo test)"
+cargo test --quiet 2>&1 | tee /tmp/nervure-cargo-test.log
+build_page
+step "command-line runner for the browser tests' comparisons"
+cargo build --quiet --release --bin nervure
+
+step "browser tests (node --test, headless Chromium, file://)"
+node --test --test-reporter=spec tests/browser/ 2>&1 | tee /tmp/nervure-browser-test.log
+
+rust_passed=$(grep -Eo '[0-9]+ passed' /tmp/nervure-cargo-test.log | awk '{s+=$1} END {print s+0}')
+rust_failed=$(grep -Eo '[0-9]+ failed' /tmp/nervure-cargo-test.log | awk '{s+=$1} END {print s+0}')
+web_passed=$(grep -Eo '^ℹ pass [0-9]+' /tmp/nervure-browser-test.log | awk '{s+=$3} END {print s+0}')
+web_failed=$(grep -Eo '^ℹ fail [0-9]+' /tmp/nervure-browser-test.log | awk '{s+=$3} END {print s+0}')
+echo
+echo "all: $((rust_passed + web_passed)) passed, $((rust_failed + web_failed)) failed"

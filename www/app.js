@@ -423,7 +423,7 @@ function renderSettings() {
   if (!s) { panel.hidden = true; return; }
   panel.hidden = false;
   const active = document.activeElement;
-  const put = (id, value) => { const e = byId(id); if (e !== active) e.value = value; };
+  const put = (id, value) => { const e = byId(id); if (e !== active) e.value = value === undefined || value === null ? "" : value; };
 
   put("s-scaling", s.scaling);
   put("s-fill", ((s.missing && s.missing.fillValues) || []).join(", "));
@@ -458,22 +458,25 @@ function renderSummary() {
   line.textContent = "";
   if (!s) {
     line.textContent = state.table ? "Building the first graph…" : "Open a table to see its graph.";
+    byId("summary-rows").hidden = true;
     caution.hidden = true;
     return;
   }
-  const parts = [
-    plural(s.rows, "row used", "rows used"),
-    plural(s.rowsLeftOut, "row left out", "rows left out"),
+  const shape = [
     plural(s.nodes, "node", "nodes"),
     plural(s.edges, "edge", "edges"),
     plural(s.components, "component", "components"),
     plural(s.loops, "loop", "loops"),
   ];
-  if (s.noiseRows > 0) parts.splice(2, 0, plural(s.noiseRows, "row in no cluster", "rows in no cluster"));
-  parts.forEach(function (p, k) {
+  shape.forEach(function (p, k) {
     if (k > 0) line.append(el("span", "sep", "·"));
     line.append(el("span", "fact", p));
   });
+  const rows = [plural(s.rows, "row used", "rows used"), plural(s.rowsLeftOut, "row left out", "rows left out")];
+  if (s.noiseRows > 0) rows.push(plural(s.noiseRows, "row in no cluster", "rows in no cluster"));
+  const rowLine = byId("summary-rows");
+  rowLine.textContent = rows.join(" · ");
+  rowLine.hidden = false;
   if (s.rowsLeftOut > 0 && s.leftOutByColumn && s.leftOutByColumn.length) {
     line.title = "Rows left out for missing values: " + s.leftOutByColumn.map((p) => p[0] + " " + p[1]).join(", ");
   } else line.removeAttribute("title");
@@ -524,8 +527,10 @@ function renderDetail() {
   byId("detail-title").textContent = "Node " + i;
   const size = state.graph.nodeSizes[i];
   const sub = byId("detail-sub");
-  sub.textContent = plural(d ? d.size : size, "row", "rows") + " · from interval " + ((d ? d.element : state.graph.nodeElements[i]) + 1);
-  if (state.colour.values) sub.textContent += " · mean " + state.colour.column + " " + formatNumber(state.colour.values[i]);
+  const facts = [plural(d ? d.size : size, "row", "rows")];
+  if (d) facts.push(plural(d.degree, "edge", "edges"));
+  facts.push("lens interval " + ((d ? d.element : state.graph.nodeElements[i]) + 1) + (d && d.interval ? " [" + formatNumber(d.interval[0]) + ", " + formatNumber(d.interval[1]) + "]" : ""));
+  sub.textContent = facts.join(" · ");
   const body = byId("detail-stats");
   body.textContent = "";
   const rows = byId("detail-rows");
@@ -535,7 +540,8 @@ function renderDetail() {
     tr.append(el("th", null, c.name));
     if (c.kind === "number") tr.append(el("td", "num", formatNumber(c.mean)), el("td", "num", formatNumber(c.min)), el("td", "num", formatNumber(c.max)));
     else {
-      const td = el("td", "top", c.top === null || c.top === undefined ? "—" : "mostly “" + c.top + "”");
+      const share = c.topShare === null || c.topShare === undefined ? "" : " (" + Math.round(100 * c.topShare) + " %)";
+      const td = el("td", "top", c.top === null || c.top === undefined ? "—" : "mostly “" + c.top + "”" + share);
       td.colSpan = 3;
       tr.append(td);
     }
@@ -609,6 +615,7 @@ function wire() {
   const demo = document.getElementById("nervure-demo");
   const demoButton = byId("demo-button");
   demoButton.hidden = !demo;
+  if (demo) byId("empty-hint-text").textContent = "Choose a CSV file, drop one on this page, or try the demo.";
   demoButton.addEventListener("click", function () {
     loadText(demo.textContent, demo.dataset.name || "demo.csv").catch(function () { /* shown on the page */ });
   });
@@ -693,3 +700,5 @@ window.nervure = Object.freeze({
 wire();
 engine.start();
 renderAll();
+// dist/nervure.html#demo opens with the demo loaded.
+if (location.hash === "#demo" && document.getElementById("nervure-demo")) byId("demo-button").click();

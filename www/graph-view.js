@@ -23,6 +23,7 @@ function GraphView(canvas, callbacks) {
   this.height = 0;
   this.drawCount = 0;
   this.pending = false;
+  this.fitted = false;     // true until the user pans or zooms: resizes then refit
   this._listen();
   this.resize();
 }
@@ -89,6 +90,7 @@ GraphView.prototype.fit = function () {
   this.view.scale = scale;
   this.view.x = this.width / 2 - scale * (x0 + x1) / 2;
   this.view.y = this.height / 2 - scale * (y0 + y1) / 2;
+  this.fitted = true;
   this.requestDraw();
 };
 
@@ -103,7 +105,7 @@ GraphView.prototype.resize = function () {
   this.dpr = dpr;
   if (this.graph) {
     this._sizeDiscs();
-    if (oldW === 0 || oldH === 0) this.fit();
+    if (oldW === 0 || oldH === 0 || this.fitted) this.fit();
     else { this.view.x += (this.width - oldW) / 2; this.view.y += (this.height - oldH) / 2; }
   }
   this.requestDraw();
@@ -200,6 +202,7 @@ GraphView.prototype._listen = function () {
       const dx = q.x - drag.x, dy = q.y - drag.y;
       if (!drag.moved && dx * dx + dy * dy > 16) { drag.moved = true; c.classList.add("dragging"); }
       if (drag.moved) {
+        this.fitted = false;
         this.view.x = drag.vx + dx;
         this.view.y = drag.vy + dy;
         this.requestDraw();
@@ -241,6 +244,7 @@ GraphView.prototype._listen = function () {
     this.view.x = q.x - (q.x - this.view.x) * k;
     this.view.y = q.y - (q.y - this.view.y) * k;
     this.view.scale = next;
+    this.fitted = false;
     this.requestDraw();
   }, { passive: false });
   c.addEventListener("dblclick", () => this.fit());

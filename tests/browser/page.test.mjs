@@ -125,6 +125,7 @@ test("a file picked with the file input gives the command-line runner's graph", 
   await loadCircleThroughInput();
   const timings = await page.evaluate(() => window.nervure.timings());
   console.log(`circle.csv: first graph drawn ${timings.firstGraphMs.toFixed(0)} ms after the file was given`);
+  assert.ok(/^600 rows used · 0 rows left out/.test((await page.textContent("#summary-rows")).replace(/\u2009/g, "")));
 
   // The automatic first settings are the runner's automatic settings for the same file.
   const autoSettings = await page.evaluate(() => window.nervure.settings());

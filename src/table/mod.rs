@@ -6,9 +6,13 @@
 //! This module parses and types; choosing columns, fill values and scaling happen later,
 //! in [`crate::points`], so changing them never re-reads the file.
 
+mod cells;
 mod reader;
+mod sniff;
+#[cfg(test)]
+mod reader_tests;
 
-pub use reader::{ReadOptions, TableReader};
+pub use reader::{ReadOptions, ReadReport, TableReader};
 
 use serde::Serialize;
 

@@ -1,7 +1,24 @@
-//! Streaming CSV reader (RFC 4180). PLACEHOLDER: to be written.
+//! Streaming CSV reader: bytes in any chunks, in file order, to a typed [`Table`].
+//!
+//! Parsing is RFC 4180 as implemented by `csv-core`: quoted fields, doubled quotes inside
+//! them, CR, LF and CRLF line ends, a UTF-8 byte-order mark dropped. Chunk boundaries may fall
+//! anywhere (inside a quoted field, a CRLF or a multi-byte character): `csv-core` keeps its
+//! state between calls and each record is typed only once it is whole. The first row is the
+//! header; typing rules live in [`super::cells`], delimiter guessing in [`super::sniff`].
+//!
+//! This module does not choose columns, fill values or scale anything ([`crate::points`]
+//! does), and it does not read files: the page and the command-line runner push bytes.
+//!
+//! Conventions (this project's): data rows are counted from 1 after the header, skipping
+//! blank lines; a line holding only spaces or tabs counts as blank when the table has more
+//! than one column; a last line without a line end is read like any other.
 
-use crate::error::{Error, Result};
+use csv_core::{ReadRecordResult, Reader, ReaderBuilder};
+
+use super::cells::{trim, ColumnBuilder, MissingTokens};
+use super::sniff::{self, Sniffer};
 use super::Table;
+use crate::error::{Error, Result};
 
 /// How text becomes a table.
 #[derive(Debug, Clone, PartialEq)]
@@ -21,29 +38,367 @@ impl Default for ReadOptions {
     }
 }
 
+/// What the reader saw besides the table itself.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ReadReport {
+    /// Data rows read (the header not counted).
+    pub rows: usize,
+    /// Bytes pushed.
+    pub bytes: u64,
+    /// Per column, in table order: infinite values (`inf`, `1e999`) stored as missing.
+    pub non_finite_per_column: Vec<usize>,
+    /// The delimiter used, given or detected.
+    pub delimiter: u8,
+}
+
 /// Builds a [`Table`] from chunks of bytes in file order.
+///
+/// ```
+/// use nervure::{ReadOptions, TableReader};
+/// let mut r = TableReader::new("t.csv", ReadOptions::default());
+/// r.push(b"x,label\n1.5,a\n2,")?;
+/// r.push(b"b\n")?;
+/// let t = r.finish()?;
+/// assert_eq!((t.n_rows, t.columns.len()), (2, 2));
+/// # Ok::<(), nervure::Error>(())
+/// ```
 pub struct TableReader {
     name: String,
     options: ReadOptions,
     bytes_seen: u64,
+    /// The start of the file, kept until the delimiter is known and the text checks are done.
+    head: Vec<u8>,
+    sniffer: Sniffer,
+    body: Option<Body>,
+    /// After an error every later call returns it again.
+    failed: Option<Error>,
 }
 
 impl TableReader {
     pub fn new(name: &str, options: ReadOptions) -> Self {
-        TableReader { name: name.to_string(), options, bytes_seen: 0 }
+        TableReader {
+            name: name.to_string(),
+            options,
+            bytes_seen: 0,
+            head: Vec::new(),
+            sniffer: Sniffer::default(),
+            body: None,
+            failed: None,
+        }
     }
 
+    /// Takes the next bytes of the file. Errors name the data row and column.
     pub fn push(&mut self, chunk: &[u8]) -> Result<()> {
+        if let Some(e) = &self.failed {
+            return Err(e.clone());
+        }
         self.bytes_seen += chunk.len() as u64;
-        let _ = &self.options;
-        Ok(())
+        let r = self.push_inner(chunk);
+        if let Err(e) = &r {
+            self.failed = Some(e.clone());
+        }
+        r
     }
 
     pub fn bytes_seen(&self) -> u64 {
         self.bytes_seen
     }
 
+    /// Data rows typed so far (rows still held at the start of the file not counted).
+    pub fn rows_read(&self) -> usize {
+        self.body.as_ref().map_or(0, |b| b.rows)
+    }
+
     pub fn finish(self) -> Result<Table> {
-        Err(Error::Input(format!("{}: reader not written yet", self.name)))
+        self.finish_with_report().map(|(t, _)| t)
+    }
+
+    /// Ends the file and returns the table with what the reader counted on the way.
+    pub fn finish_with_report(mut self) -> Result<(Table, ReadReport)> {
+        if let Some(e) = self.failed.take() {
+            return Err(e);
+        }
+        if self.body.is_none() {
+            self.start_body(true)?;
+        }
+        let mut body = self.body.take().expect("body started");
+        body.feed(&[], true).map_err(|m| self.input_error(m))?;
+        let Some(columns) = body.columns else {
+            return Err(self.input_error(
+                "the file is empty; choose a CSV file with a header row and at least one data row".into(),
+            ));
+        };
+        if body.rows == 0 {
+            return Err(self.input_error(format!(
+                "the file has a header row ({}) but no data rows; add rows below the header",
+                list_columns(&columns)
+            )));
+        }
+        let report = ReadReport {
+            rows: body.rows,
+            bytes: self.bytes_seen,
+            non_finite_per_column: columns.iter().map(|c| c.non_finite()).collect(),
+            delimiter: body.delimiter,
+        };
+        let table = Table {
+            name: self.name.clone(),
+            columns: columns.into_iter().map(ColumnBuilder::finish).collect(),
+            n_rows: body.rows,
+            delimiter: body.delimiter,
+        };
+        Ok((table, report))
+    }
+
+    fn push_inner(&mut self, chunk: &[u8]) -> Result<()> {
+        if let Some(body) = &mut self.body {
+            return body.feed(chunk, false).map_err(|m| input_error(&self.name, m));
+        }
+        self.head.extend_from_slice(chunk);
+        self.sniffer.scan(chunk);
+        let enough_for_checks = self.head.len() >= sniff::BINARY_PROBE;
+        let delimiter_known = self.options.delimiter.is_some() || self.sniffer.has_enough();
+        if enough_for_checks && delimiter_known {
+            self.start_body(false)?;
+        }
+        Ok(())
+    }
+
+    /// Checks the start of the file, settles the delimiter and parses what was held back.
+    fn start_body(&mut self, at_eof: bool) -> Result<()> {
+        sniff::check_text(&self.head).map_err(|m| self.input_error(m))?;
+        let delimiter = match self.options.delimiter {
+            Some(d) => {
+                if matches!(d, b'"' | b'\r' | b'\n') {
+                    return Err(Error::settings(
+                        "delimiter",
+                        format!("{} cannot separate fields; use a comma, semicolon or tab", describe(d)),
+                    ));
+                }
+                d
+            }
+            None => self.sniffer.decide(at_eof),
+        };
+        let head = std::mem::take(&mut self.head);
+        let start = if head.starts_with(b"\xEF\xBB\xBF") { 3 } else { 0 };
+        let mut body = Body::new(delimiter, MissingTokens::new(&self.options.missing_tokens));
+        let r = body.feed(&head[start..], false);
+        self.body = Some(body);
+        r.map_err(|m| self.input_error(m))
+    }
+
+    fn input_error(&self, message: String) -> Error {
+        input_error(&self.name, message)
     }
 }
+
+fn input_error(name: &str, message: String) -> Error {
+    if name.is_empty() {
+        Error::Input(message)
+    } else {
+        Error::Input(format!("{name}: {message}"))
+    }
+}
+
+fn describe(d: u8) -> String {
+    match d {
+        b',' => "comma".into(),
+        b';' => "semicolon".into(),
+        b'\t' => "tab".into(),
+        b'"' => "the quote character".into(),
+        b'\r' | b'\n' => "a line end".into(),
+        d if d.is_ascii_graphic() || d == b' ' => format!("'{}'", d as char),
+        d => format!("byte 0x{d:02X}"),
+    }
+}
+
+/// "columns a, b, c", at most eight names.
+fn list_columns(columns: &[ColumnBuilder]) -> String {
+    const SHOWN: usize = 8;
+    let mut s = String::from(if columns.len() == 1 { "column " } else { "columns " });
+    for (i, c) in columns.iter().take(SHOWN).enumerate() {
+        if i > 0 {
+            s.push_str(", ");
+        }
+        s.push_str(c.name());
+    }
+    if columns.len() > SHOWN {
+        s.push_str(&format!(", ... ({} in all)", columns.len()));
+    }
+    s
+}
+
+/// Tracks, over the bytes of the record being parsed, whether they end inside a quoted field:
+/// the same rules `csv-core` follows (RFC 4180 section 2 rules 5 to 7), used only to report
+/// a quote that never closes, which `csv-core` accepts silently.
+#[derive(Debug, Clone, Copy, PartialEq)]
+enum QuoteState {
+    FieldStart,
+    Unquoted,
+    Quoted,
+    QuoteInQuoted,
+}
+
+impl QuoteState {
+    fn scan(mut self, bytes: &[u8], delimiter: u8) -> QuoteState {
+        use QuoteState::*;
+        for &b in bytes {
+            self = match self {
+                Quoted if b == b'"' => QuoteInQuoted,
+                Quoted => Quoted,
+                FieldStart if b == b'"' => Quoted,
+                QuoteInQuoted if b == b'"' => Quoted,
+                _ if b == delimiter || b == b'\n' || b == b'\r' => FieldStart,
+                _ => Unquoted,
+            };
+        }
+        self
+    }
+}
+
+/// The parser once the delimiter is known.
+struct Body {
+    csv: Reader,
+    delimiter: u8,
+    missing: MissingTokens,
+    /// Unescaped bytes of the record being read, and the end of each of its fields.
+    out: Vec<u8>,
+    out_len: usize,
+    ends: Vec<usize>,
+    ends_len: usize,
+    /// Quote state over the part of the current record seen in earlier calls.
+    tail: QuoteState,
+    /// `None` until the header row is read.
+    columns: Option<Vec<ColumnBuilder>>,
+    rows: usize,
+}
+
+impl Body {
+    fn new(delimiter: u8, missing: MissingTokens) -> Body {
+        Body {
+            csv: ReaderBuilder::new().delimiter(delimiter).build(),
+            delimiter,
+            missing,
+            out: vec![0; 4096],
+            out_len: 0,
+            ends: vec![0; 64],
+            ends_len: 0,
+            tail: QuoteState::FieldStart,
+            columns: None,
+            rows: 0,
+        }
+    }
+
+    /// Parses `input`; with `at_eof`, `input` must be empty and the last record is closed.
+    fn feed(&mut self, mut input: &[u8], at_eof: bool) -> std::result::Result<(), String> {
+        loop {
+            let (res, nin, nout, nend) =
+                self.csv.read_record(input, &mut self.out[self.out_len..], &mut self.ends[self.ends_len..]);
+            let consumed = &input[..nin];
+            input = &input[nin..];
+            self.out_len += nout;
+            self.ends_len += nend;
+            match res {
+                ReadRecordResult::Record => {
+                    if at_eof && self.tail == QuoteState::Quoted {
+                        return Err(self.unclosed_quote());
+                    }
+                    self.tail = QuoteState::FieldStart;
+                    self.record()?;
+                    self.out_len = 0;
+                    self.ends_len = 0;
+                }
+                ReadRecordResult::InputEmpty => {
+                    self.tail = self.tail.scan(consumed, self.delimiter);
+                    return Ok(());
+                }
+                ReadRecordResult::OutputFull => {
+                    self.tail = self.tail.scan(consumed, self.delimiter);
+                    let n = self.out.len() * 2;
+                    self.out.resize(n, 0);
+                }
+                ReadRecordResult::OutputEndsFull => {
+                    self.tail = self.tail.scan(consumed, self.delimiter);
+                    let n = self.ends.len() * 2;
+                    self.ends.resize(n, 0);
+                }
+                ReadRecordResult::End => return Ok(()),
+            }
+        }
+    }
+
+    fn unclosed_quote(&self) -> String {
+        let whereabouts = match self.columns {
+            None => "the header row".to_string(),
+            Some(_) => format!("data row {}", self.rows + 1),
+        };
+        format!(
+            "a quoted field that starts on {whereabouts} never ends: the file ends inside quotes; \
+             add the closing quote (\") or remove the stray one"
+        )
+    }
+
+    /// Handles the record now in `out` / `ends`.
+    fn record(&mut self) -> std::result::Result<(), String> {
+        let n_fields = self.ends_len;
+        let blank = n_fields == 1 && trim(&self.out[..self.ends[0]]).is_empty();
+        let Some(columns) = &mut self.columns else {
+            if !blank {
+                self.columns = Some(self.header()?);
+            }
+            return Ok(());
+        };
+        if blank && columns.len() > 1 {
+            return Ok(());
+        }
+        let row = self.rows + 1;
+        if n_fields != columns.len() {
+            return Err(format!(
+                "data row {row} has {n_fields} field{} but the header has {} ({}); check that row for \
+                 a missing or extra {} or a stray quote",
+                if n_fields == 1 { "" } else { "s" },
+                columns.len(),
+                list_columns(columns),
+                describe(self.delimiter),
+            ));
+        }
+        let mut start = 0;
+        for (col, &end) in columns.iter_mut().zip(&self.ends[..n_fields]) {
+            if col.push(&self.out[start..end], row, &self.missing).is_err() {
+                return Err(format!(
+                    "data row {row}, column '{}': the text is not valid UTF-8; {}",
+                    col.name(),
+                    NOT_UTF8_ADVICE
+                ));
+            }
+            start = end;
+        }
+        self.rows = row;
+        Ok(())
+    }
+
+    fn header(&self) -> std::result::Result<Vec<ColumnBuilder>, String> {
+        let mut names: Vec<String> = Vec::with_capacity(self.ends_len);
+        let mut start = 0;
+        for (i, &end) in self.ends[..self.ends_len].iter().enumerate() {
+            let Ok(text) = std::str::from_utf8(trim(&self.out[start..end])) else {
+                return Err(format!("the header row (column {}) is not valid UTF-8; {}", i + 1, NOT_UTF8_ADVICE));
+            };
+            names.push(if text.is_empty() { format!("column {}", i + 1) } else { text.to_string() });
+            start = end;
+        }
+        let mut seen = std::collections::HashMap::with_capacity(names.len());
+        for (i, name) in names.iter().enumerate() {
+            if let Some(j) = seen.insert(name.as_str(), i) {
+                return Err(format!(
+                    "columns {} and {} are both named '{name}'; give each column its own name in the header row",
+                    j + 1,
+                    i + 1
+                ));
+            }
+        }
+        Ok(names.into_iter().map(ColumnBuilder::new).collect())
+    }
+}
+
+const NOT_UTF8_ADVICE: &str = "the file may be in Latin-1 (Windows-1252) or UTF-16; \
+                               re-save it as UTF-8 text (CSV, UTF-8) and load it again";

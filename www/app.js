@@ -394,14 +394,16 @@ function renderColumns() {
     box.setAttribute("aria-label", "Use column " + c.name);
     if (c.kind !== "number") box.title = "Only numeric columns can be coordinates";
     tdUse.append(box);
-    const tdName = el("td", "name", c.name);
-    tdName.title = c.name;
-    let type = c.kind === "number" ? "number" : "category";
-    if (c.kind !== "number" && c.levels !== null && c.levels !== undefined) type += " (" + formatCount(c.levels) + ")";
-    const tdType = el("td", "type", type);
-    if (c.firstText) tdType.title = "Read as text because data row " + c.firstText.row + " holds “" + c.firstText.text + "”";
+    // Name on the first line, detected kind under it.
+    const tdName = el("td", "name");
+    tdName.append(el("span", "column-name", c.name));
+    const kind = el("span", "kind", c.kind === "number" ? "number" : "category");
+    if (c.kind !== "number" && c.levels !== null && c.levels !== undefined) kind.textContent += " · " + plural(c.levels, "value", "values");
+    tdName.append(kind);
+    tdName.title = c.name + (c.kind === "number" ? " (numbers)" : " (text values)");
+    if (c.firstText) tdName.title += "; read as text because data row " + c.firstText.row + " holds “" + c.firstText.text + "”";
     const tdMissing = el("td", "num" + (c.missing > 0 ? " has-missing" : ""), formatCount(c.missing));
-    tr.append(tdUse, tdName, tdType, tdMissing, el("td", "num", formatNumber(c.min)), el("td", "num", formatNumber(c.max)));
+    tr.append(tdUse, tdName, tdMissing, el("td", "num", formatNumber(c.min)), el("td", "num", formatNumber(c.max)));
     tr.classList.toggle("unused", !box.checked);
     body.append(tr);
   }
@@ -537,7 +539,9 @@ function renderDetail() {
   if (!d) { rows.textContent = "…"; return; }
   for (const c of d.columns) {
     const tr = el("tr");
-    tr.append(el("th", null, c.name));
+    const th = el("th", null, c.name);
+    th.title = c.name;
+    tr.append(th);
     if (c.kind === "number") tr.append(el("td", "num", formatNumber(c.mean)), el("td", "num", formatNumber(c.min)), el("td", "num", formatNumber(c.max)));
     else {
       const share = c.topShare === null || c.topShare === undefined ? "" : " (" + Math.round(100 * c.topShare) + " %)";
@@ -566,6 +570,7 @@ const view = new GraphView(byId("graph-canvas"), {
   onHover: function (i, x, y) {
     if (i === null || !state.graph) { tooltip.hidden = true; return; }
     tooltip.hidden = false;
+    tooltip.style.left = "0px";   // measure at full width
     tooltip.textContent = "";
     tooltip.append(el("strong", null, "Node " + i), el("span", null, plural(state.graph.nodeSizes[i], "row", "rows")));
     if (state.colour.values) tooltip.append(el("span", null, "mean " + state.colour.column + ": " + formatNumber(state.colour.values[i])));
@@ -586,7 +591,7 @@ const view = new GraphView(byId("graph-canvas"), {
   },
 });
 
-new ResizeObserver(function () { view.resize(); }).observe(byId("canvas-wrap"));
+new ResizeObserver(function () { tooltip.hidden = true; view.resize(); }).observe(byId("canvas-wrap"));
 
 /* ---------------------------------------------------------------- events */
 

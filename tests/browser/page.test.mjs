@@ -153,10 +153,14 @@ test("a file picked with the file input gives the command-line runner's graph", 
 
 test("the column table shows the file's columns and types", async () => {
   await loadCircleThroughInput();
-  const rows = await page.$$eval("#columns-body tr", (trs) => trs.map((tr) => Array.from(tr.cells).slice(1).map((c) => c.textContent)));
+  const rows = await page.$$eval("#columns-body tr", (trs) => trs.map((tr) => [tr.querySelector(".column-name").textContent, tr.querySelector(".kind").textContent, ...Array.from(tr.cells).slice(2).map((c) => c.textContent)]));
   assert.deepEqual(rows.map((r) => r[0]), ["x", "y", "angle_deg", "half"]);
-  assert.deepEqual(rows.map((r) => r[1].split(" ")[0]), ["number", "number", "number", "category"]);
+  // Kinds by construction of the fixture (make-circle.mjs): three numeric columns, one of two labels.
+  assert.deepEqual(rows.map((r) => r[1]), ["number", "number", "number", "category · 2 values"]);
   assert.deepEqual(rows.map((r) => r[2]), ["0", "0", "0", "0"]);
+  // Ranges: angles are drawn in [0, 360) degrees.
+  const angle = rows[2].slice(3).map((v) => Number(v.replace("−", "-")));
+  assert.ok(angle[0] >= 0 && angle[1] < 360 && angle[0] < angle[1], "angle_deg range " + angle);
   // The category column cannot be a coordinate.
   assert.equal(await page.isDisabled('#columns-body input[data-column="half"]'), true);
 });
@@ -225,7 +229,7 @@ test("text from the file is shown as text, never as markup", async () => {
   const name = '<img src=x id=injected>';
   const info = await page.evaluate((n) => window.nervure.loadCsv(n + ",b\n1,2\n2,3\n3,5\n4,4\n5,1\n6,2\n7,3\n8,1\n", "<b>odd</b>.csv").catch((e) => ({ error: e.message })), name);
   assert.equal(await page.$("#injected"), null, "a column name became an element");
-  const cell = await page.textContent("#columns-body tr td.name");
+  const cell = await page.textContent("#columns-body tr .column-name");
   assert.equal(cell, name);
   assert.ok((await page.textContent("#file-line")).includes("<b>odd</b>.csv"));
   assert.ok(info.columns || info.error, "loadCsv resolved with the table or rejected with a message");

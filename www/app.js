@@ -194,9 +194,11 @@ async function buildNow() {
   state.stale = false;
   state.selected = null;
   state.detail = null;
-  view.setGraph(out.graph, false);
   applyColour(out.colour);
   renderAll();
+  const card = byId("colour-block");
+  view.insetTop = card.hidden ? 0 : card.offsetTop + card.offsetHeight;
+  view.setGraph(out.graph, false);
   return out.summary;
 }
 

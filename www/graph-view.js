@@ -24,6 +24,7 @@ function GraphView(canvas, callbacks) {
   this.drawCount = 0;
   this.pending = false;
   this.fitted = false;     // true until the user pans or zooms: resizes then refit
+  this.insetTop = 0;       // CSS pixels at the top kept clear (the legend sits there)
   this._listen();
   this.resize();
 }
@@ -84,12 +85,13 @@ GraphView.prototype.fit = function () {
   for (const r of this.radii) maxR = Math.max(maxR, r);
   const pad = maxR + 24;
   const w = Math.max(x1 - x0, 1e-9), h = Math.max(y1 - y0, 1e-9);
-  let scale = Math.min((this.width - 2 * pad) / w, (this.height - 2 * pad) / h);
+  const top = Math.max(pad, this.insetTop + 8);
+  let scale = Math.min((this.width - 2 * pad) / w, (this.height - pad - top) / h);
   if (!Number.isFinite(scale) || scale <= 0) scale = 1;
   if (x1 - x0 < 1e-9 && y1 - y0 < 1e-9) scale = 1;
   this.view.scale = scale;
   this.view.x = this.width / 2 - scale * (x0 + x1) / 2;
-  this.view.y = this.height / 2 - scale * (y0 + y1) / 2;
+  this.view.y = top + (this.height - pad - top) / 2 - scale * (y0 + y1) / 2;
   this.fitted = true;
   this.requestDraw();
 };

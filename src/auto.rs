@@ -3,17 +3,22 @@
 //! for exploration, written out in full so they can be read, changed and reproduced.
 //!
 //! The rule:
+//! - fill values: any of -99999, -9999, -999, 9999, 99999 that stands at least 3 times in
+//!   a numeric column and lies far outside that column's other values (beyond the 1st to
+//!   99th percentile range stretched five times each way) is declared a fill value (such
+//!   sentinels are common practice in field data);
 //! - columns: the numeric columns, in file order, that have a value in at least half the
 //!   rows and are not constant, at most 12 (the first 12 such);
 //! - scaling: z-score (columns in different units weigh alike; common practice);
 //! - lens: the first principal component when two or more columns are chosen, else the
 //!   one column;
-//! - cover: round(n^(1/3)) intervals clamped to [4, 15], overlap 0.35;
-//! - clustering: DBSCAN with 5 minimum points and eps = the 90th percentile of the
+//! - cover: round(n^(1/3) / 2) intervals clamped to [5, 12], overlap 0.35;
+//! - clustering: DBSCAN with 5 minimum points and eps = the 98th percentile of the
 //!   distance from a row to its 5th nearest row (itself counted, as DBSCAN counts it),
-//!   over a seeded sample of up to 500 rows, so about nine rows in ten are core points
-//!   of the full data (common practice for choosing eps from the k-distance curve,
-//!   Ester et al. 1996, §4.2).
+//!   over a seeded sample of up to 500 rows, so about 49 rows in 50 are core points of the
+//!   full data (choosing eps from the k-distance curve follows Ester et al. 1996, §4.2; the
+//!   high percentile keeps a first graph from shattering into noise, because a cover
+//!   element's slab loses neighbours near its edges).
 
 use crate::cluster::kdtree::KdTree;
 use crate::error::{Error, Result};
@@ -26,7 +31,7 @@ pub const AUTO_MAX_COLUMNS: usize = 12;
 const MIN_POINTS: usize = 5;
 
 pub fn auto_settings(table: &Table) -> Result<Settings> {
-    let fills: Vec<f64> = Vec::new();
+    let fills = sentinel_fill_values(table);
     let columns: Vec<String> = table
         .columns
         .iter()
@@ -49,7 +54,7 @@ pub fn auto_settings(table: &Table) -> Result<Settings> {
         version: SETTINGS_VERSION,
         columns,
         scaling: Scaling::Zscore,
-        missing: Missing::default(),
+        missing: Missing { fill_values: fills },
         lens,
         cover: CoverSettings { intervals: 10, overlap: 0.35 },
         clustering: Clustering::Dbscan { eps: 1.0, min_points: MIN_POINTS },
@@ -58,10 +63,40 @@ pub fn auto_settings(table: &Table) -> Result<Settings> {
     };
     let pts = build_points(table, &s)?;
     let n = pts.rows.len();
-    s.cover.intervals = ((n as f64).cbrt().round() as usize).clamp(4, 15);
-    let eps = knn_distance_quantile(pts.data.as_slice().expect("contiguous"), pts.data.ncols(), MIN_POINTS, 0.9, 500, s.seed);
+    s.cover.intervals = (((n as f64).cbrt() / 2.0).round() as usize).clamp(5, 12);
+    let eps = knn_distance_quantile(pts.data.as_slice().expect("contiguous"), pts.data.ncols(), MIN_POINTS, 0.98, 500, s.seed);
     s.clustering = Clustering::Dbscan { eps: round_sig(eps.max(1e-9), 3), min_points: MIN_POINTS };
     Ok(s)
+}
+
+/// Sentinels that the table's numeric columns use as "no value"; see the module comment.
+pub fn sentinel_fill_values(table: &Table) -> Vec<f64> {
+    const CANDIDATES: [f64; 5] = [-99999.0, -9999.0, -999.0, 9999.0, 99999.0];
+    let mut found = Vec::new();
+    for col in table.columns.iter().filter_map(|c| c.as_numbers()) {
+        for &v in &CANDIDATES {
+            if found.contains(&v) {
+                continue;
+            }
+            let hits = col.iter().filter(|&&x| x == v).count();
+            if hits < 3 {
+                continue;
+            }
+            let mut rest: Vec<f64> = col.iter().copied().filter(|x| x.is_finite() && !CANDIDATES.contains(x)).collect();
+            if rest.len() < 10 {
+                continue;
+            }
+            rest.sort_by(|a, b| a.partial_cmp(b).unwrap());
+            let q = |f: f64| rest[((rest.len() - 1) as f64 * f).round() as usize];
+            let (lo, hi) = (q(0.01), q(0.99));
+            let span = (hi - lo).max(f64::MIN_POSITIVE);
+            if v < lo - 5.0 * span || v > hi + 5.0 * span {
+                found.push(v);
+            }
+        }
+    }
+    found.sort_by(|a, b| a.partial_cmp(b).unwrap());
+    found
 }
 
 /// The `q` quantile, over a seeded sample of up to `sample` rows, of the distance from a
@@ -115,7 +150,7 @@ mod tests {
         let s = auto_settings(&t).unwrap();
         assert_eq!(s.columns, vec!["x", "y"]);
         assert_eq!(s.lens, Lens::Principal { component: 1 });
-        assert_eq!(s.cover.intervals, 7); // round(300^(1/3)) = round(6.69)
+        assert_eq!(s.cover.intervals, 5); // round(300^(1/3) / 2) = round(3.35), raised to 5
         match s.clustering {
             Clustering::Dbscan { eps, min_points } => {
                 assert_eq!(min_points, 5);
@@ -124,6 +159,21 @@ mod tests {
             _ => panic!("expected DBSCAN"),
         }
         s.validate().unwrap();
+    }
+
+    #[test]
+    fn detects_far_sentinels_but_not_plausible_values() {
+        let mut r = SplitMix64::new(2);
+        let mut a: Vec<f64> = (0..200).map(|_| 20.0 + r.normal()).collect();
+        a[3] = -9999.0;
+        a[50] = -9999.0;
+        a[90] = -9999.0;
+        // -999 here is inside the column's own spread, so it is data, not a sentinel.
+        let b: Vec<f64> = (0..200).map(|i| if i % 50 == 0 { -999.0 } else { -1000.0 + i as f64 * 10.0 }).collect();
+        let t = Table::from_columns("t", vec![Column::number("a", a), Column::number("b", b)]).unwrap();
+        assert_eq!(sentinel_fill_values(&t), vec![-9999.0]);
+        let s = auto_settings(&t).unwrap();
+        assert_eq!(s.missing.fill_values, vec![-9999.0]);
     }
 
     #[test]

@@ -57,7 +57,7 @@ pub struct Missing {
 
 /// The filter (lens) function.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
-#[serde(tag = "kind", rename_all = "camelCase", deny_unknown_fields)]
+#[serde(tag = "kind", rename_all = "camelCase", rename_all_fields = "camelCase", deny_unknown_fields)]
 pub enum Lens {
     /// One column's raw values (any numeric column, chosen or not).
     Column { column: String },
@@ -103,7 +103,7 @@ pub struct CoverSettings {
 
 /// How rows inside one cover element are split into clusters.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
-#[serde(tag = "kind", rename_all = "camelCase", deny_unknown_fields)]
+#[serde(tag = "kind", rename_all = "camelCase", rename_all_fields = "camelCase", deny_unknown_fields)]
 pub enum Clustering {
     /// DBSCAN (Ester, Kriegel, Sander, Xu 1996). `min_points` counts the point itself.
     Dbscan { eps: f64, min_points: usize },
@@ -233,6 +233,17 @@ mod tests {
         v["colour"] = serde_json::json!("red");
         let e = Settings::from_value(v).unwrap_err().to_string();
         assert!(e.contains("colour"), "{e}");
+    }
+
+    #[test]
+    fn field_names_inside_kinds_are_camel_case() {
+        let s = sample();
+        assert!(s.to_json().contains("\"minPoints\": 5"), "{}", s.to_json());
+        let text = r#"{"version":1,"columns":["a"],"scaling":"none","lens":{"kind":"density","bandwidth":null},
+            "cover":{"intervals":3,"overlap":0.2},"clustering":{"kind":"singleLinkage","gapBins":8}}"#;
+        let t = Settings::from_json(text).unwrap();
+        assert_eq!(t.clustering, Clustering::SingleLinkage { gap_bins: 8 });
+        assert_eq!(t.edges.min_shared, 1);
     }
 
     #[test]

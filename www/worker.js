@@ -89,8 +89,11 @@ function handle(engine, msg) {
     case "load": {
       if (msg.file) readFileInto(engine, msg.file, msg.name, progress);
       else readTextInto(engine, msg.text, msg.name, progress);
-      const table = engine.finish_table();
+      engine.finish_table();
       const settings = engine.auto_settings();
+      // The column list counts the automatic fill values as missing, as the build will.
+      const fill = (settings.missing && settings.missing.fillValues) || [];
+      const table = engine.column_summaries(new Float64Array(fill));
       return { value: { table, settings } };
     }
     case "run": {

@@ -160,7 +160,7 @@ test("the column table shows the file's columns and types", async () => {
   assert.deepEqual(rows.map((r) => r[2]), ["0", "0", "0", "0"]);
   // Ranges: angles are drawn in [0, 360) degrees.
   const angle = rows[2].slice(3).map((v) => Number(v.replace("−", "-")));
-  assert.ok(angle[0] >= 0 && angle[1] < 360 && angle[0] < angle[1], "angle_deg range " + angle);
+  assert.ok(angle[0] >= 0 && angle[1] <= 360 && angle[0] < angle[1], "angle_deg range " + angle);  // shown to 4 digits, so 359.99 reads 360
   // The category column cannot be a coordinate.
   assert.equal(await page.isDisabled('#columns-body input[data-column="half"]'), true);
 });
@@ -180,7 +180,7 @@ test("changing the colouring changes the legend and the drawing", async () => {
   // Angles run over [0, 360): node means of angle_deg stay inside that range.
   if (next === "angle_deg") {
     const lo = Number(afterLegend[1].replace("−", "-")), hi = Number(afterLegend[2].replace("−", "-"));
-    assert.ok(lo >= 0 && hi < 360 && lo < hi, `legend range ${lo}..${hi}`);
+    assert.ok(lo >= 0 && hi <= 360 && lo < hi, `legend range ${lo}..${hi}`);
   }
   await page.waitForTimeout(100);
   const canvasAfter = await page.locator("#graph-canvas").screenshot();

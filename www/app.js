@@ -22,6 +22,7 @@ const state = {
   progress: null,          // {label, fraction}
   message: null,           // the last error, as the engine worded it
   timing: { start: 0, tableRead: 0, firstDraw: 0, pendingFirstDraw: false },
+  builds: 0,               // graphs built since the page opened
   lensMemory: {},          // parameters of lens kinds not in use, so switching back restores them
   clusteringMemory: {},
 };
@@ -165,12 +166,16 @@ let rerunTimer = null;
 
 function scheduleBuild() {
   clearTimeout(rerunTimer);
-  rerunTimer = setTimeout(function () { buildNow().catch(function () { /* shown on the page */ }); }, RERUN_DELAY_MS);
+  rerunTimer = setTimeout(function () {
+    rerunTimer = null;
+    buildNow().catch(function () { /* shown on the page */ });
+  }, RERUN_DELAY_MS);
 }
 
 /** Builds the graph for the current settings now. Resolves with its summary. */
 async function buildNow() {
   clearTimeout(rerunTimer);
+  rerunTimer = null;
   if (!state.table) throw new Error("no table is loaded yet; open a CSV file first");
   const seq = ++buildSeq;
   const settings = JSON.parse(JSON.stringify(state.settings));
@@ -189,6 +194,7 @@ async function buildNow() {
   if (seq !== buildSeq) return out.summary;  // a newer build is queued behind this one
   state.phase = "ready";
   state.progress = null;
+  state.builds++;
   state.summary = out.summary;
   state.graph = out.graph;
   state.stale = false;
@@ -700,6 +706,8 @@ window.nervure = Object.freeze({
     const t = state.timing;
     return { tableReadMs: t.tableRead ? t.tableRead - t.start : null, firstGraphMs: t.firstDraw ? t.firstDraw - t.start : null };
   },
+  /** What the page is doing: {phase, builds, pending} (pending: a rebuild is scheduled). */
+  status: function () { return { phase: state.phase, builds: state.builds, pending: rerunTimer !== null }; },
   /** The message shown on the page, or null. */
   message: function () { return state.message; },
 });

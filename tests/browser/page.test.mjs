@@ -151,6 +151,25 @@ test("a file picked with the file input gives the command-line runner's graph", 
   assert.equal(await page.inputValue("#s-eps"), "0.3");
 });
 
+test("a change in the settings form rebuilds the graph by itself", async () => {
+  await loadCircleThroughInput();
+  const before = await page.evaluate(() => window.nervure.status().builds);
+  const intervals = (await page.evaluate(() => window.nervure.settings().cover.intervals)) + 3;
+  await page.fill("#s-intervals", String(intervals));
+  await page.press("#s-intervals", "Tab");
+  await page.waitForFunction((b) => { const s = window.nervure.status(); return s.builds > b && !s.pending && s.phase === "ready"; }, before, { timeout: 60000 });
+  const settings = await page.evaluate(() => window.nervure.settings());
+  assert.equal(settings.cover.intervals, intervals);
+  // One column fewer: untick angle_deg.
+  assert.ok(settings.columns.includes("angle_deg"), "the automatic settings use every numeric column of the circle");
+  const builds = await page.evaluate(() => window.nervure.status().builds);
+  await page.uncheck('#columns-body input[data-column="angle_deg"]');
+  await page.waitForFunction((b) => { const s = window.nervure.status(); return s.builds > b && !s.pending && s.phase === "ready"; }, builds, { timeout: 60000 });
+  const after = await page.evaluate(() => window.nervure.settings());
+  assert.deepEqual(after.columns, settings.columns.filter((c) => c !== "angle_deg"));
+  assert.deepEqual(await page.evaluate(() => window.nervure.summary()), cliSummary(circleCsv, after));
+});
+
 test("the column table shows the file's columns and types", async () => {
   await loadCircleThroughInput();
   const rows = await page.$$eval("#columns-body tr", (trs) => trs.map((tr) => [tr.querySelector(".column-name").textContent, tr.querySelector(".kind").textContent, ...Array.from(tr.cells).slice(2).map((c) => c.textContent)]));

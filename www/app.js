@@ -101,9 +101,24 @@ const STAGE_LABELS = {
   layout: "Laying out the graph",
 };
 
-function progressHandler(prefix) {
+/** Share of a build's bar each stage takes, in stage order (rough, for a steady bar). */
+const STAGE_SHARES = [["points", 0.05], ["lens", 0.15], ["cover", 0.05], ["clusters", 0.6], ["graph", 0.1], ["layout", 0.05]];
+
+function overallFraction(stage, fraction) {
+  let before = 0;
+  for (const [name, share] of STAGE_SHARES) {
+    if (name === stage) return before + share * fraction;
+    before += share;
+  }
+  return fraction;
+}
+
+function progressHandler(building) {
   return function (stage, fraction) {
-    state.progress = { label: (prefix ? prefix + ": " : "") + (STAGE_LABELS[stage] || stage), fraction };
+    const label = STAGE_LABELS[stage] || stage;
+    state.progress = building && stage !== "reading"
+      ? { label: "Building: " + label.charAt(0).toLowerCase() + label.slice(1), fraction: overallFraction(stage, fraction) }
+      : { label, fraction };
     renderProgress();
   };
 }
@@ -123,7 +138,7 @@ async function loadTable(source) {
   renderAll();
   let loaded;
   try {
-    loaded = await engine.request("load", source, progressHandler(null));
+    loaded = await engine.request("load", source, progressHandler(false));
   } catch (e) {
     if (seq === loadSeq) fail(e.message);
     throw e;
@@ -172,12 +187,20 @@ function scheduleBuild() {
   }, RERUN_DELAY_MS);
 }
 
-/** Builds the graph for the current settings now. Resolves with its summary. */
-async function buildNow() {
+let latestBuild = null;
+
+/** Builds the graph for the current settings now. Resolves with its summary; a build
+ *  overtaken by a newer one resolves as the newer one does. */
+function buildNow() {
   clearTimeout(rerunTimer);
   rerunTimer = null;
-  if (!state.table) throw new Error("no table is loaded yet; open a CSV file first");
+  if (!state.table) return Promise.reject(new Error("no table is loaded yet; open a CSV file first"));
   const seq = ++buildSeq;
+  latestBuild = build(seq);
+  return latestBuild;
+}
+
+async function build(seq) {
   const settings = JSON.parse(JSON.stringify(state.settings));
   state.phase = "building";
   state.message = null;
@@ -186,12 +209,13 @@ async function buildNow() {
   renderMessage();
   let out;
   try {
-    out = await engine.request("run", { settings, colour: state.colour.column ? { column: state.colour.column, stat: state.colour.stat } : null }, progressHandler("Building"));
+    out = await engine.request("run", { settings, colour: state.colour.column ? { column: state.colour.column, stat: state.colour.stat } : null }, progressHandler(true));
   } catch (e) {
-    if (seq === buildSeq) fail(e.message);
+    if (seq !== buildSeq) return latestBuild;
+    fail(e.message);
     throw e;
   }
-  if (seq !== buildSeq) return out.summary;  // a newer build is queued behind this one
+  if (seq !== buildSeq) return latestBuild;  // a newer build was asked for meanwhile
   state.phase = "ready";
   state.progress = null;
   state.builds++;

@@ -97,6 +97,8 @@ function handle(engine, msg) {
       return { value: { table, settings } };
     }
     case "run": {
+      // A newer run is already waiting: skip this one, its settings are out of date.
+      if (msg.id !== latestRun) return { value: { superseded: true } };
       const summary = engine.run(msg.settings, progress);
       const graph = graphMessage(engine);
       let colour = null;
@@ -124,8 +126,12 @@ function handle(engine, msg) {
 /** Requests run one at a time, in arrival order. */
 let queue = Promise.resolve();
 
+/** Id of the last run asked for. */
+let latestRun = 0;
+
 self.onmessage = function (event) {
   const msg = event.data;
+  if (msg.type === "run") latestRun = msg.id;
   queue = queue.then(async function () {
     let engine;
     try {

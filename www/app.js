@@ -207,6 +207,7 @@ async function build(seq) {
   state.progress = { label: "Building", fraction: 0 };
   renderProgress();
   renderMessage();
+  renderChrome();
   let out;
   try {
     out = await engine.request("run", { settings, colour: state.colour.column ? { column: state.colour.column, stat: state.colour.stat } : null }, progressHandler(true));
@@ -491,7 +492,7 @@ function renderSummary() {
   const s = state.summary;
   line.textContent = "";
   if (!s) {
-    line.textContent = state.table ? "Building the first graph…" : "Open a table to see its graph.";
+    line.textContent = state.table ? "\u00a0" : "Open a table to see its graph.";
     byId("summary-rows").hidden = true;
     caution.hidden = true;
     return;
@@ -587,7 +588,10 @@ function renderDetail() {
 }
 
 function renderChrome() {
-  byId("empty-hint").hidden = !!state.graph || state.phase === "reading" || state.phase === "building";
+  const working = state.phase === "reading" || state.phase === "building";
+  byId("empty-hint").hidden = !!state.graph;
+  byId("empty-hint-title").textContent = working ? (state.phase === "reading" ? "Reading the file…" : "Building the first graph…") : "No graph yet.";
+  byId("empty-hint-text").hidden = working;
   byId("view-help").hidden = !state.graph;
   byId("save-settings").disabled = !state.settings;
   byId("save-picture").disabled = !state.graph;

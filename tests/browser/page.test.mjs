@@ -244,6 +244,19 @@ test("a bad setting is refused with the engine's message, shown on the page", as
   assert.ok(await page.isVisible("#message"));
 });
 
+test("a malformed file is refused with the engine's message, through the input and the hook", async () => {
+  // ragged.csv: data row 2 has two fields under a three-column header.
+  await page.setInputFiles("#file-input", join(here, "fixtures", "ragged.csv"));
+  await page.waitForSelector("#message:not([hidden])");
+  const shown = await page.textContent("#message");
+  assert.match(shown, /data row 2/);
+  assert.equal(await page.evaluate(() => window.nervure.summary()), null);
+  const text = readFileSync(join(here, "fixtures", "ragged.csv"), "utf8");
+  const rejected = await page.evaluate((t) => window.nervure.loadCsv(t, "ragged.csv").then(() => null, (e) => e.message), text);
+  assert.equal(rejected, shown);
+  assert.equal(await page.textContent("#message"), rejected);
+});
+
 test("text from the file is shown as text, never as markup", async () => {
   const name = '<img src=x id=injected>';
   const info = await page.evaluate((n) => window.nervure.loadCsv(n + ",b\n1,2\n2,3\n3,5\n4,4\n5,1\n6,2\n7,3\n8,1\n", "<b>odd</b>.csv").catch((e) => ({ error: e.message })), name);

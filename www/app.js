@@ -577,7 +577,8 @@ function renderDetail() {
     tr.append(th);
     if (c.kind === "number") tr.append(el("td", "num", formatNumber(c.mean)), el("td", "num", formatNumber(c.min)), el("td", "num", formatNumber(c.max)));
     else {
-      const share = c.topShare === null || c.topShare === undefined ? "" : " (" + Math.round(100 * c.topShare) + " %)";
+      const pct = c.topShare === null || c.topShare === undefined ? null : 100 * c.topShare;
+      const share = pct === null ? "" : " (" + (pct > 0 && pct < 0.5 ? "under 1" : Math.round(pct)) + " %)";
       const td = el("td", "top", c.top === null || c.top === undefined ? "—" : "mostly “" + c.top + "”" + share);
       td.colSpan = 3;
       tr.append(td);

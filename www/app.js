@@ -1,0 +1,748 @@
+/* app.js: the page's one state object, the render functions that read it, the events that
+ * change it, the conversation with the engine's worker, and the `window.nervure` scripting
+ * hook. It computes nothing about the data: every number shown comes from the engine.
+ *
+ * Every path into the page (drop, file button, demo button, window.nervure) goes through
+ * the same functions, so a script sees exactly what a person sees, errors included.
+ */
+
+/** Wait after the last settings change before building again. */
+const RERUN_DELAY_MS = 350;
+
+const state = {
+  phase: "empty",          // "empty" | "reading" | "building" | "ready" | "failed"
+  table: null,             // {name, rows, columns: [ColumnSummary]}
+  settings: null,          // the settings document, as the engine reads it
+  summary: null,           // the last build's summary
+  graph: null,             // typed arrays from the engine
+  stale: false,            // the graph on screen does not match the settings (last build failed)
+  colour: { column: null, stat: "mean", values: null, min: NaN, max: NaN },
+  selected: null,
+  detail: null,
+  progress: null,          // {label, fraction}
+  message: null,           // the last error, as the engine worded it
+  timing: { start: 0, tableRead: 0, firstDraw: 0, pendingFirstDraw: false },
+  builds: 0,               // graphs built since the page opened
+  lensMemory: {},          // parameters of lens kinds not in use, so switching back restores them
+  clusteringMemory: {},
+};
+
+/* ---------------------------------------------------------------- worker */
+
+const engine = (function () {
+  let worker = null;
+  let nextId = 1;
+  const waiting = new Map();
+
+  function start() {
+    const source = byId("nervure-worker-source").textContent;
+    const url = URL.createObjectURL(new Blob([source], { type: "text/javascript" }));
+    worker = new Worker(url);
+    URL.revokeObjectURL(url);
+    worker.onmessage = function (event) {
+      const msg = event.data;
+      const w = waiting.get(msg.id);
+      if (!w) return;
+      if (msg.type === "progress") { if (w.onProgress) w.onProgress(msg.stage, msg.fraction); return; }
+      waiting.delete(msg.id);
+      if (msg.type === "result") w.resolve(msg.value);
+      else {
+        if (msg.fatal) restart();
+        w.reject(new Error(msg.message));
+      }
+    };
+    worker.onerror = function (event) {
+      event.preventDefault();
+      const message = "The engine stopped unexpectedly" + (event.message ? " (" + event.message + ")" : "") + ". Please open the file again.";
+      restart();
+      for (const w of waiting.values()) w.reject(new Error(message));
+      waiting.clear();
+    };
+  }
+
+  function restart() {
+    if (worker) worker.terminate();
+    start();
+    onEngineLost();
+  }
+
+  function request(type, payload, onProgress) {
+    if (!worker) start();
+    const id = nextId++;
+    return new Promise(function (resolve, reject) {
+      waiting.set(id, { resolve, reject, onProgress });
+      worker.postMessage(Object.assign({ id, type }, payload || {}));
+    });
+  }
+
+  return { request, start };
+})();
+
+function onEngineLost() {
+  // A fresh engine holds no table: the page goes back to its start, saying why.
+  state.table = null;
+  state.graph = null;
+  state.summary = null;
+  state.settings = null;
+  state.phase = "failed";
+  view.setGraph(null);
+  renderAll();
+}
+
+/* ---------------------------------------------------------------- loading */
+
+const STAGE_LABELS = {
+  reading: "Reading the file",
+  points: "Preparing the points",
+  lens: "Computing the lens",
+  cover: "Covering the lens range",
+  clusters: "Clustering each interval",
+  graph: "Joining clusters that share rows",
+  layout: "Laying out the graph",
+};
+
+/** Share of a build's bar each stage takes, in stage order (rough, for a steady bar). */
+const STAGE_SHARES = [["points", 0.05], ["lens", 0.15], ["cover", 0.05], ["clusters", 0.6], ["graph", 0.1], ["layout", 0.05]];
+
+function overallFraction(stage, fraction) {
+  let before = 0;
+  for (const [name, share] of STAGE_SHARES) {
+    if (name === stage) return before + share * fraction;
+    before += share;
+  }
+  return fraction;
+}
+
+function progressHandler(building) {
+  return function (stage, fraction) {
+    const label = STAGE_LABELS[stage] || stage;
+    state.progress = building && stage !== "reading"
+      ? { label: "Building: " + label.charAt(0).toLowerCase() + label.slice(1), fraction: overallFraction(stage, fraction) }
+      : { label, fraction };
+    renderProgress();
+  };
+}
+
+let loadSeq = 0;
+
+/** Reads a table (a File, or text with a name), then builds its first graph with the
+ *  engine's automatic settings. Resolves with the table's description. */
+async function loadTable(source) {
+  const seq = ++loadSeq;
+  state.timing = { start: performance.now(), tableRead: 0, firstDraw: 0, pendingFirstDraw: true };
+  state.phase = "reading";
+  state.message = null;
+  state.selected = null;
+  state.detail = null;
+  state.progress = { label: "Reading the file", fraction: 0 };
+  renderAll();
+  let loaded;
+  try {
+    loaded = await engine.request("load", source, progressHandler(false));
+  } catch (e) {
+    if (seq === loadSeq) fail(e.message);
+    throw e;
+  }
+  if (seq !== loadSeq) throw new Error("another file was opened meanwhile");
+  state.timing.tableRead = performance.now();
+  state.table = loaded.table;
+  state.settings = loaded.settings;
+  state.summary = null;
+  state.graph = null;
+  state.lensMemory = {};
+  state.clusteringMemory = {};
+  state.colour = { column: defaultColourColumn(), stat: "mean", values: null, min: NaN, max: NaN };
+  view.setGraph(null);
+  renderAll();
+  await buildNow();
+  return state.table;
+}
+
+function loadFile(file) {
+  return loadTable({ file, name: file.name });
+}
+
+function loadText(text, name) {
+  return loadTable({ text: String(text), name: name || "table.csv" });
+}
+
+function fail(message) {
+  state.message = message;
+  state.progress = null;
+  state.phase = state.table ? "ready" : "failed";
+  if (state.graph) state.stale = true;
+  renderAll();
+}
+
+/* ---------------------------------------------------------------- building */
+
+let buildSeq = 0;
+let rerunTimer = null;
+
+function scheduleBuild() {
+  clearTimeout(rerunTimer);
+  rerunTimer = setTimeout(function () {
+    rerunTimer = null;
+    buildNow().catch(function () { /* shown on the page */ });
+  }, RERUN_DELAY_MS);
+}
+
+let latestBuild = null;
+
+/** Builds the graph for the current settings now. Resolves with its summary; a build
+ *  overtaken by a newer one resolves as the newer one does. */
+function buildNow() {
+  clearTimeout(rerunTimer);
+  rerunTimer = null;
+  if (!state.table) return Promise.reject(new Error("no table is loaded yet; open a CSV file first"));
+  const seq = ++buildSeq;
+  latestBuild = build(seq);
+  return latestBuild;
+}
+
+async function build(seq) {
+  const settings = JSON.parse(JSON.stringify(state.settings));
+  state.phase = "building";
+  state.message = null;
+  state.progress = { label: "Building", fraction: 0 };
+  renderProgress();
+  renderMessage();
+  renderChrome();
+  let out;
+  try {
+    out = await engine.request("run", { settings, colour: state.colour.column ? { column: state.colour.column, stat: state.colour.stat } : null }, progressHandler(true));
+  } catch (e) {
+    if (seq !== buildSeq) return latestBuild;
+    fail(e.message);
+    throw e;
+  }
+  if (seq !== buildSeq) return latestBuild;  // a newer build was asked for meanwhile
+  state.phase = "ready";
+  state.progress = null;
+  state.builds++;
+  state.summary = out.summary;
+  state.graph = out.graph;
+  state.stale = false;
+  state.selected = null;
+  state.detail = null;
+  applyColour(out.colour);
+  renderAll();
+  const card = byId("colour-block");
+  view.insetTop = card.hidden ? 0 : card.offsetTop + card.offsetHeight;
+  view.setGraph(out.graph, false);
+  return out.summary;
+}
+
+function applyColour(colour) {
+  if (!colour) {
+    state.colour.values = null;
+    state.colour.min = state.colour.max = NaN;
+    view.setFills(null);
+    return;
+  }
+  let lo = Infinity, hi = -Infinity;
+  for (const v of colour.values) if (Number.isFinite(v)) { lo = Math.min(lo, v); hi = Math.max(hi, v); }
+  state.colour.column = colour.column;
+  state.colour.values = colour.values;
+  state.colour.min = lo === Infinity ? NaN : lo;
+  state.colour.max = hi === -Infinity ? NaN : hi;
+  const span = hi - lo;
+  const fills = new Array(colour.values.length);
+  for (let i = 0; i < fills.length; i++) {
+    const v = colour.values[i];
+    fills[i] = colourAt(Number.isFinite(v) ? (span > 0 ? (v - lo) / span : 0.5) : NaN);
+  }
+  view.setFills(fills);
+}
+
+async function setColourColumn(column) {
+  const known = numericColumns().indexOf(column) >= 0;
+  if (!known) throw new Error("cannot colour by '" + column + "': it is not a numeric column of this table");
+  state.colour.column = column;
+  renderColourControls();
+  if (!state.graph) return;
+  try {
+    const colour = await engine.request("colour", { column, stat: state.colour.stat });
+    if (state.colour.column !== column) return;
+    applyColour(colour);
+    renderLegend();
+    if (state.selected !== null) renderDetail();
+  } catch (e) {
+    fail(e.message);
+    throw e;
+  }
+}
+
+async function selectNode(i) {
+  state.selected = i;
+  state.detail = null;
+  view.setSelected(i);
+  renderDetail();
+  if (i === null) return null;
+  try {
+    const detail = await engine.request("detail", { node: i });
+    if (state.selected !== i) return detail;
+    state.detail = detail;
+    renderDetail();
+    return detail;
+  } catch (e) {
+    fail(e.message);
+    throw e;
+  }
+}
+
+/* ---------------------------------------------------------------- settings */
+
+function numericColumns() {
+  return state.table ? state.table.columns.filter((c) => c.kind === "number").map((c) => c.name) : [];
+}
+
+function defaultColourColumn() {
+  const numeric = numericColumns();
+  if (state.settings && state.settings.lens && state.settings.lens.kind === "column" && numeric.indexOf(state.settings.lens.column) >= 0) return state.settings.lens.column;
+  const used = state.settings ? state.settings.columns.filter((c) => numeric.indexOf(c) >= 0) : [];
+  return used[0] || numeric[0] || null;
+}
+
+/** Replaces the settings after the engine has checked them; rebuilds after a pause. */
+async function applySettings(candidate) {
+  if (!state.table) throw new Error("no table is loaded yet; open a CSV file first");
+  let checked;
+  try {
+    checked = await engine.request("check", { settings: candidate });
+  } catch (e) {
+    fail(e.message);
+    throw e;
+  }
+  const fillChanged = JSON.stringify((checked.missing || {}).fillValues || []) !== JSON.stringify(((state.settings || {}).missing || {}).fillValues || []);
+  state.settings = checked;
+  state.message = null;
+  renderSettings();
+  renderMessage();
+  if (fillChanged) await refreshColumnSummaries();
+  scheduleBuild();
+  return JSON.parse(JSON.stringify(checked));
+}
+
+async function refreshColumnSummaries() {
+  const fill = (state.settings.missing && state.settings.missing.fillValues) || [];
+  const info = await engine.request("summaries", { fillValues: fill });
+  state.table = info;
+  renderColumns();
+}
+
+/** Reads the form into a copy of the settings (fields the form does not show are kept). */
+function settingsFromForm() {
+  const s = JSON.parse(JSON.stringify(state.settings));
+  s.columns = Array.from(document.querySelectorAll("#columns-body input[type=checkbox]:checked")).map((c) => c.dataset.column);
+  s.scaling = byId("s-scaling").value;
+  s.missing = { fillValues: parseNumberList(byId("s-fill").value) };
+
+  const kind = byId("s-lens").value;
+  if (s.lens.kind !== kind) {
+    state.lensMemory[s.lens.kind] = s.lens;
+    s.lens = state.lensMemory[kind] || defaultLens(kind);
+  } else if (kind === "principal") s.lens = { kind, component: intValue("s-component") };
+  else if (kind === "column") s.lens = { kind, column: byId("s-lens-column").value };
+  else if (kind === "density") s.lens = { kind, bandwidth: byId("s-bandwidth").value.trim() === "" ? null : Number(byId("s-bandwidth").value) };
+  else if (kind === "eccentricity") s.lens = { kind, norm: byId("s-norm").value };
+
+  s.cover = { intervals: intValue("s-intervals"), overlap: Number(byId("s-overlap").value) };
+
+  const ck = byId("s-clustering").value;
+  if (s.clustering.kind !== ck) {
+    state.clusteringMemory[s.clustering.kind] = s.clustering;
+    s.clustering = state.clusteringMemory[ck] || (ck === "dbscan" ? { kind: ck, eps: 0.5, minPoints: 5 } : { kind: ck, gapBins: 10 });
+  } else if (ck === "dbscan") s.clustering = { kind: ck, eps: Number(byId("s-eps").value), minPoints: intValue("s-minpoints") };
+  else s.clustering = { kind: ck, gapBins: intValue("s-gapbins") };
+
+  s.edges = { minShared: intValue("s-minshared") };
+  return s;
+}
+
+function intValue(id) {
+  const v = Number(byId(id).value);
+  return Number.isFinite(v) ? Math.round(v) : 0;
+}
+
+function defaultLens(kind) {
+  if (kind === "principal") return { kind, component: 1 };
+  if (kind === "column") return { kind, column: numericColumns()[0] || "" };
+  if (kind === "density") return { kind, bandwidth: null };
+  return { kind: "eccentricity", norm: "rms" };
+}
+
+function onFormChange() {
+  if (!state.settings) return;
+  let next;
+  try {
+    next = settingsFromForm();
+  } catch (e) {
+    fail(e.message);
+    return;
+  }
+  applySettings(next).catch(function () { /* shown on the page */ });
+}
+
+/* ---------------------------------------------------------------- rendering */
+
+function renderAll() {
+  renderData();
+  renderColumns();
+  renderSettings();
+  renderSummary();
+  renderColourControls();
+  renderLegend();
+  renderProgress();
+  renderMessage();
+  renderDetail();
+  renderChrome();
+}
+
+function renderData() {
+  const line = byId("file-line");
+  if (state.table) {
+    line.hidden = false;
+    line.textContent = "";
+    line.append(el("strong", null, state.table.name), document.createTextNode(" · " + plural(state.table.rows, "row", "rows") + " · " + plural(state.table.columns.length, "column", "columns")));
+  } else line.hidden = true;
+  byId("drop-zone").classList.toggle("compact", !!state.table);
+}
+
+function renderColumns() {
+  const wrap = byId("columns-wrap");
+  const body = byId("columns-body");
+  body.textContent = "";
+  if (!state.table) { wrap.hidden = true; return; }
+  wrap.hidden = false;
+  const used = new Set(state.settings ? state.settings.columns : []);
+  for (const c of state.table.columns) {
+    const tr = el("tr");
+    const tdUse = el("td", "use");
+    const box = el("input");
+    box.type = "checkbox";
+    box.dataset.column = c.name;
+    box.checked = used.has(c.name);
+    box.disabled = c.kind !== "number";
+    box.setAttribute("aria-label", "Use column " + c.name);
+    if (c.kind !== "number") box.title = "Only numeric columns can be coordinates";
+    tdUse.append(box);
+    // Name on the first line, detected kind under it.
+    const tdName = el("td", "name");
+    tdName.append(el("span", "column-name", c.name));
+    const kind = el("span", "kind", c.kind === "number" ? "number" : "category");
+    if (c.kind !== "number" && c.levels !== null && c.levels !== undefined) kind.textContent += " · " + plural(c.levels, "value", "values");
+    tdName.append(kind);
+    tdName.title = c.name + (c.kind === "number" ? " (numbers)" : " (text values)");
+    if (c.firstText) tdName.title += "; read as text because data row " + c.firstText.row + " holds “" + c.firstText.text + "”";
+    const tdMissing = el("td", "num" + (c.missing > 0 ? " has-missing" : ""), formatCount(c.missing));
+    tr.append(tdUse, tdName, tdMissing, el("td", "num", formatNumber(c.min)), el("td", "num", formatNumber(c.max)));
+    tr.classList.toggle("unused", !box.checked);
+    body.append(tr);
+  }
+}
+
+function setOptions(select, options, value) {
+  select.textContent = "";
+  for (const [v, label] of options) {
+    const o = el("option", null, label);
+    o.value = v;
+    select.append(o);
+  }
+  if (value !== undefined && value !== null) select.value = value;
+}
+
+function renderSettings() {
+  const panel = byId("settings-panel");
+  const s = state.settings;
+  if (!s) { panel.hidden = true; return; }
+  panel.hidden = false;
+  const active = document.activeElement;
+  const put = (id, value) => { const e = byId(id); if (e !== active) e.value = value === undefined || value === null ? "" : value; };
+
+  put("s-scaling", s.scaling);
+  put("s-fill", ((s.missing && s.missing.fillValues) || []).join(", "));
+  put("s-lens", s.lens.kind);
+  if (s.lens.kind === "principal") put("s-component", s.lens.component);
+  const numeric = numericColumns();
+  setOptions(byId("s-lens-column"), numeric.map((n) => [n, n]), s.lens.kind === "column" ? s.lens.column : undefined);
+  if (s.lens.kind === "density") put("s-bandwidth", s.lens.bandwidth === null || s.lens.bandwidth === undefined ? "" : s.lens.bandwidth);
+  if (s.lens.kind === "eccentricity") put("s-norm", s.lens.norm || "rms");
+  for (const e of document.querySelectorAll("[data-lens]")) e.hidden = e.dataset.lens !== s.lens.kind;
+
+  put("s-intervals", s.cover.intervals);
+  put("s-overlap", s.cover.overlap);
+  byId("s-overlap-out").textContent = Math.round(s.cover.overlap * 100) + " %";
+
+  put("s-clustering", s.clustering.kind);
+  if (s.clustering.kind === "dbscan") { put("s-eps", s.clustering.eps); put("s-minpoints", s.clustering.minPoints); }
+  else put("s-gapbins", s.clustering.gapBins);
+  for (const e of document.querySelectorAll("[data-clustering]")) e.hidden = e.dataset.clustering !== s.clustering.kind;
+  put("s-minshared", (s.edges && s.edges.minShared) || 1);
+
+  for (const box of document.querySelectorAll("#columns-body input[type=checkbox]")) {
+    box.checked = s.columns.indexOf(box.dataset.column) >= 0;
+    box.closest("tr").classList.toggle("unused", !box.checked);
+  }
+}
+
+function renderSummary() {
+  const line = byId("summary-line");
+  const caution = byId("caution");
+  const s = state.summary;
+  line.textContent = "";
+  if (!s) {
+    line.textContent = state.table ? "\u00a0" : "Open a table to see its graph.";
+    byId("summary-rows").hidden = true;
+    caution.hidden = true;
+    return;
+  }
+  const shape = [
+    plural(s.nodes, "node", "nodes"),
+    plural(s.edges, "edge", "edges"),
+    plural(s.components, "component", "components"),
+    plural(s.loops, "loop", "loops"),
+  ];
+  shape.forEach(function (p, k) {
+    if (k > 0) line.append(el("span", "sep", "·"));
+    line.append(el("span", "fact", p));
+  });
+  const rows = [plural(s.rows, "row used", "rows used"), plural(s.rowsLeftOut, "row left out", "rows left out")];
+  if (s.noiseRows > 0) rows.push(plural(s.noiseRows, "row in no cluster", "rows in no cluster"));
+  const rowLine = byId("summary-rows");
+  rowLine.textContent = rows.join(" · ");
+  rowLine.hidden = false;
+  if (s.rowsLeftOut > 0 && s.leftOutByColumn && s.leftOutByColumn.length) {
+    line.title = "Rows left out for missing values: " + s.leftOutByColumn.map((p) => p[0] + " " + p[1]).join(", ");
+  } else line.removeAttribute("title");
+  if (state.stale) line.append(el("span", "stale-note", "(graph not updated: see the message)"));
+  caution.hidden = false;
+}
+
+function renderColourControls() {
+  const block = byId("colour-block");
+  if (!state.table) { block.hidden = true; return; }
+  block.hidden = false;
+  const numeric = numericColumns();
+  setOptions(byId("colour-select"), numeric.map((n) => [n, n]), state.colour.column);
+}
+
+function renderLegend() {
+  const legend = byId("legend");
+  const has = state.colour.values && state.graph;
+  legend.hidden = !has;
+  if (!has) return;
+  byId("legend-title").textContent = "Mean of " + state.colour.column + " in each node";
+  byId("legend-min").textContent = formatNumber(state.colour.min);
+  byId("legend-max").textContent = formatNumber(state.colour.max);
+  byId("legend-bar").style.backgroundImage = cividisGradient();
+}
+
+function renderProgress() {
+  const box = byId("progress");
+  const p = state.progress;
+  box.hidden = !p;
+  if (!p) return;
+  byId("progress-label").textContent = p.label + " · " + Math.round(100 * Math.max(0, Math.min(1, p.fraction))) + " %";
+  byId("progress-fill").style.width = (100 * Math.max(0, Math.min(1, p.fraction))).toFixed(1) + "%";
+}
+
+function renderMessage() {
+  const m = byId("message");
+  m.hidden = !state.message;
+  m.textContent = state.message || "";
+}
+
+function renderDetail() {
+  const box = byId("detail");
+  const i = state.selected;
+  if (i === null || !state.graph) { box.hidden = true; return; }
+  box.hidden = false;
+  const d = state.detail;
+  byId("detail-title").textContent = "Node " + i;
+  const size = state.graph.nodeSizes[i];
+  const sub = byId("detail-sub");
+  const facts = [plural(d ? d.size : size, "row", "rows")];
+  if (d) facts.push(plural(d.degree, "edge", "edges"));
+  facts.push("lens interval " + ((d ? d.element : state.graph.nodeElements[i]) + 1) + (d && d.interval ? " [" + formatNumber(d.interval[0]) + ", " + formatNumber(d.interval[1]) + "]" : ""));
+  sub.textContent = facts.join(" · ");
+  const body = byId("detail-stats");
+  body.textContent = "";
+  const rows = byId("detail-rows");
+  if (!d) { rows.textContent = "…"; return; }
+  for (const c of d.columns) {
+    const tr = el("tr");
+    const th = el("th", null, c.name);
+    th.title = c.name;
+    tr.append(th);
+    if (c.kind === "number") tr.append(el("td", "num", formatNumber(c.mean)), el("td", "num", formatNumber(c.min)), el("td", "num", formatNumber(c.max)));
+    else {
+      const pct = c.topShare === null || c.topShare === undefined ? null : 100 * c.topShare;
+      const share = pct === null ? "" : " (" + (pct > 0 && pct < 0.5 ? "under 1" : Math.round(pct)) + " %)";
+      const td = el("td", "top", c.top === null || c.top === undefined ? "—" : "mostly “" + c.top + "”" + share);
+      td.colSpan = 3;
+      tr.append(td);
+    }
+    body.append(tr);
+  }
+  rows.textContent = d.rows.join(", ") + (d.size > d.rows.length ? ", … (" + formatCount(d.size - d.rows.length) + " more)" : "");
+}
+
+function renderChrome() {
+  const working = state.phase === "reading" || state.phase === "building";
+  byId("empty-hint").hidden = !!state.graph;
+  byId("empty-hint-title").textContent = working ? (state.phase === "reading" ? "Reading the file…" : "Building the first graph…") : "No graph yet.";
+  byId("empty-hint-text").hidden = working;
+  byId("view-help").hidden = !state.graph;
+  byId("save-settings").disabled = !state.settings;
+  byId("save-picture").disabled = !state.graph;
+  byId("canvas-wrap").classList.toggle("stale", state.stale);
+}
+
+/* ---------------------------------------------------------------- the view */
+
+const tooltip = byId("tooltip");
+
+const view = new GraphView(byId("graph-canvas"), {
+  onHover: function (i, x, y) {
+    if (i === null || !state.graph) { tooltip.hidden = true; return; }
+    tooltip.hidden = false;
+    tooltip.style.left = "0px";   // measure at full width
+    tooltip.textContent = "";
+    tooltip.append(el("strong", null, "Node " + i), el("span", null, plural(state.graph.nodeSizes[i], "row", "rows")));
+    if (state.colour.values) tooltip.append(el("span", null, "mean " + state.colour.column + ": " + formatNumber(state.colour.values[i])));
+    const wrap = byId("canvas-wrap").getBoundingClientRect();
+    const left = Math.min(x + 16, wrap.width - tooltip.offsetWidth - 8);
+    const top = y + 16 + tooltip.offsetHeight > wrap.height ? y - tooltip.offsetHeight - 12 : y + 16;
+    tooltip.style.left = Math.max(4, left) + "px";
+    tooltip.style.top = Math.max(4, top) + "px";
+  },
+  onSelect: function (i) {
+    selectNode(i).catch(function () { /* shown on the page */ });
+  },
+  onDraw: function () {
+    if (state.timing.pendingFirstDraw && state.graph) {
+      state.timing.pendingFirstDraw = false;
+      state.timing.firstDraw = performance.now();
+    }
+  },
+});
+
+new ResizeObserver(function () { tooltip.hidden = true; view.resize(); }).observe(byId("canvas-wrap"));
+
+/* ---------------------------------------------------------------- events */
+
+function download(name, blob) {
+  const a = el("a");
+  a.href = URL.createObjectURL(blob);
+  a.download = name;
+  document.body.append(a);
+  a.click();
+  a.remove();
+  setTimeout(function () { URL.revokeObjectURL(a.href); }, 1000);
+}
+
+function baseName() {
+  return state.table ? state.table.name.replace(/\.[^.]*$/, "") : "nervure";
+}
+
+function wire() {
+  const input = byId("file-input");
+  input.addEventListener("change", function () {
+    const file = input.files && input.files[0];
+    if (file) loadFile(file).catch(function () { /* shown on the page */ });
+    input.value = "";
+  });
+
+  const demo = document.getElementById("nervure-demo");
+  const demoButton = byId("demo-button");
+  demoButton.hidden = !demo;
+  if (demo) byId("empty-hint-text").textContent = "Choose a CSV file, drop one on this page, or try the demo.";
+  demoButton.addEventListener("click", function () {
+    loadText(demo.textContent, demo.dataset.name || "demo.csv").catch(function () { /* shown on the page */ });
+  });
+
+  const zone = byId("drop-zone");
+  let depth = 0;
+  document.addEventListener("dragenter", function (ev) { ev.preventDefault(); depth++; zone.classList.add("over"); });
+  document.addEventListener("dragleave", function () { depth = Math.max(0, depth - 1); if (depth === 0) zone.classList.remove("over"); });
+  document.addEventListener("dragover", function (ev) { ev.preventDefault(); });
+  document.addEventListener("drop", function (ev) {
+    ev.preventDefault();
+    depth = 0;
+    zone.classList.remove("over");
+    const file = ev.dataTransfer && ev.dataTransfer.files && ev.dataTransfer.files[0];
+    if (file) loadFile(file).catch(function () { /* shown on the page */ });
+  });
+  zone.addEventListener("keydown", function (ev) {
+    if (ev.key === "Enter" || ev.key === " ") { ev.preventDefault(); input.click(); }
+  });
+
+  const form = byId("settings-form");
+  form.addEventListener("submit", function (ev) { ev.preventDefault(); });
+  form.addEventListener("change", onFormChange);
+  byId("s-overlap").addEventListener("input", function () {
+    byId("s-overlap-out").textContent = Math.round(Number(byId("s-overlap").value) * 100) + " %";
+  });
+  byId("columns-body").addEventListener("change", onFormChange);
+
+  byId("colour-select").addEventListener("change", function () {
+    setColourColumn(byId("colour-select").value).catch(function () { /* shown on the page */ });
+  });
+  byId("detail-close").addEventListener("click", function () { selectNode(null); });
+  document.addEventListener("keydown", function (ev) { if (ev.key === "Escape" && state.selected !== null) selectNode(null); });
+
+  byId("save-settings").addEventListener("click", function () {
+    download(baseName() + ".settings.json", new Blob([JSON.stringify(state.settings, null, 2) + "\n"], { type: "application/json" }));
+  });
+  byId("save-picture").addEventListener("click", function () {
+    byId("graph-canvas").toBlob(function (blob) { if (blob) download(baseName() + ".graph.png", blob); }, "image/png");
+  });
+}
+
+/* ---------------------------------------------------------------- scripting hook */
+
+window.nervure = Object.freeze({
+  /** Reads CSV text as if it were a dropped file; resolves with {name, rows, columns}
+   *  once the first graph is built. */
+  loadCsv: function (text, name) { return loadText(text, name).then((t) => JSON.parse(JSON.stringify(t))); },
+  /** The settings document in force (a copy). */
+  settings: function () { return state.settings ? JSON.parse(JSON.stringify(state.settings)) : null; },
+  /** Checks and takes new settings (the graph is rebuilt after a pause, or by run()). */
+  applySettings: function (obj) { return applySettings(obj); },
+  /** Builds now; resolves with the summary. */
+  run: function () { return buildNow().then((s) => JSON.parse(JSON.stringify(s))); },
+  /** The last build's summary (a copy), or null. */
+  summary: function () { return state.summary ? JSON.parse(JSON.stringify(state.summary)) : null; },
+  /** Colours the nodes by the mean of a numeric column. */
+  colourBy: function (column) { return setColourColumn(column); },
+  /** Where each node is drawn: world positions and the view (screen = world * scale + offset,
+   *  CSS pixels from the canvas's top left), and the disc radii in CSS pixels. */
+  layout: function () {
+    if (!state.graph) return null;
+    return {
+      positions: Array.from(state.graph.positions),
+      sizes: Array.from(state.graph.nodeSizes),
+      radii: Array.from(view.radii),
+      order: Array.from(view.order),
+      scale: view.view.scale, offsetX: view.view.x, offsetY: view.view.y,
+    };
+  },
+  /** The selected node, or null. */
+  selected: function () { return state.selected; },
+  /** Milliseconds from the start of the last load to the table read and the first graph drawn. */
+  timings: function () {
+    const t = state.timing;
+    return { tableReadMs: t.tableRead ? t.tableRead - t.start : null, firstGraphMs: t.firstDraw ? t.firstDraw - t.start : null };
+  },
+  /** What the page is doing: {phase, builds, pending} (pending: a rebuild is scheduled). */
+  status: function () { return { phase: state.phase, builds: state.builds, pending: rerunTimer !== null }; },
+  /** The message shown on the page, or null. */
+  message: function () { return state.message; },
+});
+
+wire();
+engine.start();
+renderAll();
+// dist/nervure.html#demo opens with the demo loaded.
+if (location.hash === "#demo" && document.getElementById("nervure-demo")) byId("demo-button").click();

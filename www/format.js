@@ -1,0 +1,50 @@
+/* format.js: how numbers and counts are written on the page, and small DOM helpers.
+ * No state and no engine calls here. Text from files only ever goes through textContent. */
+
+/** A number with about four significant digits, without noise like 12.300000001. */
+function formatNumber(x) {
+  if (x === null || x === undefined || Number.isNaN(x)) return "—";
+  if (!Number.isFinite(x)) return x > 0 ? "∞" : "−∞";
+  const a = Math.abs(x);
+  if (a !== 0 && (a >= 1e6 || a < 1e-3)) return x.toExponential(2).replace("-", "−");
+  let digits = a >= 1000 ? 0 : a >= 100 ? 1 : a >= 10 ? 2 : 3;
+  let s = x.toFixed(digits);
+  if (s.indexOf(".") >= 0) s = s.replace(/0+$/, "").replace(/\.$/, "");
+  return s.replace("-", "−");
+}
+
+/** A count with thin separators: 12 345. */
+function formatCount(n) {
+  return Number(n).toLocaleString("en-GB").replace(/,/g, "\u2009");
+}
+
+/** "1 row" / "3 rows". */
+function plural(n, one, many) {
+  return formatCount(n) + " " + (n === 1 ? one : many);
+}
+
+/** Creates an element with optional class and text (never HTML). */
+function el(tag, className, text) {
+  const e = document.createElement(tag);
+  if (className) e.className = className;
+  if (text !== undefined && text !== null) e.textContent = String(text);
+  return e;
+}
+
+function byId(id) {
+  const e = document.getElementById(id);
+  if (!e) throw new Error("page is missing element #" + id);
+  return e;
+}
+
+/** Parses "−9999, 999" into numbers; throws with a message that names the bad entry. */
+function parseNumberList(text) {
+  const out = [];
+  for (const part of text.split(/[,;\s]+/)) {
+    if (part === "") continue;
+    const v = Number(part.replace("−", "-"));
+    if (!Number.isFinite(v)) throw new Error("setting 'missing.fillValues': '" + part + "' is not a number; list numbers separated by commas");
+    out.push(v);
+  }
+  return out;
+}

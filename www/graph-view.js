@@ -1,0 +1,253 @@
+/* graph-view.js: draws a graph on a canvas and turns pointer input into view changes,
+ * hovers and selections. It does not know about files, settings or the engine: it is
+ * given positions, sizes, edges and colours, and reports which node is under the pointer.
+ *
+ * Node positions come from the engine's layout (roughly [-1, 1]); the view maps them to
+ * CSS pixels as  screen = world * scale + offset  (y pointing down, as the canvas does).
+ * A node's disc area is proportional to its number of rows; an edge's width grows with
+ * the rows its two nodes share.
+ */
+
+function GraphView(canvas, callbacks) {
+  this.canvas = canvas;
+  this.ctx = canvas.getContext("2d");
+  this.callbacks = callbacks;
+  this.graph = null;
+  this.fills = null;
+  this.selected = null;
+  this.hovered = null;
+  this.radii = null;
+  this.order = null;
+  this.view = { scale: 1, x: 0, y: 0 };
+  this.width = 0;
+  this.height = 0;
+  this.drawCount = 0;
+  this.pending = false;
+  this.fitted = false;     // true until the user pans or zooms: resizes then refit
+  this.insetTop = 0;       // CSS pixels at the top kept clear (the legend sits there)
+  this._listen();
+  this.resize();
+}
+
+/** Largest disc radius, as a share of the canvas's smaller side. */
+GraphView.MAX_RADIUS_SHARE = 0.045;
+GraphView.MIN_RADIUS = 3;
+
+GraphView.prototype.setGraph = function (graph, keepView) {
+  this.graph = graph;
+  this.selected = null;
+  this.hovered = null;
+  this._sizeDiscs();
+  // Draw big discs first so small ones stay visible on top of them.
+  const n = graph ? graph.nodeSizes.length : 0;
+  const order = new Uint32Array(n);
+  for (let i = 0; i < n; i++) order[i] = i;
+  if (graph) order.sort((a, b) => graph.nodeSizes[b] - graph.nodeSizes[a] || a - b);
+  this.order = order;
+  if (!keepView) this.fit();
+  this.requestDraw();
+};
+
+GraphView.prototype.setFills = function (fills) {
+  this.fills = fills;
+  this.requestDraw();
+};
+
+GraphView.prototype.setSelected = function (i) {
+  this.selected = i;
+  this.requestDraw();
+};
+
+GraphView.prototype._sizeDiscs = function () {
+  const g = this.graph;
+  if (!g) { this.radii = null; return; }
+  let maxSize = 1;
+  for (const s of g.nodeSizes) maxSize = Math.max(maxSize, s);
+  const maxR = Math.max(8, Math.min(this.width, this.height) * GraphView.MAX_RADIUS_SHARE);
+  const radii = new Float64Array(g.nodeSizes.length);
+  for (let i = 0; i < radii.length; i++) {
+    radii[i] = Math.max(GraphView.MIN_RADIUS, maxR * Math.sqrt(g.nodeSizes[i] / maxSize));
+  }
+  this.radii = radii;
+};
+
+/** Fits the layout's bounding box into the canvas, leaving room for the largest disc. */
+GraphView.prototype.fit = function () {
+  const g = this.graph;
+  if (!g || g.nodeSizes.length === 0 || this.width === 0) return;
+  const p = g.positions;
+  let x0 = Infinity, x1 = -Infinity, y0 = Infinity, y1 = -Infinity;
+  for (let i = 0; i < p.length; i += 2) {
+    x0 = Math.min(x0, p[i]); x1 = Math.max(x1, p[i]);
+    y0 = Math.min(y0, p[i + 1]); y1 = Math.max(y1, p[i + 1]);
+  }
+  let maxR = 0;
+  for (const r of this.radii) maxR = Math.max(maxR, r);
+  const pad = maxR + 24;
+  const w = Math.max(x1 - x0, 1e-9), h = Math.max(y1 - y0, 1e-9);
+  const top = Math.max(pad, this.insetTop + 8);
+  let scale = Math.min((this.width - 2 * pad) / w, (this.height - pad - top) / h);
+  if (!Number.isFinite(scale) || scale <= 0) scale = 1;
+  if (x1 - x0 < 1e-9 && y1 - y0 < 1e-9) scale = 1;
+  this.view.scale = scale;
+  this.view.x = this.width / 2 - scale * (x0 + x1) / 2;
+  this.view.y = top + (this.height - pad - top) / 2 - scale * (y0 + y1) / 2;
+  this.fitted = true;
+  this.requestDraw();
+};
+
+GraphView.prototype.resize = function () {
+  const rect = this.canvas.getBoundingClientRect();
+  const dpr = window.devicePixelRatio || 1;
+  const oldW = this.width, oldH = this.height;
+  this.width = rect.width;
+  this.height = rect.height;
+  this.canvas.width = Math.max(1, Math.round(rect.width * dpr));
+  this.canvas.height = Math.max(1, Math.round(rect.height * dpr));
+  this.dpr = dpr;
+  if (this.graph) {
+    this._sizeDiscs();
+    if (oldW === 0 || oldH === 0 || this.fitted) this.fit();
+    else { this.view.x += (this.width - oldW) / 2; this.view.y += (this.height - oldH) / 2; }
+  }
+  this.requestDraw();
+};
+
+GraphView.prototype.toScreen = function (i) {
+  const p = this.graph.positions;
+  return { x: p[2 * i] * this.view.scale + this.view.x, y: p[2 * i + 1] * this.view.scale + this.view.y };
+};
+
+/** The topmost node whose disc holds the point (CSS pixels in the canvas), or null. */
+GraphView.prototype.nodeAt = function (x, y) {
+  if (!this.graph) return null;
+  const p = this.graph.positions, s = this.view.scale, ox = this.view.x, oy = this.view.y;
+  for (let k = this.order.length - 1; k >= 0; k--) {
+    const i = this.order[k];
+    const dx = p[2 * i] * s + ox - x, dy = p[2 * i + 1] * s + oy - y;
+    const r = this.radii[i] + 2;
+    if (dx * dx + dy * dy <= r * r) return i;
+  }
+  return null;
+};
+
+GraphView.prototype.requestDraw = function () {
+  if (this.pending) return;
+  this.pending = true;
+  requestAnimationFrame(() => { this.pending = false; this.draw(); });
+};
+
+GraphView.prototype.draw = function () {
+  const ctx = this.ctx, g = this.graph;
+  ctx.setTransform(this.dpr, 0, 0, this.dpr, 0, 0);
+  ctx.clearRect(0, 0, this.width, this.height);
+  if (!g) return;
+  const p = g.positions, s = this.view.scale, ox = this.view.x, oy = this.view.y;
+
+  // Edges.
+  let maxShared = 1;
+  for (const v of g.edgeShared) maxShared = Math.max(maxShared, v);
+  ctx.lineCap = "round";
+  ctx.strokeStyle = "rgba(62, 74, 86, 0.42)";
+  for (let e = 0; e < g.edgeA.length; e++) {
+    const a = g.edgeA[e], b = g.edgeB[e];
+    ctx.lineWidth = 1 + 5 * Math.sqrt(g.edgeShared[e] / maxShared);
+    ctx.beginPath();
+    ctx.moveTo(p[2 * a] * s + ox, p[2 * a + 1] * s + oy);
+    ctx.lineTo(p[2 * b] * s + ox, p[2 * b + 1] * s + oy);
+    ctx.stroke();
+  }
+
+  // Nodes, largest first.
+  for (let k = 0; k < this.order.length; k++) {
+    const i = this.order[k];
+    const x = p[2 * i] * s + ox, y = p[2 * i + 1] * s + oy, r = this.radii[i];
+    ctx.beginPath();
+    ctx.arc(x, y, r, 0, 2 * Math.PI);
+    ctx.fillStyle = this.fills ? this.fills[i] : "rgb(120, 134, 150)";
+    ctx.fill();
+    ctx.lineWidth = 1.25;
+    ctx.strokeStyle = "rgba(255, 255, 255, 0.9)";
+    ctx.stroke();
+  }
+
+  // Hover and selection rings on top.
+  for (const [i, colour, width] of [[this.hovered, "rgba(29, 37, 45, 0.55)", 2], [this.selected, "#b5361f", 3.5]]) {
+    if (i === null || i === undefined || i >= this.radii.length) continue;
+    const q = this.toScreen(i);
+    ctx.beginPath();
+    ctx.arc(q.x, q.y, this.radii[i] + 3.5, 0, 2 * Math.PI);
+    ctx.lineWidth = width;
+    ctx.strokeStyle = colour;
+    ctx.stroke();
+  }
+  this.drawCount++;
+  if (this.callbacks.onDraw) this.callbacks.onDraw(this.drawCount);
+};
+
+GraphView.prototype._listen = function () {
+  const c = this.canvas;
+  let drag = null;
+  const local = (ev) => {
+    const r = c.getBoundingClientRect();
+    return { x: ev.clientX - r.left, y: ev.clientY - r.top };
+  };
+  c.addEventListener("pointerdown", (ev) => {
+    if (ev.button !== 0) return;
+    const q = local(ev);
+    drag = { x: q.x, y: q.y, vx: this.view.x, vy: this.view.y, moved: false, id: ev.pointerId };
+    c.setPointerCapture(ev.pointerId);
+  });
+  c.addEventListener("pointermove", (ev) => {
+    const q = local(ev);
+    if (drag) {
+      const dx = q.x - drag.x, dy = q.y - drag.y;
+      if (!drag.moved && dx * dx + dy * dy > 16) { drag.moved = true; c.classList.add("dragging"); }
+      if (drag.moved) {
+        this.fitted = false;
+        this.view.x = drag.vx + dx;
+        this.view.y = drag.vy + dy;
+        this.requestDraw();
+        return;
+      }
+    }
+    const i = this.nodeAt(q.x, q.y);
+    if (i !== this.hovered) {
+      this.hovered = i;
+      this.requestDraw();
+    }
+    c.classList.toggle("over-node", i !== null);
+    this.callbacks.onHover(i, q.x, q.y);
+  });
+  const end = (ev) => {
+    if (!drag) return;
+    const wasClick = !drag.moved;
+    c.releasePointerCapture(drag.id);
+    c.classList.remove("dragging");
+    drag = null;
+    if (wasClick && ev.type === "pointerup") {
+      const q = local(ev);
+      this.callbacks.onSelect(this.nodeAt(q.x, q.y));
+    }
+  };
+  c.addEventListener("pointerup", end);
+  c.addEventListener("pointercancel", end);
+  c.addEventListener("pointerleave", () => {
+    if (this.hovered !== null) { this.hovered = null; this.requestDraw(); }
+    this.callbacks.onHover(null, 0, 0);
+  });
+  c.addEventListener("wheel", (ev) => {
+    if (!this.graph) return;
+    ev.preventDefault();
+    const q = local(ev);
+    const factor = Math.exp(-ev.deltaY * (ev.deltaMode === 1 ? 0.05 : 0.0015));
+    const next = Math.min(Math.max(this.view.scale * factor, 1e-6), 1e9);
+    const k = next / this.view.scale;
+    this.view.x = q.x - (q.x - this.view.x) * k;
+    this.view.y = q.y - (q.y - this.view.y) * k;
+    this.view.scale = next;
+    this.fitted = false;
+    this.requestDraw();
+  }, { passive: false });
+  c.addEventListener("dblclick", () => this.fit());
+};

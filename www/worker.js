@@ -1,0 +1,156 @@
+/* worker.js: runs the engine off the page's thread. It reads files in slices, drives the
+ * engine and posts results back; it decides nothing about what the page shows.
+ *
+ * The builder puts the wasm-bindgen glue (global `wasm_bindgen`) and the engine's bytes
+ * (`self.NERVURE_WASM_BASE64`) in front of this file.
+ *
+ * Messages in:  {id, type: "load", file | text, name}
+ *               {id, type: "run", settings, colour: {column, stat} | null}
+ *               {id, type: "colour", column, stat}
+ *               {id, type: "detail", node}
+ *               {id, type: "summaries", fillValues}
+ *               {id, type: "check", settings}
+ * Messages out: {id, type: "progress", stage, fraction}
+ *               {id, type: "result", value}
+ *               {id, type: "error", message, fatal}
+ */
+"use strict";
+
+/** Bytes read from a file per engine call. */
+const SLICE_BYTES = 4 * 1024 * 1024;
+
+let lastPanic = null;
+const consoleError = console.error.bind(console);
+console.error = function (...args) {
+  // The engine's panic hook writes here; keep the message for the page.
+  lastPanic = args.map(String).join(" ");
+  consoleError(...args);
+};
+
+function decodeBase64(text) {
+  const raw = atob(text);
+  const bytes = new Uint8Array(raw.length);
+  for (let i = 0; i < raw.length; i++) bytes[i] = raw.charCodeAt(i);
+  return bytes;
+}
+
+const ready = (async function () {
+  await wasm_bindgen({ module_or_path: decodeBase64(self.NERVURE_WASM_BASE64) });
+  self.NERVURE_WASM_BASE64 = null;
+  return new wasm_bindgen.Engine();
+})();
+
+/** Posts progress at most every 40 ms, and always the end of a stage. */
+function progressPoster(id) {
+  let last = 0;
+  return function (stage, fraction) {
+    const now = performance.now();
+    if (fraction < 1 && now - last < 40) return;
+    last = now;
+    self.postMessage({ id, type: "progress", stage, fraction });
+  };
+}
+
+function readFileInto(engine, file, name, progress) {
+  engine.begin_table(name);
+  const reader = new FileReaderSync();
+  const size = file.size;
+  progress("reading", 0);
+  for (let offset = 0; offset < size; offset += SLICE_BYTES) {
+    const buffer = reader.readAsArrayBuffer(file.slice(offset, Math.min(size, offset + SLICE_BYTES)));
+    engine.push_chunk(new Uint8Array(buffer));
+    progress("reading", Math.min(1, (offset + SLICE_BYTES) / size));
+  }
+  progress("reading", 1);
+}
+
+function readTextInto(engine, text, name, progress) {
+  engine.begin_table(name);
+  const bytes = new TextEncoder().encode(text);
+  progress("reading", 0);
+  for (let offset = 0; offset < bytes.length; offset += SLICE_BYTES) {
+    engine.push_chunk(bytes.subarray(offset, Math.min(bytes.length, offset + SLICE_BYTES)));
+    progress("reading", Math.min(1, (offset + SLICE_BYTES) / bytes.length));
+  }
+  progress("reading", 1);
+}
+
+function graphMessage(engine) {
+  const g = engine.graph();
+  if (!g) return { value: null, transfer: [] };
+  const transfer = [g.nodeSizes.buffer, g.nodeElements.buffer, g.edgeA.buffer, g.edgeB.buffer, g.edgeShared.buffer, g.positions.buffer];
+  return { value: g, transfer };
+}
+
+function handle(engine, msg) {
+  const id = msg.id;
+  const progress = progressPoster(id);
+  switch (msg.type) {
+    case "load": {
+      if (msg.file) readFileInto(engine, msg.file, msg.name, progress);
+      else readTextInto(engine, msg.text, msg.name, progress);
+      engine.finish_table();
+      const settings = engine.auto_settings();
+      // The column list counts the automatic fill values as missing, as the build will.
+      const fill = (settings.missing && settings.missing.fillValues) || [];
+      const table = engine.column_summaries(new Float64Array(fill));
+      return { value: { table, settings } };
+    }
+    case "run": {
+      // A newer run is already waiting: skip this one, its settings are out of date.
+      if (msg.id !== latestRun) return { value: { superseded: true } };
+      const summary = engine.run(msg.settings, progress);
+      const graph = graphMessage(engine);
+      let colour = null;
+      if (msg.colour && msg.colour.column) {
+        colour = { column: msg.colour.column, values: engine.node_values(msg.colour.column, msg.colour.stat || "mean") };
+        graph.transfer.push(colour.values.buffer);
+      }
+      return { value: { summary, graph: graph.value, colour }, transfer: graph.transfer };
+    }
+    case "colour": {
+      const values = engine.node_values(msg.column, msg.stat || "mean");
+      return { value: { column: msg.column, values }, transfer: [values.buffer] };
+    }
+    case "detail":
+      return { value: engine.node_detail(msg.node) };
+    case "summaries":
+      return { value: engine.column_summaries(new Float64Array(msg.fillValues || [])) };
+    case "check":
+      return { value: engine.check_settings(msg.settings) };
+    default:
+      throw new Error("internal: unknown request '" + msg.type + "'");
+  }
+}
+
+/** Requests run one at a time, in arrival order. */
+let queue = Promise.resolve();
+
+/** Id of the last run asked for. */
+let latestRun = 0;
+
+self.onmessage = function (event) {
+  const msg = event.data;
+  if (msg.type === "run") latestRun = msg.id;
+  queue = queue.then(async function () {
+    let engine;
+    try {
+      engine = await ready;
+    } catch (e) {
+      self.postMessage({ id: msg.id, type: "error", fatal: true, message: "The engine could not start in this browser: " + (e && e.message ? e.message : String(e)) });
+      return;
+    }
+    try {
+      lastPanic = null;
+      const out = handle(engine, msg);
+      self.postMessage({ id: msg.id, type: "result", value: out.value }, out.transfer || []);
+    } catch (e) {
+      // A trap (RuntimeError) means the engine panicked: its state is lost.
+      const fatal = e instanceof WebAssembly.RuntimeError;
+      const message = fatal
+        ? "Internal error in the engine" + (lastPanic ? " (" + lastPanic + ")" : "") + ". The engine was restarted; please report this with the file's shape and your settings."
+        : (e && e.message ? e.message : String(e));
+      self.postMessage({ id: msg.id, type: "error", fatal, message });
+    }
+  });
+};

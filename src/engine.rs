@@ -385,36 +385,89 @@ fn lens_values(table: &Table, pts: &Points, s: &Settings) -> Result<Vec<f64>> {
 }
 
 fn cluster_elements(pts: &Points, cov: &Cover, method: &Clustering, progress: &mut dyn FnMut(&str, f64)) -> Clustered {
-    let d = pts.data.ncols();
-    let flat = pts.data.as_slice().expect("points are row-major and contiguous");
+    let per_element = cluster_all(pts, cov, method, progress);
     let mut in_node = vec![false; pts.rows.len()];
     let mut nodes = Vec::new();
-    let mut buf = Vec::new();
-    let total: usize = cov.elements.iter().map(|e| e.len()).sum::<usize>().max(1);
-    let mut done = 0;
-    for (e, members) in cov.elements.iter().enumerate() {
-        progress("clusters", done as f64 / total as f64);
-        done += members.len();
-        if members.is_empty() {
-            continue;
-        }
-        buf.clear();
-        for &p in members {
-            buf.extend_from_slice(&flat[p as usize * d..(p as usize + 1) * d]);
-        }
-        let labels = cluster::cluster(&buf, d, method);
-        let k = labels.iter().flatten().map(|&c| c as usize + 1).max().unwrap_or(0);
-        let mut groups: Vec<Vec<u32>> = vec![Vec::new(); k];
-        for (&p, l) in members.iter().zip(&labels) {
-            if let Some(c) = l {
-                groups[*c as usize].push(pts.rows[p as usize]);
+    for (e, groups) in per_element.into_iter().enumerate() {
+        for g in groups {
+            for &p in &g {
                 in_node[p as usize] = true;
             }
+            nodes.push(Node { element: e, members: g.into_iter().map(|p| pts.rows[p as usize]).collect() });
         }
-        nodes.extend(groups.into_iter().filter(|g| !g.is_empty()).map(|members| Node { element: e, members }));
     }
     progress("clusters", 1.0);
     Clustered { nodes, noise_rows: in_node.iter().filter(|&&b| !b).count() }
+}
+
+/// The clusters of one cover element, as lists of point indices (increasing), in the
+/// clustering's label order. Elements are independent: the natural unit of parallel work.
+pub fn cluster_element(pts: &Points, members: &[u32], method: &Clustering) -> Vec<Vec<u32>> {
+    if members.is_empty() {
+        return Vec::new();
+    }
+    let d = pts.data.ncols();
+    let flat = pts.data.as_slice().expect("points are row-major and contiguous");
+    let mut buf = Vec::with_capacity(members.len() * d);
+    for &p in members {
+        buf.extend_from_slice(&flat[p as usize * d..(p as usize + 1) * d]);
+    }
+    let labels = cluster::cluster(&buf, d, method);
+    let k = labels.iter().flatten().map(|&c| c as usize + 1).max().unwrap_or(0);
+    let mut groups: Vec<Vec<u32>> = vec![Vec::new(); k];
+    for (&p, l) in members.iter().zip(&labels) {
+        if let Some(c) = l {
+            groups[*c as usize].push(p);
+        }
+    }
+    groups.retain(|g| !g.is_empty());
+    groups
+}
+
+/// Every element's clusters, in element order. Natively the elements are shared among
+/// all cores (largest first, taken from a shared counter); results do not depend on the
+/// number of threads. In wasm one worker runs them in order.
+fn cluster_all(pts: &Points, cov: &Cover, method: &Clustering, progress: &mut dyn FnMut(&str, f64)) -> Vec<Vec<Vec<u32>>> {
+    progress("clusters", 0.0);
+    let total: usize = cov.elements.iter().map(|e| e.len()).sum::<usize>().max(1);
+    let threads = if cfg!(target_arch = "wasm32") { 1 } else { std::thread::available_parallelism().map_or(1, |n| n.get()) };
+    if threads <= 1 || cov.elements.len() < 2 {
+        let mut done = 0;
+        return cov
+            .elements
+            .iter()
+            .map(|members| {
+                progress("clusters", done as f64 / total as f64);
+                done += members.len();
+                cluster_element(pts, members, method)
+            })
+            .collect();
+    }
+    use std::sync::atomic::{AtomicUsize, Ordering};
+    use std::sync::Mutex;
+    let mut order: Vec<usize> = (0..cov.elements.len()).collect();
+    order.sort_by_key(|&e| std::cmp::Reverse(cov.elements[e].len()));
+    let next = AtomicUsize::new(0);
+    let done = AtomicUsize::new(0);
+    let results: Mutex<Vec<Option<Vec<Vec<u32>>>>> = Mutex::new(vec![None; cov.elements.len()]);
+    let work = || {
+        let k = next.fetch_add(1, Ordering::Relaxed);
+        let &e = order.get(k)?;
+        let groups = cluster_element(pts, &cov.elements[e], method);
+        done.fetch_add(cov.elements[e].len(), Ordering::Relaxed);
+        results.lock().expect("no thread panics holding the lock")[e] = Some(groups);
+        Some(())
+    };
+    std::thread::scope(|scope| {
+        for _ in 1..threads {
+            scope.spawn(|| while work().is_some() {});
+        }
+        // The calling thread works too, and reports progress between its elements.
+        while work().is_some() {
+            progress("clusters", done.load(Ordering::Relaxed) as f64 / total as f64);
+        }
+    });
+    results.into_inner().expect("threads joined").into_iter().map(|r| r.expect("every element clustered")).collect()
 }
 
 fn assemble(table: &Table, pts: &Points, lens: &[f64], cov: &Cover, c: &Clustered, s: &Settings, progress: &mut dyn FnMut(&str, f64)) -> Build {

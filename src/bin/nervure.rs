@@ -2,18 +2,20 @@
 //! browser tab and for scripts.
 //!
 //! ```text
-//! nervure DATA.csv [--settings S.json] [--write-settings S.json] [--out GRAPH.json] [--summary]
+//! nervure DATA.csv [--settings S.json] [--write-settings S.json] [--out GRAPH.json] [--summary] [--timings]
 //! ```
 //! Without `--settings` the automatic first settings are used (and can be written out
-//! with `--write-settings`, to edit and pass back). `--summary` prints the summary JSON.
+//! with `--write-settings`, to edit and pass back). `--summary` prints the summary JSON;
+//! `--timings` prints seconds per stage and the peak memory as JSON on standard error.
 
 use std::io::Read;
 use std::process::ExitCode;
+use std::time::Instant;
 
 use nervure::table::{ReadOptions, TableReader};
 use nervure::{Settings, Workbench};
 
-const USAGE: &str = "usage: nervure DATA.csv [--settings S.json] [--write-settings S.json] [--out GRAPH.json] [--summary]";
+const USAGE: &str = "usage: nervure DATA.csv [--settings S.json] [--write-settings S.json] [--out GRAPH.json] [--summary] [--timings]";
 
 struct Args {
     data: String,
@@ -21,11 +23,12 @@ struct Args {
     write_settings: Option<String>,
     out: Option<String>,
     summary: bool,
+    timings: bool,
 }
 
 fn parse_args() -> Result<Args, String> {
     let mut it = std::env::args().skip(1);
-    let mut a = Args { data: String::new(), settings: None, write_settings: None, out: None, summary: false };
+    let mut a = Args { data: String::new(), settings: None, write_settings: None, out: None, summary: false, timings: false };
     while let Some(arg) = it.next() {
         let mut value = |name: &str| it.next().ok_or_else(|| format!("{name} needs a file name\n{USAGE}"));
         match arg.as_str() {
@@ -33,6 +36,7 @@ fn parse_args() -> Result<Args, String> {
             "--write-settings" => a.write_settings = Some(value("--write-settings")?),
             "--out" => a.out = Some(value("--out")?),
             "--summary" => a.summary = true,
+            "--timings" => a.timings = true,
             "-h" | "--help" => return Err(USAGE.to_string()),
             s if s.starts_with("--") => return Err(format!("unknown option {s}\n{USAGE}")),
             s if a.data.is_empty() => a.data = s.to_string(),
@@ -47,6 +51,7 @@ fn parse_args() -> Result<Args, String> {
 
 fn run() -> Result<(), String> {
     let a = parse_args()?;
+    let started = Instant::now();
     let name = std::path::Path::new(&a.data).file_name().map_or(a.data.clone(), |n| n.to_string_lossy().into_owned());
     let mut file = std::fs::File::open(&a.data).map_err(|e| format!("cannot open {}: {e}", a.data))?;
     let mut reader = TableReader::new(&name, ReadOptions::default());
@@ -59,6 +64,8 @@ fn run() -> Result<(), String> {
         reader.push(&buf[..k]).map_err(|e| e.to_string())?;
     }
     let table = reader.finish().map_err(|e| e.to_string())?;
+    let mut stages: Vec<(String, f64)> = vec![("read".into(), started.elapsed().as_secs_f64())];
+    let read_done = Instant::now();
     let mut bench = Workbench::new();
     bench.set_table(table);
     let settings = match &a.settings {
@@ -71,15 +78,48 @@ fn run() -> Result<(), String> {
     if let Some(p) = &a.write_settings {
         std::fs::write(p, settings.to_json()).map_err(|e| format!("cannot write {p}: {e}"))?;
     }
-    let summary = bench.run(&settings, &mut |_, _| {}).map_err(|e| e.to_string())?;
+    // Stage starts as the engine reports them; a stage lasts until the next one starts.
+    let mut starts: Vec<(String, Instant)> = vec![("settings".into(), read_done)];
+    let summary = bench
+        .run(&settings, &mut |stage, _| {
+            if starts.last().map(|(s, _)| s.as_str()) != Some(stage) {
+                starts.push((stage.to_string(), Instant::now()));
+            }
+        })
+        .map_err(|e| e.to_string())?;
+    let end = Instant::now();
+    for (i, (name, t)) in starts.iter().enumerate() {
+        let next = starts.get(i + 1).map_or(end, |(_, t)| *t);
+        stages.push((name.clone(), (next - *t).as_secs_f64()));
+    }
     if let Some(p) = &a.out {
         let b = bench.last().expect("a run just succeeded");
         std::fs::write(p, nervure::export::graph_json(b)).map_err(|e| format!("cannot write {p}: {e}"))?;
+    }
+    if a.timings {
+        let fields: Vec<String> = stages
+            .iter()
+            .map(|(name, secs)| format!("{}:{secs:.4}", serde_json::json!(name)))
+            .chain([
+                format!("\"total\":{:.4}", started.elapsed().as_secs_f64()),
+                format!("\"peakMemoryBytes\":{}", serde_json::json!(peak_memory_bytes())),
+                format!("\"threads\":{}", std::thread::available_parallelism().map_or(1, |n| n.get())),
+            ])
+            .collect();
+        eprintln!("{{{}}}", fields.join(","));
     }
     if a.summary || a.out.is_none() {
         println!("{}", serde_json::to_string(&summary).expect("summary serialises"));
     }
     Ok(())
+}
+
+/// The process's peak resident memory (Linux: VmHWM), or null elsewhere.
+fn peak_memory_bytes() -> Option<u64> {
+    let status = std::fs::read_to_string("/proc/self/status").ok()?;
+    let line = status.lines().find(|l| l.starts_with("VmHWM:"))?;
+    let kb: u64 = line.split_whitespace().nth(1)?.parse().ok()?;
+    Some(kb * 1024)
 }
 
 fn main() -> ExitCode {

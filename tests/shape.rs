@@ -391,6 +391,7 @@ fn suggested_settings_follow_the_rule_and_recover_the_circle() {
     assert!(n >= 1 && (span / sg.resolution) < (n as f64 + 2.0), "intervals {n}");
     assert_eq!(sg.settings.clustering, Clustering::Dbscan { eps: sg.delta, min_points: 1 });
     assert!(!sg.changes.is_empty());
+    assert!(sg.warnings.is_empty(), "{:?}", sg.warnings);
     let b = nervure::build(&t, &sg.settings).unwrap();
     assert_eq!((b.summary.components, b.summary.loops), (1, 1), "{:?} with {:?}", b.summary, sg.settings.cover);
     let len = (b.lens_range.1 - b.lens_range.0) / (n as f64 - (n as f64 - 1.0) * 0.4);
@@ -457,5 +458,5 @@ fn time_bootstrap_100_on_the_demo() {
     );
     let t0 = Instant::now();
     let sg = suggest(&table, &s, 1).unwrap();
-    eprintln!("suggest {:?}: delta {:.4}, intervals {}, changes {:?}", t0.elapsed(), sg.delta, sg.settings.cover.intervals, sg.changes);
+    eprintln!("suggest {:?}: delta {:.4}, intervals {}, changes {:?}, warnings {:?}", t0.elapsed(), sg.delta, sg.settings.cover.intervals, sg.changes, sg.warnings);
 }

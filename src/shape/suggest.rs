@@ -50,6 +50,8 @@ pub struct Suggestion {
     pub resolution: f64,
     /// What changed, one line per setting, "field: old -> new".
     pub changes: Vec<String>,
+    /// Reasons to doubt the suggestion, in words for the user.
+    pub warnings: Vec<String>,
 }
 
 /// Suggested settings for `table`, starting from `settings` (its columns, scaling and
@@ -110,7 +112,15 @@ pub fn suggest(table: &Table, settings: &Settings, seed: u64) -> Result<Suggesti
     if s.clustering != settings.clustering {
         changes.push(format!("clustering: {:?} -> DBSCAN eps {delta:.4} minPoints 1 (single linkage at scale δ)", settings.clustering));
     }
-    Ok(Suggestion { settings: s, delta, hausdorff, subsample_size: size, largest_lens_jump: jump, gain: GAIN, resolution, changes })
+    let mut warnings = Vec::new();
+    if intervals < 3 {
+        warnings.push(format!(
+            "the rule gives {intervals} interval(s): at the estimated scale δ = {delta:.3} neighbouring rows already span most of the filter's range, \
+             so the graph would show one blob. This happens when the rows are few for their {d} dimensions (a subsample then covers them only coarsely); \
+             try fewer columns, or keep your own cover and use a sweep instead"
+        ));
+    }
+    Ok(Suggestion { settings: s, delta, hausdorff, subsample_size: size, largest_lens_jump: jump, gain: GAIN, resolution, changes, warnings })
 }
 
 /// Smallest interval count n ≥ 1 whose interval length span / (n - (n - 1) g) is at

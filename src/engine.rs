@@ -416,6 +416,93 @@ pub fn build(table: &Table, s: &Settings) -> Result<Build> {
     Ok(assemble(table, &pts, &lens, &cov, &clustered, s, &mut quiet))
 }
 
+/// The points and lens values of a table, computed once, from which graphs on a multiset
+/// of its points (a bootstrap resample, rows drawn with replacement) are built without
+/// recomputing either. The lens stays the original's: the filter is a fixed function on
+/// the data space and a resample only changes which points are seen (Carrière, Michel,
+/// Oudot 2018, §4), so a resample is never re-scaled or re-projected, and its cover is
+/// the original's intervals. Used by [`crate::shape`]; the page's graphs come from
+/// [`Workbench`].
+#[derive(Debug, Clone)]
+pub struct Resampler {
+    pts: Points,
+    lens: Vec<f64>,
+    lo: f64,
+    hi: f64,
+}
+
+impl Resampler {
+    pub fn new(table: &Table, s: &Settings) -> Result<Resampler> {
+        s.validate()?;
+        let pts = points::build_points(table, s)?;
+        let lens = lens_values(table, &pts, s)?;
+        let (lo, hi) = lens.iter().fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), &v| (a.min(v), b.max(v)));
+        let (lo, hi) = if lens.is_empty() { (0.0, 0.0) } else { (lo, hi) };
+        Ok(Resampler { pts, lens, lo, hi })
+    }
+
+    /// Number of points (rows that took part); draws index these, `0..len()`.
+    pub fn len(&self) -> usize {
+        self.lens.len()
+    }
+
+    pub fn is_empty(&self) -> bool {
+        self.lens.is_empty()
+    }
+
+    /// The scaled points, one row per point.
+    pub fn points(&self) -> &Points {
+        &self.pts
+    }
+
+    /// The lens value of each point.
+    pub fn lens(&self) -> &[f64] {
+        &self.lens
+    }
+
+    /// The nerve of the points `draws` (indices into `0..len()`, repeats allowed) under the
+    /// cover and clustering of `s`, and each node's mean lens value. Node members are
+    /// positions in `draws`, not table rows. `s` must share the points and lens settings
+    /// this resampler was made with; only its cover, clustering and edge rule are read.
+    pub fn graph(&self, draws: &[u32], s: &Settings) -> (Nerve, Vec<f64>) {
+        let d = self.pts.data.ncols();
+        let flat = self.pts.data.as_slice().expect("points are row-major and contiguous");
+        let mut data = Vec::with_capacity(draws.len() * d);
+        let lens: Vec<f64> = draws.iter().map(|&p| self.lens[p as usize]).collect();
+        for &p in draws {
+            data.extend_from_slice(&flat[p as usize * d..(p as usize + 1) * d]);
+        }
+        let pts = Points {
+            data: ndarray::Array2::from_shape_vec((draws.len(), d), data).expect("n × d values"),
+            rows: (0..draws.len() as u32).collect(),
+            columns: self.pts.columns.clone(),
+            left_out: 0,
+            left_out_by_column: Vec::new(),
+        };
+        let cov = cover_within(self.lo, self.hi, &lens, s.cover.intervals, s.cover.overlap);
+        let clustered = cluster_elements(&pts, &cov, &s.clustering, &mut |_: &str, _: f64| {});
+        let nerve = Nerve::new(clustered.nodes, draws.len(), s.edges.min_shared);
+        let node_lens = nerve.nodes.iter().map(|n| n.members.iter().map(|&r| lens[r as usize]).sum::<f64>() / n.members.len() as f64).collect();
+        (nerve, node_lens)
+    }
+}
+
+/// The uniform cover of [lo, hi] (as [`cover::intervals`]) with `values` assigned to every
+/// interval that contains them; values outside [lo, hi] fall in none.
+fn cover_within(lo: f64, hi: f64, values: &[f64], n: usize, g: f64) -> Cover {
+    let ivs = cover::intervals(lo, hi, n, g);
+    let mut elements = vec![Vec::new(); ivs.len()];
+    for (p, &v) in values.iter().enumerate() {
+        // Starts and ends both increase: the intervals holding v are a contiguous run.
+        let first = ivs.partition_point(|&(_, b)| b < v);
+        let last = ivs.partition_point(|&(a, _)| a <= v);
+        for e in &mut elements[first..last.max(first)] {
+            e.push(p as u32);
+        }
+    }
+    Cover { lo, hi, intervals: ivs, elements }
+}
+
 fn lens_values(table: &Table, pts: &Points, s: &Settings) -> Result<Vec<f64>> {
     let v = filter::compute_lens(table, pts, s)?;
     if let Some(i) = v.iter().position(|x| !x.is_finite()) {

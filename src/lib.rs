@@ -25,6 +25,7 @@ pub mod graph;
 pub mod layout;
 pub mod auto;
 pub mod engine;
+pub mod shape;
 pub mod export;
 pub mod explain;
 pub mod rng;

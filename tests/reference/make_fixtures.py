@@ -1,8 +1,8 @@
 #!/usr/bin/env python3
 """Writes the reference fixtures that the Rust tests compare the engine against.
 
-What it is for: computing, once, with pinned releases of NumPy, SciPy, scikit-learn and
-NetworkX (tests/reference/requirements.txt), the values that the engine's filters,
+What it is for: computing, once, with pinned releases of NumPy, SciPy, scikit-learn,
+NetworkX and persim (tests/reference/requirements.txt), the values that the engine's filters,
 clustering and graph counts must reproduce, on data sets shipped inside those packages
 (iris, wine, palmerpenguins) and on seeded synthetic samples. Each fixture carries its
 input data, so `cargo test` needs no Python. What it is not: part of the build or of CI;
@@ -17,15 +17,18 @@ Deterministic: all random draws are seeded, and the JSON is written with sorted 
 """
 
 import csv
+import importlib.metadata
 import io
 import json
 import os
 import sys
 from datetime import datetime, timedelta, timezone
+import warnings
 
 import networkx
 import numpy as np
 import palmerpenguins
+import persim
 import scipy
 import sklearn
 from scipy.cluster.hierarchy import linkage
@@ -46,6 +49,7 @@ V = {
     "scikit-learn": sklearn.__version__,
     "networkx": networkx.__version__,
     "palmerpenguins": getattr(palmerpenguins, "__version__", "0.1.6"),
+    "persim": importlib.metadata.version("persim"),
 }
 
 
@@ -406,6 +410,34 @@ def ks_fixture():
     })
 
 
+def bottleneck_fixture():
+    rng = np.random.default_rng(31)
+
+    def diagram(k, grid):
+        birth = rng.uniform(0.0, 10.0, size=k)
+        death = birth + rng.exponential(1.5, size=k)
+        d = np.stack([birth, death], axis=1) if k else np.zeros((0, 2))
+        # Integer grids give many ties among candidate distances.
+        return np.round(d) if grid else d
+
+    cases = []
+    for k1, k2, grid in ((0, 4, False), (3, 3, False), (5, 8, False), (1, 1, False), (20, 25, False),
+                         (60, 50, False), (150, 120, False), (12, 12, True), (40, 30, True)):
+        a, b = diagram(k1, grid), diagram(k2, grid)
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore")
+            dist = persim.bottleneck(a, b)
+        cases.append({"a": rows(a), "b": rows(b), "grid": grid, "distance": float(dist)})
+    write("bottleneck.json", {
+        "source": (f"{lib('persim')} with {lib('numpy')}: persim.bottleneck(a, b), exact bottleneck distance "
+                   "(binary search over candidate distances with a maximum bipartite matching), L-infinity "
+                   "between points, (death - birth) / 2 to the diagonal; diagrams drawn with "
+                   "numpy.random.default_rng(31): birth uniform on [0, 10], death = birth + exponential(1.5), "
+                   "rounded to integers where grid is true"),
+        "cases": cases,
+    })
+
+
 def main():
     os.makedirs(OUT, exist_ok=True)
     x, target, names, columns = iris()
@@ -422,6 +454,7 @@ def main():
     penguins_fixture()
     times_fixture()
     ks_fixture()
+    bottleneck_fixture()
 
 
 if __name__ == "__main__":

@@ -1,0 +1,105 @@
+//! A parameter sweep: the graph's components, loops and (optionally) significant features
+//! over a grid of interval counts × overlaps, and optionally DBSCAN scales, so a user can
+//! see which features survive a range of settings rather than trust one graph
+//! (the brute-force view that Carrière, Michel, Oudot 2018, §1, set their rule against;
+//! both are offered).
+//!
+//! Graphs come from the caller's [`Workbench`], which re-uses the points and lens across
+//! cells (only the cover and clustering change). Significance, when asked for (`draws` >
+//! 0), is the bootstrap of [`super::confidence`] with that many draws per cell, on points
+//! and lens computed once for the whole sweep; a small count (10 to 20) makes it a cheap,
+//! rough guide, not a test.
+//!
+//! Not here: choosing one cell ([`super::suggest`] proposes settings by rule).
+
+use serde::Serialize;
+
+use super::confidence::bootstrap_with;
+use super::persistence::Kind;
+use crate::engine::{Resampler, Workbench};
+use crate::error::{Error, Result};
+use crate::settings::{Clustering, Settings};
+
+/// The values to try; every combination is one cell.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+#[serde(rename_all = "camelCase")]
+pub struct Grid {
+    pub intervals: Vec<usize>,
+    pub overlaps: Vec<f64>,
+    /// DBSCAN eps values to try; empty = keep the base settings' clustering.
+    pub eps: Vec<f64>,
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize)]
+#[serde(rename_all = "camelCase")]
+pub struct Cell {
+    pub intervals: usize,
+    pub overlap: f64,
+    pub eps: Option<f64>,
+    pub nodes: usize,
+    pub components: usize,
+    pub loops: usize,
+    /// Features above the bootstrap threshold, when significance was asked for.
+    pub significant: Option<usize>,
+    pub significant_loops: Option<usize>,
+    pub threshold: Option<f64>,
+}
+
+/// Runs every cell of `grid` on the workbench's table, starting from `base`. The
+/// workbench keeps the last cell's graph. `progress` gets the fraction done and returns
+/// `false` to cancel.
+pub fn sweep(bench: &mut Workbench, base: &Settings, grid: &Grid, draws: usize, alpha: f64, seed: u64, progress: &mut dyn FnMut(f64) -> bool) -> Result<Vec<Cell>> {
+    if grid.intervals.is_empty() || grid.overlaps.is_empty() {
+        return Err(Error::settings("sweep grid", "give at least one interval count and one overlap"));
+    }
+    if !grid.eps.is_empty() && !matches!(base.clustering, Clustering::Dbscan { .. }) {
+        return Err(Error::settings("sweep grid.eps", "eps values apply to DBSCAN; set the clustering to DBSCAN first"));
+    }
+    let resampler = if draws > 0 {
+        let table = bench.table().ok_or_else(|| Error::Input("no table is loaded yet: open a CSV file first".into()))?;
+        Some(Resampler::new(table, base)?)
+    } else {
+        None
+    };
+    let eps: Vec<Option<f64>> = if grid.eps.is_empty() { vec![None] } else { grid.eps.iter().map(|&e| Some(e)).collect() };
+    let total = grid.intervals.len() * grid.overlaps.len() * eps.len();
+    let mut cells = Vec::with_capacity(total);
+    for &e in &eps {
+        for &k in &grid.intervals {
+            for &g in &grid.overlaps {
+                let done = cells.len() as f64 / total as f64;
+                if !progress(done) {
+                    return Err(Error::Cancelled);
+                }
+                let mut s = base.clone();
+                s.cover.intervals = k;
+                s.cover.overlap = g;
+                if let (Some(eps), Clustering::Dbscan { min_points, .. }) = (e, &base.clustering) {
+                    s.clustering = Clustering::Dbscan { eps, min_points: *min_points };
+                }
+                let summary = bench.run(&s, &mut |_: &str, _: f64| {})?;
+                let (mut significant, mut significant_loops, mut threshold) = (None, None, None);
+                if let Some(r) = &resampler {
+                    let step = 1.0 / total as f64;
+                    let c = bootstrap_with(r, &s, draws, alpha, seed, &mut |x| progress(done + x * step))?;
+                    significant = Some(c.total_significant());
+                    significant_loops = Some(c.significant_count(Kind::Loop));
+                    threshold = Some(c.threshold);
+                }
+                cells.push(Cell {
+                    intervals: k,
+                    overlap: g,
+                    eps: e,
+                    nodes: summary.nodes,
+                    components: summary.components,
+                    loops: summary.loops,
+                    significant,
+                    significant_loops,
+                    threshold,
+                });
+            }
+        }
+    }
+    progress(1.0);
+    Ok(cells)
+}

@@ -209,6 +209,9 @@ mod tests {
         let python = std::env::var("NERVURE_PYTHON").unwrap_or_else(|_| "python3".into());
         let has_networkx = std::process::Command::new(&python).args(["-c", "import networkx"]).output().is_ok_and(|o| o.status.success());
         if !has_networkx {
+            // tests/run.sh (and so CI) sets NERVURE_PYTHON to a venv with networkx: there a
+            // missing reader is a failure, not a skip.
+            assert!(std::env::var_os("NERVURE_PYTHON").is_none(), "NERVURE_PYTHON={python} cannot import networkx");
             eprintln!(
                 "SKIPPED, not a pass: {python} cannot import networkx, so the GraphML file was not read back; \
                  set NERVURE_PYTHON to a Python with networkx (tests/reference/requirements.txt)"

@@ -9,6 +9,7 @@ source tests/setup.sh
 need_wasm_target
 need_chromium
 need_node_modules
+need_python_reader
 
 step "native tests (cargo test)"
 cargo test --quiet 2>&1 | tee /tmp/nervure-cargo-test.log

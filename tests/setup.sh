@@ -28,6 +28,20 @@ need_node_modules() {
   fi
 }
 
+# A small venv with the one outside reader a native test calls at run time (NetworkX's
+# GraphML reader, pinned as in tests/reference/requirements.txt).
+need_python_reader() {
+  local venv="$HOME/.cache/nervure-venv"
+  local want
+  want=$(grep -E '^networkx==' tests/reference/requirements.txt)
+  if ! "$venv/bin/python" -c "import networkx" >/dev/null 2>&1; then
+    step "installing $want for the GraphML read-back check"
+    python3 -m venv "$venv"
+    "$venv/bin/pip" install --quiet --disable-pip-version-check "$want"
+  fi
+  export NERVURE_PYTHON="$venv/bin/python"
+}
+
 build_page() {
   step "building dist/nervure.html"
   cargo run --quiet --release --features page-builder --bin nervure-build

@@ -32,11 +32,13 @@ fn settings(d: usize, lens: Lens, clustering: Clustering) -> Settings {
         scaling: Scaling::None,
         missing: Missing::default(),
         lens,
-        cover: CoverSettings { intervals: 8, overlap: 0.4 },
+        cover: CoverSettings::uniform(8, 0.4),
         clustering,
         edges: EdgeRule { min_shared: 1 },
         seed: 1,
         derived: Vec::new(),
+        lens2: None,
+        cover2: None,
     }
 }
 

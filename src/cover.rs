@@ -24,7 +24,10 @@
 //! value lies in I_i and second in J_j, each a sorted list of point ids. Cell (i, j) is
 //! element i · n2 + j (first filter major), and the element index is the cell index for
 //! the graph's nodes. Empty elements are kept so that element index = interval (or cell)
-//! index.
+//! index. A caution: with overlap, up to four cells meet at a corner, so a row can lie in
+//! several cells at once and their nodes form triangles, which the graph's loop count
+//! E - V + C counts as loops (tests/topology_covers.rs shows a case that avoids this and
+//! says why).
 //!
 //! This module only assigns points to elements; clustering inside them is
 //! [`crate::cluster`]'s job.
@@ -239,5 +242,60 @@ mod tests {
     fn constant_lens_gives_one_element() {
         let c = uniform(&[2.0; 5], 10, 0.3);
         assert_eq!(c.elements, vec![vec![0, 1, 2, 3, 4]]);
+    }
+
+    #[test]
+    fn quantile_worked_example() {
+        // numpy.quantile([1, 2, 3, 4], 0.5) = 2.5 and at 1/3 gives 2.0 (h = 3 · 1/3 = 1),
+        // by hand from the linear method's definition in this module's doc comment.
+        let x = [1.0, 2.0, 3.0, 4.0];
+        assert_eq!(quantile(&x, 0.5), 2.5);
+        assert_eq!(quantile(&x, 0.0), 1.0);
+        assert_eq!(quantile(&x, 1.0), 4.0);
+        assert!((quantile(&x, 1.0 / 3.0) - 2.0).abs() < 1e-15);
+    }
+
+    #[test]
+    fn balanced_cover_of_ranks_by_hand() {
+        // Values 0..=12 (N = 13), n = 4, g = 0.25: rank bounds p_i = i · 3/13, q_i = p_i + 4/13,
+        // h = 12 p: interval i = [36 i / 13, 36 i / 13 + 48 / 13] in value (the values are
+        // their ranks), the last ending at 12.
+        let v: Vec<f64> = (0..13).map(|i| i as f64).collect();
+        let c = build(&v, &CoverSettings { intervals: 4, overlap: 0.25, kind: CoverKind::Balanced }, None);
+        for (i, &(a, b)) in c.intervals.iter().enumerate() {
+            assert!((a - 36.0 * i as f64 / 13.0).abs() < 1e-12, "{i}: {a}");
+            let want_b = if i == 3 { 12.0 } else { 36.0 * i as f64 / 13.0 + 48.0 / 13.0 };
+            assert!((b - want_b).abs() < 1e-12, "{i}: {b}");
+        }
+        // [0, 3.69] holds 0..=3; [2.77, 6.46] holds 3..=6; [5.54, 9.23] 6..=9; [8.31, 12] 9..=12.
+        assert_eq!(c.elements, vec![vec![0, 1, 2, 3], vec![3, 4, 5, 6], vec![6, 7, 8, 9], vec![9, 10, 11, 12]]);
+        // A constant lens gives one element, as the uniform cover does.
+        let k = build(&[1.0; 4], &CoverSettings { intervals: 5, overlap: 0.2, kind: CoverKind::Balanced }, None);
+        assert_eq!(k.elements, vec![vec![0, 1, 2, 3]]);
+    }
+
+    #[test]
+    fn product_cells_are_intersections_of_the_two_covers() {
+        let mut r = crate::rng::SplitMix64::new(8);
+        let v1: Vec<f64> = (0..500).map(|_| r.normal()).collect();
+        let v2: Vec<f64> = (0..500).map(|_| r.normal() * 3.0).collect();
+        let c1 = CoverSettings::uniform(4, 0.3);
+        let c2 = CoverSettings { intervals: 3, overlap: 0.4, kind: CoverKind::Balanced };
+        let p = build(&v1, &c1, Some((&v2, &c2)));
+        let a = build(&v1, &c1, None);
+        let b = build(&v2, &c2, None);
+        assert_eq!(p.elements.len(), 12);
+        for e in 0..12 {
+            let (i, j) = p.cell(e);
+            let j = j.unwrap();
+            assert_eq!((i, j), (e / 3, e % 3));
+            let want: Vec<u32> = a.elements[i].iter().copied().filter(|x| b.elements[j].binary_search(x).is_ok()).collect();
+            assert_eq!(p.elements[e], want, "cell ({i}, {j})");
+        }
+        assert_eq!(p.second.as_ref().unwrap().intervals, b.intervals);
+        // Every point is in some cell.
+        let mut seen = vec![false; 500];
+        p.elements.iter().flatten().for_each(|&x| seen[x as usize] = true);
+        assert!(seen.iter().all(|&s| s));
     }
 }

@@ -424,4 +424,61 @@ mod tests {
         v["derived"][0]["formula"] = serde_json::json!("a");
         assert!(Settings::from_value(v).unwrap_err().to_string().contains("formula"));
     }
+
+    #[test]
+    fn new_fields_round_trip_and_default() {
+        let mut s = sample();
+        s.lens = Lens::DistanceToMeasure { k: 12 };
+        s.lens2 = Some(Lens::LInfinityCentrality);
+        s.cover2 = Some(CoverSettings { intervals: 4, overlap: 0.2, kind: CoverKind::Balanced });
+        s.missing.per_column.insert("b".into(), ColumnMissing { fill_values: Some(vec![0.0]), policy: MissingPolicy::Median });
+        let text = s.to_json();
+        assert!(text.contains("\"kind\": \"distanceToMeasure\"") && text.contains("\"kind\": \"lInfinityCentrality\""), "{text}");
+        assert!(text.contains("\"perColumn\"") && text.contains("\"policy\": \"median\"") && text.contains("\"kind\": \"balanced\""), "{text}");
+        assert_eq!(Settings::from_json(&text).unwrap(), s);
+        // Documents written before these fields existed still read, with the defaults.
+        let old = r#"{"version":1,"columns":["a"],"scaling":"none","lens":{"kind":"neighbourDistance","k":3},
+            "missing":{"fillValues":[-1],"perColumn":{"a":{}}},
+            "cover":{"intervals":3,"overlap":0.2},"clustering":{"kind":"singleLinkage","gapBins":8}}"#;
+        let t = Settings::from_json(old).unwrap();
+        assert_eq!(t.cover.kind, CoverKind::Uniform);
+        assert_eq!((t.lens2.clone(), t.cover2.clone()), (None, None));
+        assert_eq!(t.missing.policy_for("a"), MissingPolicy::LeaveOut);
+        assert_eq!(t.missing.fills_for("a"), &[-1.0]);
+        // One filter writes no lens2 / cover2 / perColumn fields at all.
+        assert!(!sample().to_json().contains("lens2") && !sample().to_json().contains("perColumn"));
+    }
+
+    #[test]
+    fn new_fields_are_checked_naming_the_field() {
+        let err = |s: &Settings| s.validate().unwrap_err().to_string();
+        let mut s = sample();
+        s.lens = Lens::NeighbourDistance { k: 0 };
+        assert!(err(&s).contains("'lens.k'"), "{}", err(&s));
+        let mut s = sample();
+        s.lens2 = Some(Lens::DistanceToMeasure { k: 0 });
+        assert!(err(&s).contains("'lens2.k'"), "{}", err(&s));
+        let mut s = sample();
+        s.cover2 = Some(CoverSettings::uniform(3, 0.1));
+        assert!(err(&s).contains("'cover2'") && err(&s).contains("lens2"), "{}", err(&s));
+        let mut s = sample();
+        s.lens2 = Some(Lens::Principal { component: 2 });
+        s.cover2 = Some(CoverSettings::uniform(3, 1.5));
+        assert!(err(&s).contains("'cover2.overlap'"), "{}", err(&s));
+        s.cover2 = Some(CoverSettings::uniform(1000, 0.1));
+        s.cover.intervals = 1000;
+        assert!(err(&s).contains("'cover2.intervals'") && err(&s).contains("1000000 cells"), "{}", err(&s));
+        s.cover2 = None;
+        s.cover.intervals = 10;
+        assert!(s.validate().is_ok(), "cover2 absent means the same as cover");
+        let mut s = sample();
+        s.missing.per_column.insert("b".into(), ColumnMissing { fill_values: Some(vec![f64::NAN]), policy: MissingPolicy::LeaveOut });
+        assert!(err(&s).contains("'missing.perColumn.b.fillValues'"), "{}", err(&s));
+        let mut v: serde_json::Value = serde_json::from_str(&sample().to_json()).unwrap();
+        v["cover"]["kind"] = serde_json::json!("quantile");
+        assert!(Settings::from_value(v).unwrap_err().to_string().contains("quantile"));
+        let mut v: serde_json::Value = serde_json::from_str(&sample().to_json()).unwrap();
+        v["missing"]["perColumn"] = serde_json::json!({"b": {"policy": "mean"}});
+        assert!(Settings::from_value(v).unwrap_err().to_string().contains("mean"));
+    }
 }

@@ -11,7 +11,8 @@
  *   automatic settings. Never any data.
  * - the fragment: `#s=` + the settings JSON, URI-encoded (with `#demo&s=...` when the page
  *   was opened on the demo). Settings only, never data; a fragment is not sent anywhere.
- *   It wins over local storage when both apply.
+ *   It wins over local storage when both apply, and is used on the first file opened
+ *   after the address was given, not on later files.
  *
  * The graph formats are written by the engine (src/export.rs); the SVG is written here,
  * every text escaped.
@@ -221,7 +222,9 @@ async function restoreSettingsFor(loaded) {
   state.derivedInfo = [];
   const f = fragmentParts();
   const tries = [];
-  if (f.settings) tries.push(["fragment", f.settings]);
+  // The fragment counts only when it came with the address (or was typed in), not when
+  // this page wrote it for the previous file.
+  if (f.settings && location.hash !== state.writingFragment) tries.push(["fragment", f.settings]);
   const stored = storedSettingsFor(loaded.table);
   if (stored) tries.push(["stored", stored]);
   const notes = [];

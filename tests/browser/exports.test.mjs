@@ -174,6 +174,7 @@ test("the address fragment carries the settings, never data, and rebuilds the sa
   assert.deepEqual(await page.evaluate(() => window.nervure.summary()), summary);
   // A fragment with a bad field is reported by name and the automatic settings are used.
   const bad = pageUrl + "#s=" + encodeURIComponent(JSON.stringify({ ...CHOSEN, cover: { intervals: 0, overlap: 0.2 } }));
+  await page.evaluate(() => localStorage.clear());
   await page.goto("about:blank");
   await page.goto(bad);
   await openCircle();

@@ -54,7 +54,9 @@ function showDerivedError(message) {
   const box = byId("d-error");
   box.hidden = !message;
   // The engine's message: "setting 'derived[0].expression': <expression>\n<carets> <what>".
-  box.textContent = message || "";
+  // The field goes on its own line, so the carets line up under the expression.
+  const m = /^(setting '[^']*':) ([^\n]*\n)/.exec(message || "");
+  box.textContent = m ? m[1] + "\n" + message.slice(m[0].length - m[2].length) : (message || "");
 }
 
 /** Replaces the derived list, checks and builds; on error the previous list comes back

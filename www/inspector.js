@@ -142,6 +142,7 @@ function turnRowPage(delta) {
 function renderDetail() {
   const box = byId("detail");
   const sel = state.selection || new Set();
+  byId("detail-empty").hidden = sel.size > 0;
   if (sel.size === 0 || !state.graph) { box.hidden = true; return; }
   box.hidden = false;
   const list = Array.from(sel).sort((a, b) => a - b);
@@ -166,10 +167,10 @@ function renderStats(d) {
   const wrap = byId("detail-stats-wrap");
   const body = byId("detail-stats");
   body.textContent = "";
-  byId("detail-stats-title").textContent = d ? "Columns in this node" : "Columns in these rows (mean here and elsewhere)";
+  byId("detail-stats-title").textContent = d ? "Columns in this node" : "Columns in these rows (mean in the group and out of it)";
   const head = byId("detail-stats-head");
   head.textContent = "";
-  const cols = d ? ["Column", "Mean", "Min", "Max"] : ["Column", "Mean here", "Elsewhere"];
+  const cols = d ? ["Column", "Mean", "Min", "Max"] : ["Column", "Mean in", "Mean out"];
   cols.forEach(function (c, k) { const th = el("th", k ? "num" : null, c); th.scope = "col"; head.append(th); });
   if (d) {
     for (const c of d.columns) {

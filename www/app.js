@@ -6,6 +6,16 @@
  * the same functions, so a script sees exactly what a person sees, errors included.
  */
 
+/* HOOK(node statistics): the engine will offer median, spread and the share of rows above a
+ * threshold besides the mean; add them here as [stat, words] and the colour card shows a
+ * choice (the worker passes `stat` to Engine.node_values unchanged). */
+const COLOUR_STATS = [["mean", "Mean"]];
+
+function statWords(stat) {
+  const hit = COLOUR_STATS.find((s) => s[0] === stat);
+  return hit ? hit[1] : stat;
+}
+
 /** Wait after the last settings change before building again. */
 const RERUN_DELAY_MS = 350;
 
@@ -253,6 +263,8 @@ async function afterBuild() {
   writeFragment();
   recordRun();
   renderChrome();
+  // HOOK(lens histogram): when the engine offers it, fetch the lens histogram here and draw
+  // it with the cover's intervals under the Cover fields of the settings form.
   if (state.tab === "scatter") { renderScatterControls(); refreshScatter(); }
 }
 
@@ -541,7 +553,7 @@ function renderLegend() {
   const has = state.colour.values && state.graph;
   legend.hidden = !has;
   if (!has) return;
-  byId("legend-title").textContent = "Mean of " + state.colour.column + " in each node";
+  byId("legend-title").textContent = statWords(state.colour.stat) + " of " + state.colour.column + " in each node";
   byId("legend-min").textContent = formatNumber(state.colour.min);
   byId("legend-max").textContent = formatNumber(state.colour.max);
   byId("legend-bar").style.backgroundImage = cividisGradient();

@@ -114,7 +114,7 @@ function graphSvg() {
   }
   out.push("</g>");
   if (state.colour.values) {
-    const title = "Mean of " + state.colour.column + " in each node";
+    const title = statWords(state.colour.stat) + " of " + state.colour.column + " in each node";
     const lw = Math.max(240, Math.min(420, 14 + 7.4 * title.length));
     const x = w - lw - 12, y = 12;
     out.push('<defs><linearGradient id="legend-map" x1="0" x2="1" y1="0" y2="0">');

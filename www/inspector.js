@@ -228,7 +228,8 @@ function renderContrast() {
     ks.prepend(bar);
     const p = el("td", "num", formatP(r.pValue));
     if (r.pMethod) p.title = r.pMethod + " p-value (as scipy.stats.ks_2samp computes it)";
-    tr.append(th, ks, p, el("td", "num", formatNumber(r.smd)), el("td", "num", formatNumber(r.meanIn)), el("td", "num", formatNumber(r.meanOut)));
+    // Means in and out are in the column table below (or the node's own statistics).
+    tr.append(th, ks, p, el("td", "num", formatNumber(r.smd)));
     body.append(tr);
   }
 }

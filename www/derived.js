@@ -57,6 +57,7 @@ function showDerivedError(message) {
   // The field goes on its own line, so the carets line up under the expression.
   const m = /^(setting '[^']*':) ([^\n]*\n)/.exec(message || "");
   box.textContent = m ? m[1] + "\n" + message.slice(m[0].length - m[2].length) : (message || "");
+  if (message) box.scrollIntoView({ block: "nearest" });
 }
 
 /** Replaces the derived list, checks and builds; on error the previous list comes back

@@ -139,12 +139,27 @@ impl Engine {
         out.into()
     }
 
-    /// One value per node of the last graph: `stat` (e.g. "mean") of `column` over its rows.
-    pub fn node_values(&self, column: &str, stat: &str) -> Result<Float64Array, JsValue> {
-        let stat: NodeStat = serde_json::from_value(serde_json::Value::String(stat.to_string()))
-            .map_err(|_| fail(format!("unknown node statistic '{stat}'")))?;
+    /// One value per node of the last graph: `stat` of `column` over its rows. `stat` is
+    /// a string ("mean", "median", "spread") or an object such as
+    /// `{kind: "shareAbove", threshold: 2.5}` (see [`NodeStat`]).
+    pub fn node_values(&self, column: &str, stat: &JsValue) -> Result<Float64Array, JsValue> {
+        let text: String = js_sys::JSON::stringify(stat).map_err(|_| fail("setting 'stat': cannot be written as JSON"))?.into();
+        let value: serde_json::Value = serde_json::from_str(&text).map_err(fail)?;
+        let stat = NodeStat::from_json(&value).map_err(fail)?;
         let values = self.bench.node_values(column, stat).map_err(fail)?;
         Ok(Float64Array::from(&values[..]))
+    }
+
+    /// Each node's mean lens value: `axis` 0 (or absent) for `lens`, 1 for `lens2`.
+    pub fn node_lens_values(&self, axis: Option<u32>) -> Result<Float64Array, JsValue> {
+        let values = self.bench.node_lens_values(axis.unwrap_or(0) as usize).map_err(fail)?;
+        Ok(Float64Array::from(&values[..]))
+    }
+
+    /// The lens histogram with the cover's intervals: `{edges, counts, intervals: [[a, b, rows]]}`
+    /// for `lens` (`axis` 0 or absent) or `lens2` (1).
+    pub fn lens_histogram(&self, bins: u32, axis: Option<u32>) -> Result<JsValue, JsValue> {
+        to_js(&self.bench.lens_histogram(bins as usize, axis.unwrap_or(0) as usize).map_err(fail)?)
     }
 
     /// Size, cover element, per-column statistics and first member rows of one node.

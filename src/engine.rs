@@ -546,6 +546,21 @@ impl Workbench {
         })
     }
 
+    /// A seeded sample of at most `limit` rows with two values each, for the page's linked
+    /// scatter (see [`crate::scatter`]); the principal components are those of the points
+    /// of the last build.
+    pub fn scatter(&self, axes: &crate::scatter::Axes, limit: usize) -> Result<crate::scatter::ScatterData> {
+        let (table, b) = self.table_and_build()?;
+        match axes {
+            crate::scatter::Axes::Columns(x, y) => crate::scatter::column_pair(table, &b.settings.missing.fill_values, x, y, limit, b.settings.seed),
+            crate::scatter::Axes::Principal => {
+                let pts = self.points.as_ref().filter(|(k, _)| *k == PointsKey::of(&b.settings)).map(|(_, p)| p);
+                let pts = pts.ok_or_else(|| Error::Data("the points of the last graph are gone; build the graph again".into()))?;
+                crate::scatter::principal_pair(pts, limit, b.settings.seed)
+            }
+        }
+    }
+
     fn table_and_build(&self) -> Result<(&Table, &Build)> {
         let t = self.need_table()?;
         let b = self.last.as_ref().ok_or_else(|| Error::Data("no graph has been built yet".into()))?;

@@ -30,6 +30,7 @@ pub mod shape;
 pub mod export;
 pub mod explain;
 pub mod rng;
+pub mod scatter;
 
 #[cfg(target_arch = "wasm32")]
 pub mod web;

@@ -178,16 +178,9 @@ pub struct CoverSettings {
     pub intervals: usize,
     /// Fraction of an interval's length shared with the next one, in [0, 1).
     pub overlap: f64,
-    /// `"uniform"` (the default, and then not written, so documents from before this
-    /// field read and write the same) or `"balanced"`.
-    #[serde(default, skip_serializing_if = "CoverKind::is_uniform")]
+    /// `"uniform"` (the default) or `"balanced"`.
+    #[serde(default)]
     pub kind: CoverKind,
-}
-
-impl CoverKind {
-    fn is_uniform(&self) -> bool {
-        *self == CoverKind::Uniform
-    }
 }
 
 impl CoverSettings {
@@ -454,7 +447,6 @@ mod tests {
         assert_eq!(t.missing.fills_for("a"), &[-1.0]);
         // One filter writes no lens2 / cover2 / perColumn fields at all.
         assert!(!sample().to_json().contains("lens2") && !sample().to_json().contains("perColumn"));
-        assert!(!sample().to_json().contains("\"kind\": \"uniform\""), "a uniform cover is written as before");
     }
 
     #[test]

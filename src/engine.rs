@@ -49,6 +49,10 @@ pub struct Summary {
     /// Cover elements that held at least one row.
     pub elements: usize,
     pub left_out_by_column: Vec<(String, usize)>,
+    /// Settings that gave a graph but probably not the one wanted, one sentence each
+    /// (absent from the JSON when there is none).
+    #[serde(skip_serializing_if = "Vec::is_empty", default)]
+    pub warnings: Vec<String>,
 }
 
 /// Statistic of a column over a node's rows.
@@ -622,8 +626,23 @@ fn assemble(table: &Table, pts: &Points, lens: &[f64], cov: &Cover, c: &Clustere
         noise_rows: c.noise_rows,
         elements: cov.elements.iter().filter(|e| !e.is_empty()).count(),
         left_out_by_column: pts.left_out_by_column.clone(),
+        warnings: settings_warnings(s, pts.rows.len()),
     };
     Build { settings: s.clone(), summary, nerve, layout, node_lens, lens_range: (cov.lo, cov.hi), intervals: cov.intervals.clone() }
+}
+
+/// Warnings about settings that are valid but unlikely to be meant. More intervals than
+/// rows is allowed (the cover is still defined) but leaves most intervals empty.
+fn settings_warnings(s: &Settings, rows: usize) -> Vec<String> {
+    let mut out = Vec::new();
+    if s.cover.intervals > rows {
+        out.push(format!(
+            "setting 'cover.intervals': {} intervals for {rows} row{} leaves most intervals empty; fewer intervals (at most {rows}) give a readable graph",
+            s.cover.intervals,
+            if rows == 1 { "" } else { "s" }
+        ));
+    }
+    out
 }
 
 /// The most common code among `rows` and its share, ignoring missing values.

@@ -86,6 +86,11 @@ pub fn build_points(table: &Table, s: &Settings) -> Result<Points> {
         }
     }
     let rows: Vec<u32> = (0..n as u32).filter(|&i| keep[i as usize]).collect();
+    if let Some((c, _)) = by_column.iter().find(|(_, k)| *k == n && n > 0) {
+        return Err(Error::Data(format!(
+            "column '{c}' has no value in any row (every cell is empty, a missing marker or a fill value); leave it out"
+        )));
+    }
     if rows.is_empty() {
         let worst = by_column.iter().max_by_key(|(_, c)| *c).map(|(c, k)| format!(" ('{c}' is missing in {k} rows)")).unwrap_or_default();
         return Err(Error::Data(format!(

@@ -192,7 +192,6 @@ impl Workbench {
     pub fn run(&mut self, s: &Settings, progress: &mut dyn FnMut(&str, f64)) -> Result<Summary> {
         s.validate()?;
         self.sync_derived(s)?;
-        let table = self.table.as_ref().ok_or_else(|| Error::Input("no table is loaded yet: open a CSV file first".into()))?;
         if let Some(b) = &self.last {
             if graph_key(&b.settings) == graph_key(s) {
                 let b = self.last.as_mut().expect("checked");
@@ -200,6 +199,30 @@ impl Workbench {
                 return Ok(b.summary.clone());
             }
         }
+        self.cluster_stages(s, progress)?;
+        let table = self.table.as_ref().expect("checked by cluster_stages");
+        let pts = &self.points.as_ref().expect("just set").1;
+        let lens = &self.lens.as_ref().expect("just set").1;
+        let cov = &self.cover.as_ref().expect("just set").1;
+        let clustered = &self.clustered.as_ref().expect("just set").1;
+        let b = assemble(table, pts, lens, cov, clustered, s, progress);
+        let summary = b.summary.clone();
+        self.last = Some(b);
+        Ok(summary)
+    }
+
+    /// How many nodes the graph of `s` has, computed (and cached) up to the clusters, before
+    /// the edges and the layout: the page asks before drawing a graph too large to read.
+    pub fn node_count(&mut self, s: &Settings, progress: &mut dyn FnMut(&str, f64)) -> Result<usize> {
+        s.validate()?;
+        self.sync_derived(s)?;
+        self.cluster_stages(s, progress)?;
+        Ok(self.clustered.as_ref().expect("just set").1.nodes.len())
+    }
+
+    /// Every stage up to the clusters, each re-used when its part of the settings is unchanged.
+    fn cluster_stages(&mut self, s: &Settings, progress: &mut dyn FnMut(&str, f64)) -> Result<()> {
+        let table = self.table.as_ref().ok_or_else(|| Error::Input("no table is loaded yet: open a CSV file first".into()))?;
         let pk = PointsKey::of(s);
         if self.points.as_ref().map(|(k, _)| k) != Some(&pk) {
             progress("points", 0.0);
@@ -225,11 +248,7 @@ impl Workbench {
         if self.clustered.as_ref().map(|(k, _)| k) != Some(&kk) {
             self.clustered = Some((kk, cluster_elements(pts, cov, &s.clustering, progress)));
         }
-        let clustered = &self.clustered.as_ref().expect("just set").1;
-        let b = assemble(table, pts, lens, cov, clustered, s, progress);
-        let summary = b.summary.clone();
-        self.last = Some(b);
-        Ok(summary)
+        Ok(())
     }
 
     /// One value per node of the last build: for a numeric column the statistic over the

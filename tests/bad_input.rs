@@ -86,11 +86,11 @@ fn a_single_row_gives_one_node() {
     let b = build(&t, &s).unwrap();
     assert_eq!((b.summary.nodes, b.summary.edges, b.summary.components), (1, 0, 1));
     no_nan(&b);
-    // The automatic settings either work or say why; they never panic.
-    match auto_settings(&t) {
-        Ok(s) => no_nan(&build(&t, &s).unwrap()),
-        Err(e) => assert!(e.to_string().contains("no numeric column"), "{e}"),
-    }
+    // The automatic settings (and so the page) refuse it with a clear message.
+    assert_eq!(
+        auto_settings(&t).unwrap_err().to_string(),
+        "t.csv has a single data row; a graph of the data's shape needs at least two rows"
+    );
 }
 
 #[test]
@@ -102,6 +102,7 @@ fn identical_rows_give_one_node_without_nan() {
     // singular one too): the message says so.
     s.lens = Lens::Density { bandwidth: None };
     assert!(build(&t, &s).unwrap_err().to_string().contains("constant or perfectly correlated"));
+    assert!(auto_settings(&t).unwrap_err().to_string().contains("no numeric column that varies"));
     for lens in [Lens::Principal { component: 1 }, Lens::Column { column: "a".into() }, Lens::Eccentricity { norm: Spread::Rms }] {
         s.lens = lens.clone();
         match build(&t, &s) {
@@ -208,4 +209,17 @@ fn bad_settings_documents_name_the_field() {
     // Fields inside a kind are refused by the settings reader, which names them.
     let e = refused(|v| v["clustering"]["radius"] = json!(1));
     assert!(e.contains("radius"), "{e}");
+}
+
+#[test]
+fn node_count_before_layout_matches_the_built_graph() {
+    let t = read(&awkward());
+    let mut w = Workbench::new();
+    w.set_table(t);
+    let mut s = base(&["a", "b"]);
+    for intervals in [1, 3, 8] {
+        s.cover.intervals = intervals;
+        let n = w.node_count(&s, &mut |_, _| {}).unwrap();
+        assert_eq!(w.run(&s, &mut |_, _| {}).unwrap().nodes, n, "{intervals} intervals");
+    }
 }

@@ -10,6 +10,9 @@
  *               {id, type: "detail", node}
  *               {id, type: "summaries", fillValues}
  *               {id, type: "check", settings}
+ *               (load may carry options: {textAsMissing}; run may carry nodeLimit, and then
+ *               answers {confirm: {confirmNodes, limit}} for a graph over the limit;
+ *               testExhaustMemory / testCrash / testBusy {ms} exist for the recovery tests)
  * Messages out: {id, type: "progress", stage, fraction}
  *               {id, type: "result", value}
  *               {id, type: "error", message, fatal}
@@ -51,8 +54,11 @@ function progressPoster(id) {
   };
 }
 
+/** Read options of the file being loaded ({textAsMissing}), or null. */
+let readOptions = null;
+
 function readFileInto(engine, file, name, progress) {
-  engine.begin_table(name);
+  engine.begin_table_with(name, readOptions);
   const reader = new FileReaderSync();
   const size = file.size;
   progress("reading", 0);
@@ -65,7 +71,7 @@ function readFileInto(engine, file, name, progress) {
 }
 
 function readTextInto(engine, text, name, progress) {
-  engine.begin_table(name);
+  engine.begin_table_with(name, readOptions);
   const bytes = new TextEncoder().encode(text);
   progress("reading", 0);
   for (let offset = 0; offset < bytes.length; offset += SLICE_BYTES) {
@@ -87,6 +93,7 @@ function handle(engine, msg) {
   const progress = progressPoster(id);
   switch (msg.type) {
     case "load": {
+      readOptions = msg.options || null;
       if (msg.file) readFileInto(engine, msg.file, msg.name, progress);
       else readTextInto(engine, msg.text, msg.name, progress);
       engine.finish_table();
@@ -99,7 +106,9 @@ function handle(engine, msg) {
     case "run": {
       // A newer run is already waiting: skip this one, its settings are out of date.
       if (msg.id !== latestRun) return { value: { superseded: true } };
+      engine.set_node_limit(msg.nodeLimit || 0);
       const summary = engine.run(msg.settings, progress);
+      if (summary && summary.confirmNodes !== undefined) return { value: { confirm: summary } };
       const graph = graphMessage(engine);
       let colour = null;
       if (msg.colour && msg.colour.column) {
@@ -118,6 +127,16 @@ function handle(engine, msg) {
       return { value: engine.column_summaries(new Float64Array(msg.fillValues || [])) };
     case "check":
       return { value: engine.check_settings(msg.settings) };
+    case "testExhaustMemory":
+      return { value: engine.exhaust_memory_for_test() };
+    case "testCrash":
+      setTimeout(function () { throw new Error("test: the worker stopped"); }, 0);
+      return { value: null };
+    case "testBusy": {
+      const end = performance.now() + (msg.ms || 0);
+      while (performance.now() < end) { /* a long synchronous step, as a big build is */ }
+      return { value: null };
+    }
     default:
       throw new Error("internal: unknown request '" + msg.type + "'");
   }
@@ -147,7 +166,11 @@ self.onmessage = function (event) {
     } catch (e) {
       // A trap (RuntimeError) means the engine panicked: its state is lost.
       const fatal = e instanceof WebAssembly.RuntimeError;
-      const message = fatal
+      const memory = fatal ? wasm_bindgen.memory_report() : null;
+      const mb = (b) => Math.round(b / 1048576).toLocaleString("en") + " MB";
+      const message = fatal && memory.failedBytes > 0
+        ? "The engine ran out of memory: it asked for " + mb(memory.failedBytes) + " more while holding " + mb(memory.heldBytes) + ". The engine was restarted. Try fewer rows or columns, or settings that build less (fewer intervals, a smaller radius)."
+        : fatal
         ? "Internal error in the engine" + (lastPanic ? " (" + lastPanic + ")" : "") + ". The engine was restarted; please report this with the file's shape and your settings."
         : (e && e.message ? e.message : String(e));
       self.postMessage({ id: msg.id, type: "error", fatal, message });

@@ -31,11 +31,13 @@ fn base(columns: &[&str]) -> Settings {
         scaling: Scaling::Zscore,
         missing: Missing::default(),
         lens: Lens::Principal { component: 1 },
-        cover: CoverSettings { intervals: 4, overlap: 0.3 },
+        cover: CoverSettings::uniform(4, 0.3),
         clustering: Clustering::Dbscan { eps: 1.0, min_points: 1 },
         edges: EdgeRule::default(),
         seed: 1,
         derived: Vec::new(),
+        lens2: None,
+        cover2: None,
     }
 }
 
@@ -200,11 +202,11 @@ fn bad_settings_documents_name_the_field() {
     );
     assert_eq!(
         refused(|v| v["colour"] = json!("red")),
-        "setting 'colour': unknown field; this build does not read it (fields: version, columns, scaling, missing, lens, cover, clustering, edges, seed, derived)"
+        "setting 'colour': unknown field; this build does not read it (fields: version, columns, scaling, missing, lens, cover, clustering, edges, seed, derived, lens2, cover2)"
     );
     assert_eq!(
         refused(|v| v["cover"]["width"] = json!(1)),
-        "setting 'cover.width': unknown field; this build does not read it (fields: intervals, overlap)"
+        "setting 'cover.width': unknown field; this build does not read it (fields: intervals, overlap, kind)"
     );
     // Fields inside a kind are refused by the settings reader, which names them.
     let e = refused(|v| v["clustering"]["radius"] = json!(1));

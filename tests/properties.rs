@@ -218,6 +218,9 @@ fn valid_settings() -> impl Strategy<Value = Settings> {
         (1usize..6).prop_map(|component| Lens::Principal { component }),
         prop::option::of(0.01f64..5.0).prop_map(|bandwidth| Lens::Density { bandwidth }),
         prop::sample::select(vec![Spread::Mean, Spread::Rms, Spread::Max]).prop_map(|norm| Lens::Eccentricity { norm }),
+        (1usize..20).prop_map(|k| Lens::DistanceToMeasure { k }),
+        (1usize..20).prop_map(|k| Lens::NeighbourDistance { k }),
+        Just(Lens::LInfinityCentrality),
     ];
     let clustering = prop_oneof![
         (1e-6f64..100.0, 1usize..50).prop_map(|(eps, min_points)| Clustering::Dbscan { eps, min_points }),
@@ -237,13 +240,15 @@ fn valid_settings() -> impl Strategy<Value = Settings> {
             version: SETTINGS_VERSION,
             columns,
             scaling,
-            missing: Missing { fill_values },
+            missing: Missing { fill_values, ..Missing::default() },
             lens,
-            cover: CoverSettings { intervals, overlap },
+            cover: CoverSettings::uniform(intervals, overlap),
             clustering,
             edges: EdgeRule { min_shared },
             seed,
             derived: Vec::new(),
+            lens2: None,
+            cover2: None,
         })
 }
 

@@ -298,6 +298,22 @@ test("bad settings are refused naming the field; the graph and settings survive"
     assert.deepEqual(now.summary, before.summary, what + ": summary changed");
     results.push({ input: "settings: " + what, message, survived: "yes" });
   }
+  // The same refusals through the page's "Open settings…" file input.
+  const imports = [
+    ["settings file from a newer version", "newer.settings.json", JSON.stringify({ ...s, version: 3 }), "setting 'version': the file is version 3, written by a newer Nervure; this build reads version 1"],
+    ["settings file with an unknown field", "extra.settings.json", JSON.stringify({ ...s, cover: { ...s.cover, width: 2 } }), "setting 'cover.width': unknown field; this build does not read it (fields: intervals, overlap, kind)"],
+    ["settings file with negative intervals", "negative.settings.json", JSON.stringify({ ...s, cover: { ...s.cover, intervals: -1 } }), "setting 'cover.intervals': -1 is not allowed; use a whole number of at least 1"],
+    ["settings file that is not JSON", "broken.settings.json", "{\"version\": 1,", /^setting '\(document\)': broken\.settings\.json is not JSON/],
+  ];
+  for (const [what, name, text, expected] of imports) {
+    await page.setInputFiles("#import-settings", { name, mimeType: "application/json", buffer: Buffer.from(text) });
+    const re = expected instanceof RegExp ? expected : new RegExp("^" + expected.replace(/[.*+?^${}()|[\]\\]/g, "\\$&") + "$");
+    const message = await waitForMessage(page, re);
+    const now = await snapshot(page);
+    assert.deepEqual(now.settings, before.settings, what + ": settings changed");
+    assert.deepEqual(now.summary, before.summary, what + ": summary changed");
+    results.push({ input: "import: " + what, message, survived: "yes" });
+  }
   // An expression naming a missing column is found when the build starts.
   const message = await page.evaluate((b) => window.nervure.applySettings(b).then(() => window.nervure.run()).then(() => null, (e) => e.message), { ...s, derived: [{ name: "ratio", expression: "water_temp_c / nosuch" }] });
   assert.match(message, /^setting 'derived\[0\]\.expression': water_temp_c \/ nosuch\n\s+\^+ no column named 'nosuch'/);
@@ -433,20 +449,25 @@ test("a whole session makes no request beyond the page itself and blob:/data: UR
   const i = layout.order[layout.order.length - 1];
   await page.mouse.click(box.x + layout.positions[2 * i] * layout.scale + layout.offsetX, box.y + layout.positions[2 * i + 1] * layout.scale + layout.offsetY);
   await page.waitForTimeout(300);
-  // Every export button the page has.
-  const exportButtons = await page.$$eval("header button, .masthead-actions button, button[id^=export], button[id^=save]", (bs) => Array.from(new Set(bs.filter((b) => !b.disabled && !b.hidden).map((b) => b.id))));
+  // Every export the page offers: the Export menu's buttons (ui3's menu), or older save buttons.
+  const formats = await page.$$eval("[data-export]", (bs) => bs.map((b) => b.dataset.export));
+  const exportButtons = formats.length ? formats.map((f) => `[data-export="${f}"]`) : ["#save-settings", "#save-picture"];
   assert.ok(exportButtons.length >= 2, "export buttons: " + exportButtons);
-  for (const id of exportButtons) {
-    const download = page.waitForEvent("download", { timeout: 10000 }).catch(() => null);
-    await page.click("#" + id);
+  let downloads = 0;
+  for (const sel of exportButtons) {
+    if (formats.length && !(await page.evaluate(() => document.getElementById("export-menu").open))) await page.click("#export-button");
+    await page.waitForSelector(sel + ":not([disabled])", { timeout: 10000 });
+    const download = page.waitForEvent("download", { timeout: 15000 }).catch(() => null);
+    await page.click(sel);
     const d = await download;
-    if (d) await d.path();
+    if (d) { await d.path(); downloads++; }
   }
+  assert.equal(downloads, exportButtons.length, "every export gave a download");
   await page.waitForTimeout(500);
   context.off("request", record);
   const bad = seen.filter((u) => !allowed(u));
   assert.deepEqual(bad, [], "requests beyond the page");
   assert.ok(seen.includes(pageUrl), "the page itself was recorded");
-  console.log(`privacy: ${seen.length} requests recorded (${seen.filter((u) => u.startsWith("blob:")).length} blob:, ${seen.filter((u) => u.startsWith("data:")).length} data:), exports clicked: ${exportButtons.join(", ")}`);
+  console.log(`privacy: ${seen.length} requests recorded (${seen.filter((u) => u.startsWith("blob:")).length} blob:, ${seen.filter((u) => u.startsWith("data:")).length} data:), exports downloaded: ${formats.join(", ")}`);
   await closePage(p);
 });

@@ -43,12 +43,14 @@ const engine = (function () {
       const msg = event.data;
       const w = waiting.get(msg.id);
       if (!w) return;
-      if (msg.type === "progress") { if (w.onProgress) w.onProgress(msg.stage, msg.fraction); return; }
+      if (msg.type === "progress") { if (w.onProgress) w.onProgress(msg.stage, msg.fraction, msg); return; }
       waiting.delete(msg.id);
       if (msg.type === "result") w.resolve(msg.value);
       else {
         if (msg.fatal) restart();
-        w.reject(new Error(msg.message));
+        const err = new Error(msg.message);
+        err.cancelled = !!msg.cancelled;
+        w.reject(err);
       }
     };
     worker.onerror = function (event) {
@@ -75,7 +77,15 @@ const engine = (function () {
     });
   }
 
-  return { request, start };
+  /** A step-wise job (worker.js): {done: Promise, cancel()}; a cancelled job rejects
+   *  with an error whose `cancelled` is true. */
+  function job(payload, onProgress) {
+    const id = nextId;
+    const done = request("job", payload, onProgress);
+    return { done, cancel: function () { if (worker) worker.postMessage({ type: "cancel", target: id }); } };
+  }
+
+  return { request, start, job };
 })();
 
 function onEngineLost() {
@@ -87,6 +97,7 @@ function onEngineLost() {
   state.phase = "failed";
   view.setGraph(null);
   renderAll();
+  shapePanel.tableChanged();
 }
 
 /* ---------------------------------------------------------------- loading */
@@ -154,6 +165,7 @@ async function loadTable(source) {
   state.colour = { column: defaultColourColumn(), stat: "mean", values: null, min: NaN, max: NaN };
   view.setGraph(null);
   renderAll();
+  shapePanel.tableChanged();
   await buildNow();
   return state.table;
 }
@@ -230,6 +242,7 @@ async function build(seq) {
   const card = byId("colour-block");
   view.insetTop = card.hidden ? 0 : card.offsetTop + card.offsetHeight;
   view.setGraph(out.graph, false);
+  shapePanel.graphChanged();
   return out.summary;
 }
 
@@ -739,6 +752,11 @@ window.nervure = Object.freeze({
   status: function () { return { phase: state.phase, builds: state.builds, pending: rerunTimer !== null }; },
   /** The message shown on the page, or null. */
   message: function () { return state.message; },
+});
+
+const shapePanel = createShapePanel({
+  request: engine.request, job: engine.job, view, applySettings, buildNow,
+  settings: () => state.settings, graph: () => state.graph, table: () => state.table, summary: () => state.summary,
 });
 
 wire();

@@ -29,12 +29,13 @@ use crate::settings::{Clustering, Settings};
 use crate::table::Table;
 
 /// The values to try; every combination is one cell.
-#[derive(Debug, Clone, PartialEq, Serialize)]
-#[serde(rename_all = "camelCase")]
+#[derive(Debug, Clone, PartialEq, Serialize, serde::Deserialize)]
+#[serde(rename_all = "camelCase", deny_unknown_fields)]
 pub struct Grid {
     pub intervals: Vec<usize>,
     pub overlaps: Vec<f64>,
     /// DBSCAN eps values to try; empty = keep the base settings' clustering.
+    #[serde(default)]
     pub eps: Vec<f64>,
 }
 

@@ -252,6 +252,24 @@ impl Engine {
         to_js(&TableInfo { name: &t.name, rows: t.n_rows, columns: t.summaries(&[]) })
     }
 
+    /// The second table made from the first by columns standing in for others
+    /// ([`shape::swap`]): `pairs` is `[[standsIn, forColumn], ..]`; the derived columns of
+    /// `settings` are left out (the second table's run makes its own).
+    pub fn table_b_from_columns(&mut self, pairs: JsValue, settings: JsValue) -> Result<JsValue, JsValue> {
+        let s = settings_from_js(&settings)?;
+        let text: String = js_sys::JSON::stringify(&pairs).map_err(|_| fail("column swap: cannot be written as JSON"))?.into();
+        let pairs: Vec<(String, String)> = serde_json::from_str(&text).map_err(|e| fail(format!("column swap: {e}")))?;
+        let a = self.bench.table().ok_or_else(|| fail("no table is loaded yet; open a CSV file first"))?;
+        let words: Vec<String> = pairs.iter().map(|(from, to)| format!("{to} ← {from}")).collect();
+        let name = format!("{} ({})", a.name, words.join(", "));
+        let leave_out: Vec<String> = s.derived.iter().map(|d| d.name.clone()).collect();
+        let table = shape::swap::swapped(a, &pairs, &leave_out, &name).map_err(fail)?;
+        self.comparing = None;
+        self.bench_b.set_table(table);
+        let t = self.bench_b.table().expect("just set");
+        to_js(&TableInfo { name: &t.name, rows: t.n_rows, columns: t.summaries(&[]) })
+    }
+
     /// Builds the second table's graph with `settings`; returns its summary.
     pub fn run_b(&mut self, settings: JsValue) -> Result<JsValue, JsValue> {
         let s = settings_from_js(&settings)?;

@@ -334,7 +334,8 @@ function createShapePanel(deps) {
     ctx.textAlign = "right";
     sp.grid.intervals.forEach((n, k) => ctx.fillText(String(n), L.left - 8, L.top + (k + 0.5) * L.ch));
     const words = { loops: "loops", components: "components", significant: "features that hold up (" + sp.grid.draws + " resamples per cell)" };
-    if (!sp.gridNote) byId("sp-grid-note").textContent = "Rows: interval counts; columns: overlaps; each cell shows its graph's " + words[measure] + ". Click a cell to use its settings.";
+    const range = Number.isFinite(lo) ? (hi > lo ? " Dark cells have the fewest (" + lo + "), light ones the most (" + hi + ")." : " Every cell has " + lo + ".") : "";
+    if (!sp.gridNote) byId("sp-grid-note").textContent = "Rows: interval counts; columns: overlaps; each cell shows its graph's " + words[measure] + "." + range + " The framed cell is the graph on screen; click a cell to use its settings.";
   }
 
   async function useCell(cell) {
@@ -356,6 +357,49 @@ function createShapePanel(deps) {
     render();
     try {
       const table = await deps.request("loadB", source);
+      sp.second = { table, summary: null, graph: null };
+      await buildSecond();
+    } catch (e) {
+      sp.compareNote = { text: "Second table: " + e.message, error: true };
+      render();
+      throw e;
+    }
+    render();
+    return sp.second.table;
+  }
+
+  /** The swap rows: one per column the settings use, each with a choice of stand-in. */
+  function renderSwap() {
+    const body = byId("sp-swap-body");
+    const s = deps.settings(), t = deps.table();
+    const cols = s ? s.columns : [];
+    const key = JSON.stringify([cols, t ? t.name : null]);
+    if (body.dataset.key === key) return;
+    body.dataset.key = key;
+    body.textContent = "";
+    const numeric = t ? t.columns.filter((c) => c.kind === "number").map((c) => c.name) : [];
+    for (const c of cols) {
+      const tr = el("tr");
+      const select = el("select");
+      select.dataset.column = c;
+      select.setAttribute("aria-label", "Values for " + c + " in the second table");
+      for (const n of numeric) { const o = el("option", null, n === c ? n + " (itself)" : n); o.value = n; select.append(o); }
+      select.value = c;
+      tr.append(el("td", null, c), el("td", null));
+      tr.lastChild.append(select);
+      body.append(tr);
+    }
+  }
+
+  async function useSwap() {
+    const pairs = Array.from(document.querySelectorAll("#sp-swap-body select")).filter((s) => s.value !== s.dataset.column).map((s) => [s.value, s.dataset.column]);
+    sp.compareNote = null;
+    sp.comparison = null;
+    sp.second = null;
+    render();
+    try {
+      if (pairs.length === 0) throw new Error("choose, for at least one column, another column whose values it takes");
+      const table = await deps.request("swapB", { pairs, settings: copySettings() });
       sp.second = { table, summary: null, graph: null };
       await buildSecond();
     } catch (e) {
@@ -453,6 +497,7 @@ function createShapePanel(deps) {
     renderSuggestion();
     drawGrid();
     if (sp.gridNote) note("sp-grid-note", sp.gridNote);
+    renderSwap();
     renderCompare();
     renderButtons();
   }
@@ -487,6 +532,7 @@ function createShapePanel(deps) {
     if (f) loadSecond({ file: f, name: f.name }).catch(quiet);
     file.value = "";
   });
+  byId("sp-swap-use").addEventListener("click", () => useSwap().catch(quiet));
   byId("sp-compare-run").addEventListener("click", () => runCompare().catch(quiet));
   byId("sp-compare-cancel").addEventListener("click", () => cancel("compare"));
 

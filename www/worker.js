@@ -13,6 +13,7 @@
  *               {id, type: "diagram"}
  *               {id, type: "suggest", settings, seed}
  *               {id, type: "loadB", file | text, name}     the second table of a comparison
+ *               {id, type: "swapB", pairs, settings}        second table = first with columns swapped
  *               {id, type: "runB", settings}
  *               {id, type: "job", job: "bootstrap" | "sweep" | "compare", ...arguments}
  *               {type: "cancel", target}                   stops job `target` between steps
@@ -137,6 +138,8 @@ function handle(engine, msg) {
       else readTextInto(second, msg.text, msg.name, progress);
       return { value: engine.finish_table_b() };
     }
+    case "swapB":
+      return { value: engine.table_b_from_columns(msg.pairs, msg.settings) };
     case "runB": {
       const summary = engine.run_b(msg.settings);
       const g = engine.graph_b();

@@ -218,6 +218,32 @@ test("comparing two tables: the same table is within chance, a segment is not", 
   await page.screenshot({ path: join(outDir, "shape-compare.png"), fullPage: true });
 });
 
+test("comparing two column sets of one table: the circle against its mirror image", async () => {
+  await openCircle();
+  await page.click("#sp-swap summary");
+  // x takes y's values and y takes x's: the circle mirrored in the diagonal, still one loop.
+  await page.selectOption("#sp-swap-body select[data-column=x]", "y");
+  await page.selectOption("#sp-swap-body select[data-column=y]", "x");
+  await page.click("#sp-swap-use");
+  await page.waitForFunction(() => { const s = window.nervureShape.second(); return s && s.summary; }, null, { timeout: 60000 });
+  const second = await page.evaluate(() => window.nervureShape.second());
+  assert.equal(second.table.name, "circle.csv (x ← y, y ← x)");
+  assert.equal(second.table.rows, 600);
+  assert.equal(second.summary.loops, 1, "the mirrored circle keeps its loop");
+  await page.fill("#sp-draws", "10");
+  await page.click("#sp-compare-run");
+  await page.waitForFunction(() => window.nervureShape.comparison() !== null, null, { timeout: 120000 });
+  const c = await page.evaluate(() => window.nervureShape.comparison());
+  assert.ok(c.distance > 0, "the lens now reads the other coordinate, so the diagrams are not identical");
+  assert.equal(c.differ, false, `mirror image: distance ${c.distance}, reference ${c.threshold}`);
+  assert.match(await page.textContent("#sp-compare-result"), /within what chance alone gives/);
+  // Asking with no column changed says what to do.
+  await page.selectOption("#sp-swap-body select[data-column=x]", "x");
+  await page.selectOption("#sp-swap-body select[data-column=y]", "y");
+  await page.click("#sp-swap-use");
+  assert.match(await page.textContent("#sp-compare-result"), /choose, for at least one column, another column/);
+});
+
 test("time for B = 100 resamples on the demo, in the page", async (t) => {
   if (!(await page.isVisible("#demo-button"))) { t.skip("the page was built without the demo"); return; }
   await page.click("#demo-button");

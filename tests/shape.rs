@@ -296,8 +296,10 @@ fn settings() -> Settings {
         scaling: Scaling::None,
         missing: Missing::default(),
         derived: Vec::new(),
+        lens2: None,
+        cover2: None,
         lens: Lens::Column { column: "x".into() },
-        cover: CoverSettings { intervals: 6, overlap: 0.3 },
+        cover: CoverSettings::uniform(6, 0.3),
         clustering: Clustering::Dbscan { eps: 0.35, min_points: 3 },
         edges: EdgeRule { min_shared: 1 },
         seed: 1,
@@ -412,7 +414,7 @@ fn sweep_cells_match_single_builds() {
     assert_eq!(cells.len(), 6);
     for c in &cells {
         let mut s = settings();
-        s.cover = CoverSettings { intervals: c.intervals, overlap: c.overlap };
+        s.cover = CoverSettings::uniform(c.intervals, c.overlap);
         let b = nervure::build(&t, &s).unwrap();
         assert_eq!((c.components, c.loops, c.nodes), (b.summary.components, b.summary.loops, b.summary.nodes));
         assert!(c.significant.is_none());
@@ -522,6 +524,12 @@ fn stepwise_sweep_equals_one_shot() {
     assert_eq!(sw.step(3).unwrap(), 3);
     assert_eq!(sw.cells(), &once[..3]);
     assert_eq!(sw.finish().unwrap(), once);
+    // Each cell's threshold is the bootstrap of that cell's own settings (its cover too).
+    for c in &once {
+        let s = nervure::shape::sweep::cell_settings(&settings(), c.intervals, c.overlap, c.eps);
+        assert_eq!(c.threshold, Some(bootstrap(&t, &s, 4, 0.1, 3, &mut go).unwrap().threshold), "{c:?}");
+        assert_eq!(c.nodes, nervure::build(&t, &s).unwrap().summary.nodes, "{c:?}");
+    }
     let bad = Grid { intervals: vec![], overlaps: vec![0.2], eps: vec![] };
     assert!(Sweeping::new(&t, &settings(), &bad, 0, 0.1, 3).is_err());
 }

@@ -340,7 +340,7 @@ function createShapePanel(deps) {
 
   async function useCell(cell) {
     const s = copySettings();
-    s.cover = { intervals: cell.intervals, overlap: cell.overlap };
+    s.cover = Object.assign({}, s.cover, { intervals: cell.intervals, overlap: cell.overlap });
     if (cell.eps !== null && cell.eps !== undefined && s.clustering.kind === "dbscan") s.clustering.eps = cell.eps;
     await deps.applySettings(s);
     const summary = await deps.buildNow();

@@ -17,6 +17,8 @@
  *               {id, type: "runB", settings}
  *               {id, type: "job", job: "bootstrap" | "sweep" | "compare", ...arguments}
  *               {type: "cancel", target}                   stops job `target` between steps
+ *               {id, type: "memberships"} | {id, type: "explain", nodes} | {id, type: "rowValues", rows, columns}
+ *               {id, type: "derivedInfo"} | {id, type: "scatter", x, y, limit} | {id, type: "export", format, colour, fileName}
  * Messages out: {id, type: "progress", stage, fraction}    (jobs add done, total)
  *               {id, type: "result", value}
  *               {id, type: "error", message, fatal, cancelled}
@@ -146,6 +148,22 @@ function handle(engine, msg) {
       const transfer = g ? [g.nodeSizes.buffer, g.nodeElements.buffer, g.edgeA.buffer, g.edgeB.buffer, g.edgeShared.buffer, g.positions.buffer] : [];
       return { value: { summary, graph: g }, transfer };
     }
+    case "memberships": {
+      const m = engine.memberships();
+      return { value: m, transfer: m ? [m.offsets.buffer, m.rows.buffer] : [] };
+    }
+    case "explain":
+      return { value: engine.explain(new Uint32Array(msg.nodes)) };
+    case "rowValues":
+      return { value: engine.row_values(new Uint32Array(msg.rows), msg.columns || null) };
+    case "derivedInfo":
+      return { value: engine.derived_info() };
+    case "scatter": {
+      const d = engine.scatter(msg.x || "", msg.y || "", msg.limit);
+      return { value: d, transfer: [d.rows.buffer, d.x.buffer, d.y.buffer] };
+    }
+    case "export":
+      return { value: engine.export(msg.format, msg.colour || "", msg.fileName || "") };
     default:
       throw new Error("internal: unknown request '" + msg.type + "'");
   }

@@ -12,7 +12,8 @@
 //!
 //! [`Sweeping`] is the same sweep one cell at a time, for a caller that must do other
 //! work between cells (the page's worker, which has to see a cancel message). It builds
-//! each cell's graph from points and lens computed once ([`Resampler`] on all rows), so
+//! each cell's graph from points and lens computed once ([`Resampler`] on all rows, its
+//! intervals re-made for each cell), so
 //! it leaves any [`Workbench`] alone; its cells equal [`sweep`]'s.
 //!
 //! Not here: choosing one cell ([`super::suggest`] proposes settings by rule).
@@ -59,7 +60,7 @@ pub struct Cell {
 /// `false` to cancel.
 pub fn sweep(bench: &mut Workbench, base: &Settings, grid: &Grid, draws: usize, alpha: f64, seed: u64, progress: &mut dyn FnMut(f64) -> bool) -> Result<Vec<Cell>> {
     check_grid(base, grid)?;
-    let resampler = if draws > 0 {
+    let mut resampler = if draws > 0 {
         let table = bench.table().ok_or_else(|| Error::Input("no table is loaded yet: open a CSV file first".into()))?;
         Some(Resampler::new(table, base)?)
     } else {
@@ -78,7 +79,8 @@ pub fn sweep(bench: &mut Workbench, base: &Settings, grid: &Grid, draws: usize, 
                 let s = cell_settings(base, k, g, e);
                 let summary = bench.run(&s, &mut |_: &str, _: f64| {})?;
                 let (mut significant, mut significant_loops, mut threshold) = (None, None, None);
-                if let Some(r) = &resampler {
+                if let Some(r) = &mut resampler {
+                    r.set_cover(&s);
                     let step = 1.0 / total as f64;
                     let c = bootstrap_with(r, &s, draws, alpha, seed, &mut |x| progress(done + x * step))?;
                     significant = Some(c.total_significant());
@@ -160,6 +162,8 @@ impl Sweeping {
             let Some(&(intervals, overlap, eps)) = self.todo.get(self.cells.len()) else { break };
             let s = cell_settings(&self.base, intervals, overlap, eps);
             s.validate()?;
+            // The resampler is shared only with this cell's bootstrap, gone by now: no copy.
+            Arc::make_mut(&mut self.r).set_cover(&s);
             let all: Vec<u32> = (0..self.r.len() as u32).collect();
             let (nerve, _) = self.r.graph(&all, &s);
             let (components, loops) = nerve.counts();

@@ -7,57 +7,20 @@
 //   node --test tests/browser/shape.test.mjs
 //
 // Every test fails on any request other than the page itself or a blob:/data: URL, and on
-// any console error or uncaught page error. Shapes are known by construction: the fixture
+// any console error or uncaught page error (tests/browser/harness.mjs). Shapes are known by construction: the fixture
 // circle.csv is a noisy circle (one component, one loop; fixtures/make-circle.mjs), and the
 // segment written below is a noisy straight piece (one component, no loop).
 
-import { test, before, after, beforeEach, afterEach } from "node:test";
+import { test, beforeEach } from "node:test";
 import assert from "node:assert/strict";
-import { existsSync, mkdirSync, mkdtempSync, rmSync, writeFileSync } from "node:fs";
-import { tmpdir } from "node:os";
-import { dirname, join } from "node:path";
-import { fileURLToPath, pathToFileURL } from "node:url";
-import { chromium } from "playwright-core";
+import { writeFileSync } from "node:fs";
+import { join } from "node:path";
+import { usePage, outDir, circleCsv } from "./harness.mjs";
 
-const here = dirname(fileURLToPath(import.meta.url));
-const root = join(here, "..", "..");
-const pagePath = join(root, "dist", "nervure.html");
-const pageUrl = pathToFileURL(pagePath).href;
-const outDir = join(here, "out");
-const circleCsv = join(here, "fixtures", "circle.csv");
-mkdirSync(outDir, { recursive: true });
-
-const CHROMIUM = process.env.CHROMIUM || "/usr/bin/chromium";
-const FLAGS = ["--no-sandbox", "--disable-gpu", "--disable-background-networking", "--disable-component-update", "--disable-sync", "--no-first-run", "--disable-quic"];
-
-let context, userDataDir, page, problems;
-
-before(async () => {
-  assert.ok(existsSync(pagePath), `${pagePath} is missing: build it with cargo run --release --features page-builder --bin nervure-build`);
-  userDataDir = mkdtempSync(join(tmpdir(), "nervure-chromium-"));
-  context = await chromium.launchPersistentContext(userDataDir, { executablePath: CHROMIUM, headless: true, args: FLAGS, viewport: { width: 1600, height: 1000 }, deviceScaleFactor: 1 });
-});
-
-after(async () => {
-  if (context) await context.close();
-  if (userDataDir) rmSync(userDataDir, { recursive: true, force: true });
-});
-
-beforeEach(async () => {
-  problems = [];
-  page = await context.newPage();
-  const allowed = (url) => url === pageUrl || url.startsWith("blob:") || url.startsWith("data:");
-  page.on("request", (r) => { if (!allowed(r.url())) problems.push("request to " + r.url()); });
-  page.on("console", (m) => { if (m.type() === "error") problems.push("console error: " + m.text()); });
-  page.on("pageerror", (e) => problems.push("page error: " + e.message));
-  page.on("worker", (w) => w.on("console", (m) => { if (m.type() === "error") problems.push("worker console error: " + m.text()); }));
-  await page.goto(pageUrl);
-});
-
-afterEach(async () => {
-  await page.close();
-  assert.deepEqual(problems, [], "the page made requests or reported errors");
-});
+const ctx = usePage({ viewport: { width: 1600, height: 1000 } });
+/** The current test's page (harness.mjs opens a fresh one for each test). */
+let page;
+beforeEach(() => { page = ctx.page; });
 
 // Settings under which the circle's graph has one loop (as tests/shape.rs uses for its
 // circles; radius 1, noise 0.05 here): lens = x, so both tables' lens values mean the same.
@@ -158,7 +121,7 @@ test("a small grid of settings, and a click on a cell uses its settings", async 
   await page.mouse.click(box.x + where.cx, box.y + where.cy);
   await page.waitForFunction((b) => window.nervure.status().builds > b && window.nervure.status().phase === "ready", builds, { timeout: 60000 });
   const settings = await page.evaluate(() => window.nervure.settings());
-  assert.deepEqual(settings.cover, { intervals: 9, overlap: 0.4 });
+  assert.deepEqual([settings.cover.intervals, settings.cover.overlap], [9, 0.4]);
   // The cell's numbers are those of the graph it stands for (built again by the page).
   const summary = await page.evaluate(() => window.nervure.summary());
   assert.deepEqual([summary.nodes, summary.components, summary.loops], [target.nodes, target.components, target.loops]);

@@ -124,15 +124,17 @@ function handle(engine, msg) {
       const graph = graphMessage(engine);
       let colour = null;
       if (msg.colour && msg.colour.column) {
-        colour = { column: msg.colour.column, values: engine.node_values(msg.colour.column, msg.colour.stat || "mean") };
+        colour = { column: msg.colour.column, values: msg.colour.lens ? engine.node_lens_values(0) : engine.node_values(msg.colour.column, msg.colour.stat || "mean") };
         graph.transfer.push(colour.values.buffer);
       }
       return { value: { summary, graph: graph.value, colour }, transfer: graph.transfer };
     }
     case "colour": {
-      const values = engine.node_values(msg.column, msg.stat || "mean");
+      const values = msg.lens ? engine.node_lens_values(0) : engine.node_values(msg.column, msg.stat || "mean");
       return { value: { column: msg.column, values }, transfer: [values.buffer] };
     }
+    case "lensHistogram":
+      return { value: engine.lens_histogram(msg.bins, msg.axis || 0) };
     case "detail":
       return { value: engine.node_detail(msg.node) };
     case "summaries":

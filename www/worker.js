@@ -2,7 +2,7 @@
  * engine and posts results back; it decides nothing about what the page shows.
  *
  * The builder puts the wasm-bindgen glue (global `wasm_bindgen`) and the engine's bytes
- * (`self.NERVURE_WASM_BASE64`) in front of this file.
+ * (`self.NERVURE_WASM_GZIP_BASE64`, gzipped) in front of this file.
  *
  * Messages in:  {id, type: "load", file | text, name}
  *               {id, type: "run", settings, colour: {column, stat} | null}
@@ -49,9 +49,16 @@ function decodeBase64(text) {
   return bytes;
 }
 
+/** Inflates gzipped bytes with the browser's own DecompressionStream (no request made). */
+async function gunzip(bytes) {
+  const stream = new Blob([bytes]).stream().pipeThrough(new DecompressionStream("gzip"));
+  return new Uint8Array(await new Response(stream).arrayBuffer());
+}
+
 const ready = (async function () {
-  await wasm_bindgen({ module_or_path: decodeBase64(self.NERVURE_WASM_BASE64) });
-  self.NERVURE_WASM_BASE64 = null;
+  const wasm = await gunzip(decodeBase64(self.NERVURE_WASM_GZIP_BASE64));
+  await wasm_bindgen({ module_or_path: wasm });
+  self.NERVURE_WASM_GZIP_BASE64 = null;
   return new wasm_bindgen.Engine();
 })();
 
@@ -144,7 +151,7 @@ function handle(engine, msg) {
     case "suggest":
       return { value: engine.suggest(msg.settings, msg.seed) };
     case "loadB": {
-      const second = { begin_table: (n) => engine.begin_table_b(n), push_chunk: (c) => engine.push_chunk_b(c) };
+      const second = { begin_table_with: (n) => engine.begin_table_b(n), push_chunk: (c) => engine.push_chunk_b(c) };
       if (msg.file) readFileInto(second, msg.file, msg.name, progress);
       else readTextInto(second, msg.text, msg.name, progress);
       return { value: engine.finish_table_b() };

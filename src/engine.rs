@@ -236,6 +236,11 @@ impl Workbench {
         Ok(element_buffer(pts, members))
     }
 
+    /// Number of points in each cover element of the last prepared cover.
+    pub fn element_sizes(&self) -> Vec<usize> {
+        self.cover.as_ref().map_or(Vec::new(), |(_, c)| c.elements.iter().map(|e| e.len()).collect())
+    }
+
     /// Number of values in each point row (the chosen columns), after a prepare.
     pub fn point_dim(&self) -> usize {
         self.points.as_ref().map_or(0, |(_, p)| p.data.ncols())

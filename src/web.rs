@@ -133,6 +133,12 @@ impl Engine {
         Ok(Float64Array::from(&self.bench.element_points(e).map_err(fail)?[..]))
     }
 
+    /// Number of points in each cover element, after `prepare_elements`.
+    pub fn element_sizes(&self) -> Uint32Array {
+        let sizes: Vec<u32> = self.bench.element_sizes().iter().map(|&k| k as u32).collect();
+        Uint32Array::from(&sizes[..])
+    }
+
     pub fn point_dim(&self) -> usize {
         self.bench.point_dim()
     }

@@ -38,7 +38,7 @@ const engine = (function () {
     const source = byId("nervure-worker-source").textContent;
     const url = URL.createObjectURL(new Blob([source], { type: "text/javascript" }));
     worker = new Worker(url);
-    URL.revokeObjectURL(url);
+    // The URL stays alive: the worker starts its clustering helpers from it.
     worker.onmessage = function (event) {
       const msg = event.data;
       const w = waiting.get(msg.id);
@@ -737,6 +737,8 @@ window.nervure = Object.freeze({
   },
   /** What the page is doing: {phase, builds, pending} (pending: a rebuild is scheduled). */
   status: function () { return { phase: state.phase, builds: state.builds, pending: rerunTimer !== null }; },
+  /** Sets the worker's pool of clustering helpers: {helpers (0: none), minPoints}. */
+  pool: function (options) { return engine.request("pool", options || {}); },
   /** The message shown on the page, or null. */
   message: function () { return state.message; },
 });

@@ -90,7 +90,7 @@ def main():
                 report["borderRowsInOtherCluster"] += 1
                 if not contested:
                     report["problems"].append(f"element {e}: border data row {r} is in different clusters but only one cluster's core rows reach it")
-    eng_members = [sorted(set(r for c in eng_el.get(e, []) for r in c)) for e in range(len(py["elements"]))]
+
     report["ok"] = not report["problems"]
     report["problems"] = report["problems"][:10]
     print(json.dumps(report))

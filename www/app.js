@@ -38,7 +38,9 @@ const engine = (function () {
     const source = byId("nervure-worker-source").textContent;
     const url = URL.createObjectURL(new Blob([source], { type: "text/javascript" }));
     worker = new Worker(url);
-    // The URL stays alive: the worker starts its clustering helpers from it.
+    URL.revokeObjectURL(url);
+    // The worker starts its clustering helpers from the same script.
+    worker.postMessage({ type: "helper-source", source });
     worker.onmessage = function (event) {
       const msg = event.data;
       const w = waiting.get(msg.id);

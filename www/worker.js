@@ -95,6 +95,11 @@ const pool = {
   minPoints: 20000,
   workers: null,
   nextId: 1,
+  /** This script's text, from the page (a blob: URL made here can start workers). */
+  source: null,
+  url: null,
+  /** Elements clustered by helpers since this worker started (for tests). */
+  elementsOnPool: 0,
 };
 
 function startHelpers() {
@@ -102,8 +107,8 @@ function startHelpers() {
   if (pool.workers) pool.workers.forEach((h) => h.worker.terminate());
   pool.workers = [];
   for (let i = 0; i < pool.helpers; i++) {
-    // The page keeps this worker's blob: URL alive so helpers can start from it.
-    const worker = new Worker(self.location.href);
+    if (!pool.url) pool.url = URL.createObjectURL(new Blob([pool.source], { type: "text/javascript" }));
+    const worker = new Worker(pool.url);
     const helper = { worker, waiting: new Map() };
     worker.onmessage = function (event) {
       const m = event.data;
@@ -136,7 +141,7 @@ function askHelper(helper, payload, transfer) {
 /** Whether this run's elements go to the pool: helpers allowed, workers available here,
  *  and enough points to be worth the copies. */
 function usePool(engine, count) {
-  if (pool.helpers < 1 || count < 2 || typeof Worker === "undefined") return false;
+  if (pool.helpers < 1 || count < 2 || typeof Worker === "undefined" || !pool.source) return false;
   const sizes = engine.element_sizes();
   let total = 0;
   for (let i = 0; i < sizes.length; i++) total += sizes[i];
@@ -161,6 +166,7 @@ async function clusterOnPool(engine, settings, count, progress) {
       const points = engine.element_points(e);
       labels[e] = await askHelper(helper, { type: "cluster", points, dim, clustering: settings.clustering }, [points.buffer]);
       done += sizes[e];
+      pool.elementsOnPool++;
       progress("clusters", done / Math.max(1, total));
     }
   }
@@ -224,7 +230,7 @@ async function handle(engine, msg) {
     case "pool":
       if (typeof msg.helpers === "number") pool.helpers = Math.max(0, Math.min(16, msg.helpers | 0));
       if (typeof msg.minPoints === "number") pool.minPoints = msg.minPoints;
-      return { value: { helpers: pool.helpers, minPoints: pool.minPoints } };
+      return { value: { helpers: pool.helpers, minPoints: pool.minPoints, elementsOnPool: pool.elementsOnPool } };
     case "cluster": {
       const labels = wasm_bindgen.cluster_points(msg.points, msg.dim, msg.clustering);
       return { value: labels, transfer: [labels.buffer] };
@@ -242,6 +248,10 @@ let latestRun = 0;
 
 self.onmessage = function (event) {
   const msg = event.data;
+  if (msg.type === "helper-source") {
+    pool.source = msg.source;
+    return;
+  }
   if (msg.type === "run") latestRun = msg.id;
   queue = queue.then(async function () {
     let engine;

@@ -31,13 +31,15 @@ after(async () => {
   for (const d of [userDataDir, scratch]) if (d) rmSync(d, { recursive: true, force: true });
 });
 
-/** Three noisy rings in 3-D (seeded), 6000 rows: DBSCAN finds core, border and noise rows. */
+/** Three noisy rings in 3-D plus uniform background (seeded), 6000 rows: DBSCAN finds core, border and noise rows. */
 function ringsCsv() {
   let s = 12345;
   const rand = () => ((s = (s * 1103515245 + 12345) % 2147483648) / 2147483648);
   const lines = ["a,b,c"];
   for (let i = 0; i < 6000; i++) {
     const t = rand() * 2 * Math.PI, k = i % 3;
+    // Every 25th row uniform over the box: DBSCAN noise.
+    if (i % 25 === 0) { lines.push([rand() * 12 - 6, rand() * 12 - 6, rand() * 2].map((v) => v.toFixed(5)).join(",")); continue; }
     lines.push([Math.cos(t) * (3 + k) + rand() * 0.3, Math.sin(t) * (3 + k) + rand() * 0.3, k * 0.5 + rand() * 0.3].map((v) => v.toFixed(5)).join(","));
   }
   return lines.join("\n") + "\n";
@@ -69,11 +71,14 @@ test("elements clustered by the pool give the graph one worker gives", async () 
       await n.run();
       await n.applySettings(s);
       out[name] = snapshot(await n.run());
+      out[name].onPool = (await n.pool({})).elementsOnPool;
     }
     return out;
   });
   assert.ok(result.one.summary.nodes > 3, JSON.stringify(result.one.summary));
   assert.ok(result.one.summary.noiseRows > 0, "the data should have noise rows");
+  assert.equal(result.one.onPool, 0, "no helper should be used with 0 helpers");
+  assert.ok(result.pool.onPool >= 12, `the pool clustered ${result.pool.onPool} elements`);
   assert.deepEqual(result.pool.summary, result.one.summary);
   assert.deepEqual(result.pool.layout.sizes, result.one.layout.sizes);
   assert.deepEqual(result.pool.layout.positions, result.one.layout.positions);

@@ -20,15 +20,28 @@ const [data, settingsPath] = process.argv.slice(2);
 const settings = JSON.parse(readFileSync(settingsPath, "utf8"));
 const FLAGS = ["--no-sandbox", "--disable-gpu", "--disable-background-networking", "--disable-component-update", "--disable-sync", "--no-first-run", "--disable-quic"];
 
-/** Summed resident memory (bytes) of Chromium renderer processes. */
-function rendererRss() {
-  let total = 0;
+/** Summed resident memory (bytes) of the renderer processes of the browser started with
+ *  `userDataDir` (other browsers on the machine are not counted). */
+function rendererRss(userDataDir) {
+  const procs = [];
   for (const pid of readdirSync("/proc")) {
     if (!/^\d+$/.test(pid)) continue;
     try {
       const cmd = readFileSync(`/proc/${pid}/cmdline`, "utf8");
-      if (!cmd.includes("chromium") || !cmd.includes("--type=renderer")) continue;
-      const m = /VmRSS:\s+(\d+) kB/.exec(readFileSync(`/proc/${pid}/status`, "utf8"));
+      const ppid = Number(/PPid:\s+(\d+)/.exec(readFileSync(`/proc/${pid}/status`, "utf8"))[1]);
+      procs.push({ pid: Number(pid), ppid, cmd });
+    } catch { /* the process ended */ }
+  }
+  const ours = new Set(procs.filter((p) => p.cmd.includes(userDataDir)).map((p) => p.pid));
+  for (let grew = true; grew;) {
+    grew = false;
+    for (const p of procs) if (!ours.has(p.pid) && ours.has(p.ppid)) { ours.add(p.pid); grew = true; }
+  }
+  let total = 0;
+  for (const p of procs) {
+    if (!ours.has(p.pid) || !p.cmd.includes("--type=renderer")) continue;
+    try {
+      const m = /VmRSS:\s+(\d+) kB/.exec(readFileSync(`/proc/${p.pid}/status`, "utf8"));
       if (m) total += Number(m[1]) * 1024;
     } catch { /* the process ended */ }
   }
@@ -46,9 +59,9 @@ try {
   await page.goto(pageUrl);
   // The first graph is built with the benchmark's settings: the page's automatic
   // settings are replaced as soon as the table is read.
-  const base = rendererRss();
+  const base = rendererRss(userDataDir);
   let peak = base;
-  const sampler = setInterval(() => { peak = Math.max(peak, rendererRss()); }, 100);
+  const sampler = setInterval(() => { peak = Math.max(peak, rendererRss(userDataDir)); }, 100);
   const started = Date.now();
   await page.setInputFiles("#file-input", data);
   await page.waitForFunction(() => window.nervure.summary() !== null && window.nervure.timings().firstGraphMs !== null, null, { timeout: 900000, polling: 50 });
@@ -59,7 +72,7 @@ try {
   const summary = await page.evaluate(async (s) => { await window.nervure.applySettings(s); return window.nervure.run(); }, settings);
   const buildMs = Date.now() - t0;
   clearInterval(sampler);
-  peak = Math.max(peak, rendererRss());
+  peak = Math.max(peak, rendererRss(userDataDir));
   // Re-colouring: the mean of a chosen column per node.
   const colourMs = await page.evaluate(async (col) => {
     const t = performance.now();

@@ -17,6 +17,7 @@ pub mod settings;
 pub mod table;
 pub mod timecol;
 pub mod derive;
+pub mod missing;
 pub mod points;
 pub mod filter;
 pub mod cover;
@@ -29,6 +30,7 @@ pub mod shape;
 pub mod export;
 pub mod explain;
 pub mod rng;
+pub mod scatter;
 
 #[cfg(target_arch = "wasm32")]
 pub mod web;
@@ -36,4 +38,4 @@ pub mod web;
 pub use error::{Error, Result};
 pub use settings::Settings;
 pub use table::{Table, TableReader, ReadOptions};
-pub use engine::{build, Build, Summary, Workbench, NodeStat};
+pub use engine::{build, Build, Summary, Workbench, NodeStat, LensHistogram};

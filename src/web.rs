@@ -26,6 +26,51 @@ fn install_panic_message() {
     });
 }
 
+/// The allocator, watched: when a request fails, its size is kept so that the worker can say
+/// "out of memory" after the trap that follows (the engine itself cannot report it: a failed
+/// allocation aborts).
+struct WatchedAllocator;
+
+static FAILED_ALLOCATION: std::sync::atomic::AtomicUsize = std::sync::atomic::AtomicUsize::new(0);
+
+// SAFETY: every call is forwarded unchanged to the system allocator.
+unsafe impl std::alloc::GlobalAlloc for WatchedAllocator {
+    unsafe fn alloc(&self, layout: std::alloc::Layout) -> *mut u8 {
+        note_failure(std::alloc::System.alloc(layout), layout.size())
+    }
+    unsafe fn alloc_zeroed(&self, layout: std::alloc::Layout) -> *mut u8 {
+        note_failure(std::alloc::System.alloc_zeroed(layout), layout.size())
+    }
+    unsafe fn dealloc(&self, ptr: *mut u8, layout: std::alloc::Layout) {
+        std::alloc::System.dealloc(ptr, layout)
+    }
+    unsafe fn realloc(&self, ptr: *mut u8, layout: std::alloc::Layout, new_size: usize) -> *mut u8 {
+        note_failure(std::alloc::System.realloc(ptr, layout, new_size), new_size)
+    }
+}
+
+fn note_failure(ptr: *mut u8, size: usize) -> *mut u8 {
+    if ptr.is_null() {
+        FAILED_ALLOCATION.store(size.max(1), std::sync::atomic::Ordering::Relaxed);
+    }
+    ptr
+}
+
+#[global_allocator]
+static ALLOCATOR: WatchedAllocator = WatchedAllocator;
+
+/// `{failedBytes, heldBytes}`: the size of the last allocation that failed (0 if none) and
+/// the engine's memory now. Safe to call after a trap: it reads two numbers.
+#[wasm_bindgen]
+pub fn memory_report() -> JsValue {
+    let out = Object::new();
+    let failed = FAILED_ALLOCATION.load(std::sync::atomic::Ordering::Relaxed) as f64;
+    let held = (core::arch::wasm32::memory_size(0) as f64) * 65536.0;
+    set(&out, "failedBytes", &JsValue::from_f64(failed));
+    set(&out, "heldBytes", &JsValue::from_f64(held));
+    out.into()
+}
+
 fn to_js<T: Serialize + ?Sized>(value: &T) -> Result<JsValue, JsValue> {
     value
         .serialize(&serde_wasm_bindgen::Serializer::json_compatible())
@@ -56,12 +101,27 @@ struct TableInfo<'a> {
     name: &'a str,
     rows: usize,
     columns: Vec<crate::table::ColumnSummary>,
+    /// How the file was read (decoding, decimal commas, values read as missing).
+    notices: &'a [String],
+    encoding: &'a str,
+}
+
+/// Per-file read options the page may give: `{textAsMissing: [column names]}`.
+#[derive(serde::Deserialize, Default)]
+#[serde(rename_all = "camelCase", deny_unknown_fields)]
+struct PageReadOptions {
+    #[serde(default)]
+    text_as_missing: Vec<String>,
 }
 
 #[wasm_bindgen]
 pub struct Engine {
     bench: Workbench,
     reader: Option<TableReader>,
+    notices: Vec<String>,
+    encoding: &'static str,
+    /// Graphs with more nodes than this are not laid out until asked again with 0 (no limit).
+    node_limit: usize,
 }
 
 #[wasm_bindgen]
@@ -69,12 +129,43 @@ impl Engine {
     #[wasm_bindgen(constructor)]
     pub fn new() -> Engine {
         install_panic_message();
-        Engine { bench: Workbench::new(), reader: None }
+        Engine { bench: Workbench::new(), reader: None, notices: Vec::new(), encoding: "UTF-8", node_limit: 0 }
     }
 
     /// Starts reading a new file; any table being read is dropped.
     pub fn begin_table(&mut self, name: &str) {
         self.reader = Some(TableReader::new(name, ReadOptions::default()));
+    }
+
+    /// Starts reading a new file with read options `{textAsMissing: [...]}`.
+    pub fn begin_table_with(&mut self, name: &str, options: JsValue) -> Result<(), JsValue> {
+        let page: PageReadOptions = if options.is_undefined() || options.is_null() {
+            PageReadOptions::default()
+        } else {
+            serde_wasm_bindgen::from_value(options).map_err(|e| fail(format!("internal: read options: {e}")))?
+        };
+        self.reader = Some(TableReader::new(name, ReadOptions { text_as_missing: page.text_as_missing, ..ReadOptions::default() }));
+        Ok(())
+    }
+
+    /// Graphs of more than `limit` nodes (0: no limit) are not drawn: `run` returns
+    /// `{confirmNodes: n}` instead of a summary, before the edges and the layout.
+    pub fn set_node_limit(&mut self, limit: u32) {
+        self.node_limit = limit as usize;
+    }
+
+    /// Test hook: allocates 64 MiB blocks until the allocator fails (the call then traps),
+    /// so that the page's recovery from running out of memory can be tested.
+    pub fn exhaust_memory_for_test(&mut self) -> usize {
+        let mut blocks: Vec<Vec<u8>> = Vec::new();
+        loop {
+            let mut b = Vec::with_capacity(64 << 20);
+            b.push(1u8);
+            blocks.push(b);
+            if blocks.len() > 1 << 16 {
+                return blocks.len();
+            }
+        }
     }
 
     /// The next bytes of the file, in order.
@@ -86,7 +177,11 @@ impl Engine {
     /// Ends the file; the table replaces the previous one. Returns `{name, rows, columns}`.
     pub fn finish_table(&mut self) -> Result<JsValue, JsValue> {
         let reader = self.reader.take().ok_or_else(|| fail("internal: finish_table before begin_table"))?;
-        let table = reader.finish().map_err(fail)?;
+        let (table, report) = reader.finish_with_report().map_err(fail)?;
+        // A table the page cannot start from is refused before it replaces the one shown.
+        crate::auto::auto_settings(&table).map_err(fail)?;
+        self.notices = report.notices;
+        self.encoding = report.encoding;
         self.bench.set_table(table);
         self.table_info(&[])
     }
@@ -113,6 +208,15 @@ impl Engine {
         let mut report = |stage: &str, fraction: f64| {
             let _ = progress.call2(&JsValue::NULL, &JsValue::from_str(stage), &JsValue::from_f64(fraction));
         };
+        if self.node_limit > 0 {
+            let nodes = self.bench.node_count(&settings, &mut report).map_err(fail)?;
+            if nodes > self.node_limit {
+                let out = Object::new();
+                set(&out, "confirmNodes", &JsValue::from_f64(nodes as f64));
+                set(&out, "limit", &JsValue::from_f64(self.node_limit as f64));
+                return Ok(out.into());
+            }
+        }
         let summary = self.bench.run(&settings, &mut report).map_err(fail)?;
         to_js(&summary)
     }
@@ -143,22 +247,15 @@ impl Engine {
         self.bench.point_dim()
     }
 
-    /// Builds the graph from one `Int32Array` of labels per cover element (as
-    /// `cluster_points` returns them). Returns the summary.
-    pub fn run_with_labels(&mut self, settings: JsValue, labels: Array, progress: &Function) -> Result<JsValue, JsValue> {
+    /// Takes one `Int32Array` of labels per cover element (as `cluster_points` returns
+    /// them) as the clusters of `settings`; `run` then does no clustering.
+    pub fn set_element_labels(&mut self, settings: JsValue, labels: Array) -> Result<(), JsValue> {
         let settings = settings_from_js(&settings)?;
         let labels: Vec<crate::cluster::Labels> = labels
             .iter()
-            .map(|l| {
-                let v = Int32Array::from(l).to_vec();
-                v.into_iter().map(|x| (x >= 0).then_some(x as u32)).collect()
-            })
+            .map(|l| Int32Array::from(l).to_vec().into_iter().map(|x| (x >= 0).then_some(x as u32)).collect())
             .collect();
-        let mut report = |stage: &str, fraction: f64| {
-            let _ = progress.call2(&JsValue::NULL, &JsValue::from_str(stage), &JsValue::from_f64(fraction));
-        };
-        let summary = self.bench.run_with_labels(&settings, labels, &mut report).map_err(fail)?;
-        to_js(&summary)
+        self.bench.set_element_labels(&settings, labels).map_err(fail)
     }
 
     /// The last graph as typed arrays: `{nodeSizes, nodeElements, edgeA, edgeB, edgeShared,
@@ -183,17 +280,114 @@ impl Engine {
         out.into()
     }
 
-    /// One value per node of the last graph: `stat` (e.g. "mean") of `column` over its rows.
-    pub fn node_values(&self, column: &str, stat: &str) -> Result<Float64Array, JsValue> {
-        let stat: NodeStat = serde_json::from_value(serde_json::Value::String(stat.to_string()))
-            .map_err(|_| fail(format!("unknown node statistic '{stat}'")))?;
+    /// One value per node of the last graph: `stat` of `column` over its rows. `stat` is
+    /// a string ("mean", "median", "spread") or an object such as
+    /// `{kind: "shareAbove", threshold: 2.5}` (see [`NodeStat`]).
+    pub fn node_values(&self, column: &str, stat: &JsValue) -> Result<Float64Array, JsValue> {
+        let text: String = js_sys::JSON::stringify(stat).map_err(|_| fail("setting 'stat': cannot be written as JSON"))?.into();
+        let value: serde_json::Value = serde_json::from_str(&text).map_err(fail)?;
+        let stat = NodeStat::from_json(&value).map_err(fail)?;
         let values = self.bench.node_values(column, stat).map_err(fail)?;
         Ok(Float64Array::from(&values[..]))
+    }
+
+    /// Each node's mean lens value: `axis` 0 (or absent) for `lens`, 1 for `lens2`.
+    pub fn node_lens_values(&self, axis: Option<u32>) -> Result<Float64Array, JsValue> {
+        let values = self.bench.node_lens_values(axis.unwrap_or(0) as usize).map_err(fail)?;
+        Ok(Float64Array::from(&values[..]))
+    }
+
+    /// The lens histogram with the cover's intervals: `{edges, counts, intervals: [[a, b, rows]]}`
+    /// for `lens` (`axis` 0 or absent) or `lens2` (1).
+    pub fn lens_histogram(&self, bins: u32, axis: Option<u32>) -> Result<JsValue, JsValue> {
+        to_js(&self.bench.lens_histogram(bins as usize, axis.unwrap_or(0) as usize).map_err(fail)?)
     }
 
     /// Size, cover element, per-column statistics and first member rows of one node.
     pub fn node_detail(&self, node: usize) -> Result<JsValue, JsValue> {
         to_js(&self.bench.node_detail(node).map_err(fail)?)
+    }
+
+    /// Members of every node of the last graph, as CSR typed arrays: node `i` holds table
+    /// rows `rows[offsets[i] .. offsets[i + 1]]` (0-based, increasing). `null` before a run.
+    pub fn memberships(&self) -> JsValue {
+        let Some(build) = self.bench.last() else { return JsValue::NULL };
+        let mut offsets: Vec<u32> = Vec::with_capacity(build.nerve.nodes.len() + 1);
+        let mut rows: Vec<u32> = Vec::new();
+        offsets.push(0);
+        for n in &build.nerve.nodes {
+            rows.extend_from_slice(&n.members);
+            offsets.push(rows.len() as u32);
+        }
+        let out = Object::new();
+        set(&out, "offsets", &Uint32Array::from(&offsets[..]).into());
+        set(&out, "rows", &Uint32Array::from(&rows[..]).into());
+        out.into()
+    }
+
+    /// Columns ranked by how much the rows of `nodes` differ from the rest.
+    pub fn explain(&mut self, nodes: &[u32]) -> Result<JsValue, JsValue> {
+        let nodes: Vec<usize> = nodes.iter().map(|&n| n as usize).collect();
+        to_js(&self.bench.explain(&nodes).map_err(fail)?)
+    }
+
+    /// The union of the rows of `nodes` (0-based table rows, increasing).
+    pub fn rows_of(&self, nodes: &[u32]) -> Result<Uint32Array, JsValue> {
+        let nodes: Vec<usize> = nodes.iter().map(|&n| n as usize).collect();
+        Ok(Uint32Array::from(&self.bench.rows_of(&nodes).map_err(fail)?[..]))
+    }
+
+    /// Cells of table rows `rows` for `columns` (every column when empty):
+    /// `{columns, dataRows, cells}`.
+    pub fn row_values(&self, rows: &[u32], columns: JsValue) -> Result<JsValue, JsValue> {
+        let columns: Vec<String> = if columns.is_undefined() || columns.is_null() {
+            Vec::new()
+        } else {
+            serde_wasm_bindgen::from_value(columns).map_err(|e| fail(format!("internal: columns must be a list of names: {e}")))?
+        };
+        to_js(&self.bench.row_values(rows, &columns).map_err(fail)?)
+    }
+
+    /// What the derived columns of the last run found: `[{name, missing, undefined}]`.
+    pub fn derived_info(&self) -> Result<JsValue, JsValue> {
+        to_js(self.bench.derived_info())
+    }
+
+    /// A sample of at most `limit` rows with two values each: `x`, `y` column names, or
+    /// both empty for principal components 1 and 2. `{rows, x, y, total, xLabel, yLabel}`
+    /// with typed arrays.
+    pub fn scatter(&self, x: &str, y: &str, limit: usize) -> Result<JsValue, JsValue> {
+        let axes = if x.is_empty() && y.is_empty() {
+            crate::scatter::Axes::Principal
+        } else {
+            crate::scatter::Axes::Columns(x.to_string(), y.to_string())
+        };
+        let d = self.bench.scatter(&axes, limit).map_err(fail)?;
+        let out = Object::new();
+        set(&out, "rows", &Uint32Array::from(&d.rows[..]).into());
+        set(&out, "x", &Float64Array::from(&d.x[..]).into());
+        set(&out, "y", &Float64Array::from(&d.y[..]).into());
+        set(&out, "total", &JsValue::from_f64(d.total as f64));
+        set(&out, "xLabel", &JsValue::from_str(&d.x_label));
+        set(&out, "yLabel", &JsValue::from_str(&d.y_label));
+        Ok(out.into())
+    }
+
+    /// The last graph as text in one of the export formats: "json", "graphml" (with the
+    /// colour column's node values when `colour_column` is not empty), "memberships",
+    /// "report" (naming `file_name`).
+    pub fn export(&self, format: &str, colour_column: &str, file_name: &str) -> Result<String, JsValue> {
+        let build = self.bench.last().ok_or_else(|| fail("no graph has been built yet"))?;
+        match format {
+            "json" => Ok(crate::export::graph_json(build)),
+            "graphml" => {
+                let values = if colour_column.is_empty() { None } else { Some(self.bench.node_values(colour_column, NodeStat::Mean).map_err(fail)?) };
+                Ok(crate::export::graphml(build, values.as_deref().map(|v| (colour_column, v))))
+            }
+            "memberships" => Ok(crate::export::memberships_csv(build)),
+            "report" => Ok(crate::export::report(build, file_name)),
+            other => Err(fail(format!("internal: unknown export format '{other}'"))),
+        }
     }
 }
 
@@ -216,7 +410,13 @@ pub fn cluster_points(points: &[f64], dim: usize, clustering: &JsValue) -> Resul
 impl Engine {
     fn table_info(&self, fill_values: &[f64]) -> Result<JsValue, JsValue> {
         let table = self.bench.table().ok_or_else(|| fail("no table is loaded yet; open a CSV file first"))?;
-        to_js(&TableInfo { name: &table.name, rows: table.n_rows, columns: table.summaries(fill_values) })
+        to_js(&TableInfo {
+            name: &table.name,
+            rows: table.n_rows,
+            columns: table.summaries(fill_values),
+            notices: &self.notices,
+            encoding: self.encoding,
+        })
     }
 }
 

@@ -6,6 +6,16 @@
  * the same functions, so a script sees exactly what a person sees, errors included.
  */
 
+/* HOOK(node statistics): the engine will offer median, spread and the share of rows above a
+ * threshold besides the mean; add them here as [stat, words] and the colour card shows a
+ * choice (the worker passes `stat` to Engine.node_values unchanged). */
+const COLOUR_STATS = [["mean", "Mean"]];
+
+function statWords(stat) {
+  const hit = COLOUR_STATS.find((s) => s[0] === stat);
+  return hit ? hit[1] : stat;
+}
+
 /** Wait after the last settings change before building again. */
 const RERUN_DELAY_MS = 350;
 
@@ -17,14 +27,25 @@ const state = {
   graph: null,             // typed arrays from the engine
   stale: false,            // the graph on screen does not match the settings (last build failed)
   colour: { column: null, stat: "mean", values: null, min: NaN, max: NaN },
-  selected: null,
+  selected: null,          // the one selected node, or the group's ringed node (see inspector.js)
+  selection: new Set(),    // every selected node
+  primary: null,
   detail: null,
+  contrast: null,          // the engine's ranking of columns for the selection
+  groupRows: null,         // Uint32Array: the selection's rows
+  rowPage: 0,
+  rowCells: null,
+  members: null,           // node -> rows (CSR) of the current graph
+  membersPromise: null,
+  inspectSeq: 0,
   progress: null,          // {label, fraction}
   message: null,           // the last error, as the engine worded it
   timing: { start: 0, tableRead: 0, firstDraw: 0, pendingFirstDraw: false },
   builds: 0,               // graphs built since the page opened
   lensMemory: {},          // parameters of lens kinds not in use, so switching back restores them
   clusteringMemory: {},
+  builtSettings: null,     // the settings of the graph on screen (recovery.js puts them back)
+  nodeLimit: NODE_LIMIT,   // graphs over this many nodes wait for the user's yes (recovery.js)
 };
 
 /* ---------------------------------------------------------------- worker */
@@ -55,7 +76,7 @@ const engine = (function () {
     };
     worker.onerror = function (event) {
       event.preventDefault();
-      const message = "The engine stopped unexpectedly" + (event.message ? " (" + event.message + ")" : "") + ". Please open the file again.";
+      const message = "The engine stopped unexpectedly" + (event.message ? " (" + event.message + ")" : "") + " and was restarted; the table is read again.";
       restart();
       for (const w of waiting.values()) w.reject(new Error(message));
       waiting.clear();
@@ -68,6 +89,16 @@ const engine = (function () {
     onEngineLost();
   }
 
+  /** Ends the worker and whatever it is doing; its requests fail with `message`. */
+  function cancel(message) {
+    if (worker) worker.terminate();
+    const pending = Array.from(waiting.values());
+    waiting.clear();
+    start();
+    for (const w of pending) w.reject(new Error(message));
+    onEngineLost();
+  }
+
   function request(type, payload, onProgress) {
     if (!worker) start();
     const id = nextId++;
@@ -77,18 +108,12 @@ const engine = (function () {
     });
   }
 
-  return { request, start };
+  return { request, start, cancel };
 })();
 
 function onEngineLost() {
-  // A fresh engine holds no table: the page goes back to its start, saying why.
-  state.table = null;
-  state.graph = null;
-  state.summary = null;
-  state.settings = null;
-  state.phase = "failed";
-  view.setGraph(null);
-  renderAll();
+  // A fresh engine holds no table: recovery.js reads it again and keeps the graph shown.
+  recoverEngine();
 }
 
 /* ---------------------------------------------------------------- loading */
@@ -130,12 +155,14 @@ let loadSeq = 0;
 /** Reads a table (a File, or text with a name), then builds its first graph with the
  *  engine's automatic settings. Resolves with the table's description. */
 async function loadTable(source) {
+  const tooBig = sizeRefusal(source);
+  if (tooBig) { fail(tooBig); throw new Error(tooBig); }
   const seq = ++loadSeq;
   state.timing = { start: performance.now(), tableRead: 0, firstDraw: 0, pendingFirstDraw: true };
   state.phase = "reading";
   state.message = null;
+  resetSelection();
   state.selected = null;
-  state.detail = null;
   state.progress = { label: "Reading the file", fraction: 0 };
   renderAll();
   let loaded;
@@ -146,9 +173,12 @@ async function loadTable(source) {
     throw e;
   }
   if (seq !== loadSeq) throw new Error("another file was opened meanwhile");
+  rememberSource(source);
   state.timing.tableRead = performance.now();
   state.table = loaded.table;
   state.settings = loaded.settings;
+  state.restored = null;
+  if (typeof restoreSettingsFor === "function") await restoreSettingsFor(loaded);
   state.summary = null;
   state.graph = null;
   state.lensMemory = {};
@@ -193,16 +223,16 @@ let latestBuild = null;
 
 /** Builds the graph for the current settings now. Resolves with its summary; a build
  *  overtaken by a newer one resolves as the newer one does. */
-function buildNow() {
+function buildNow(nodeLimit) {
   clearTimeout(rerunTimer);
   rerunTimer = null;
   if (!state.table) return Promise.reject(new Error("no table is loaded yet; open a CSV file first"));
   const seq = ++buildSeq;
-  latestBuild = build(seq);
+  latestBuild = build(seq, nodeLimit === undefined ? state.nodeLimit : nodeLimit);
   return latestBuild;
 }
 
-async function build(seq) {
+async function build(seq, nodeLimit) {
   const settings = JSON.parse(JSON.stringify(state.settings));
   state.phase = "building";
   state.message = null;
@@ -212,27 +242,43 @@ async function build(seq) {
   renderChrome();
   let out;
   try {
-    out = await engine.request("run", { settings, colour: state.colour.column ? { column: state.colour.column, stat: state.colour.stat } : null }, progressHandler(true));
+    out = await engine.request("run", { settings, nodeLimit, colour: state.colour.column ? { column: state.colour.column, stat: state.colour.stat } : null }, progressHandler(true));
   } catch (e) {
     if (seq !== buildSeq) return latestBuild;
     fail(e.message);
     throw e;
   }
   if (seq !== buildSeq) return latestBuild;  // a newer build was asked for meanwhile
+  if (out.confirm) return handleBigGraph(out.confirm);
+  state.builtSettings = settings;
   state.phase = "ready";
   state.progress = null;
   state.builds++;
   state.summary = out.summary;
   state.graph = out.graph;
   state.stale = false;
+  resetSelection();
   state.selected = null;
-  state.detail = null;
   applyColour(out.colour);
   renderAll();
   const card = byId("colour-block");
   view.insetTop = card.hidden ? 0 : card.offsetTop + card.offsetHeight;
   view.setGraph(out.graph, false);
+  if (typeof afterBuild === "function") await afterBuild(out);
   return out.summary;
+}
+
+/** What follows every build: derived columns into the column list, settings kept
+ *  (local storage, fragment), the run recorded, the scatter refreshed. */
+async function afterBuild() {
+  await syncDerivedColumns();
+  storeSettings();
+  writeFragment();
+  recordRun();
+  renderChrome();
+  // HOOK(lens histogram): when the engine offers it, fetch the lens histogram here and draw
+  // it with the cover's intervals under the Cover fields of the settings form.
+  if (state.tab === "scatter") { renderScatterControls(); refreshScatter(); }
 }
 
 function applyColour(colour) {
@@ -268,25 +314,8 @@ async function setColourColumn(column) {
     if (state.colour.column !== column) return;
     applyColour(colour);
     renderLegend();
-    if (state.selected !== null) renderDetail();
-  } catch (e) {
-    fail(e.message);
-    throw e;
-  }
-}
-
-async function selectNode(i) {
-  state.selected = i;
-  state.detail = null;
-  view.setSelected(i);
-  renderDetail();
-  if (i === null) return null;
-  try {
-    const detail = await engine.request("detail", { node: i });
-    if (state.selected !== i) return detail;
-    state.detail = detail;
-    renderDetail();
-    return detail;
+    if (state.selection.size) renderDetail();
+    if (typeof onColourChanged === "function") onColourChanged();
   } catch (e) {
     fail(e.message);
     throw e;
@@ -336,7 +365,7 @@ async function refreshColumnSummaries() {
 /** Reads the form into a copy of the settings (fields the form does not show are kept). */
 function settingsFromForm() {
   const s = JSON.parse(JSON.stringify(state.settings));
-  s.columns = Array.from(document.querySelectorAll("#columns-body input[type=checkbox]:checked")).map((c) => c.dataset.column);
+  s.columns = chosenColumns(s.columns, Array.from(document.querySelectorAll("#columns-body input[type=checkbox]:checked")).map((c) => c.dataset.column));
   s.scaling = byId("s-scaling").value;
   s.missing = { fillValues: parseNumberList(byId("s-fill").value) };
 
@@ -390,6 +419,7 @@ function onFormChange() {
 
 function renderAll() {
   renderData();
+  renderNotices();
   renderColumns();
   renderSettings();
   renderSummary();
@@ -398,6 +428,8 @@ function renderAll() {
   renderProgress();
   renderMessage();
   renderDetail();
+  renderDerived();
+  renderRestored();
   renderChrome();
 }
 
@@ -418,7 +450,7 @@ function renderColumns() {
   if (!state.table) { wrap.hidden = true; return; }
   wrap.hidden = false;
   const used = new Set(state.settings ? state.settings.columns : []);
-  for (const c of state.table.columns) {
+  for (const c of visibleColumns(state.table.columns)) {
     const tr = el("tr");
     const tdUse = el("td", "use");
     const box = el("input");
@@ -432,7 +464,8 @@ function renderColumns() {
     // Name on the first line, detected kind under it.
     const tdName = el("td", "name");
     tdName.append(el("span", "column-name", c.name));
-    const kind = el("span", "kind", c.kind === "number" ? "number" : "category");
+    const derived = derivedNames().has(c.name);
+    const kind = el("span", "kind", derived ? "derived number" : c.kind === "number" ? "number" : "category");
     if (c.kind !== "number" && c.levels !== null && c.levels !== undefined) kind.textContent += " · " + plural(c.levels, "value", "values");
     tdName.append(kind);
     tdName.title = c.name + (c.kind === "number" ? " (numbers)" : " (text values)");
@@ -534,7 +567,7 @@ function renderLegend() {
   const has = state.colour.values && state.graph;
   legend.hidden = !has;
   if (!has) return;
-  byId("legend-title").textContent = "Mean of " + state.colour.column + " in each node";
+  byId("legend-title").textContent = statWords(state.colour.stat) + " of " + state.colour.column + " in each node";
   byId("legend-min").textContent = formatNumber(state.colour.min);
   byId("legend-max").textContent = formatNumber(state.colour.max);
   byId("legend-bar").style.backgroundImage = cividisGradient();
@@ -546,6 +579,7 @@ function renderProgress() {
   box.hidden = !p;
   if (!p) return;
   byId("progress-label").textContent = p.label + " · " + Math.round(100 * Math.max(0, Math.min(1, p.fraction))) + " %";
+  byId("cancel-button").hidden = !(state.phase === "building" || state.phase === "reading") || recovery.recovering;
   byId("progress-fill").style.width = (100 * Math.max(0, Math.min(1, p.fraction))).toFixed(1) + "%";
 }
 
@@ -555,49 +589,15 @@ function renderMessage() {
   m.textContent = state.message || "";
 }
 
-function renderDetail() {
-  const box = byId("detail");
-  const i = state.selected;
-  if (i === null || !state.graph) { box.hidden = true; return; }
-  box.hidden = false;
-  const d = state.detail;
-  byId("detail-title").textContent = "Node " + i;
-  const size = state.graph.nodeSizes[i];
-  const sub = byId("detail-sub");
-  const facts = [plural(d ? d.size : size, "row", "rows")];
-  if (d) facts.push(plural(d.degree, "edge", "edges"));
-  facts.push("lens interval " + ((d ? d.element : state.graph.nodeElements[i]) + 1) + (d && d.interval ? " [" + formatNumber(d.interval[0]) + ", " + formatNumber(d.interval[1]) + "]" : ""));
-  sub.textContent = facts.join(" · ");
-  const body = byId("detail-stats");
-  body.textContent = "";
-  const rows = byId("detail-rows");
-  if (!d) { rows.textContent = "…"; return; }
-  for (const c of d.columns) {
-    const tr = el("tr");
-    const th = el("th", null, c.name);
-    th.title = c.name;
-    tr.append(th);
-    if (c.kind === "number") tr.append(el("td", "num", formatNumber(c.mean)), el("td", "num", formatNumber(c.min)), el("td", "num", formatNumber(c.max)));
-    else {
-      const pct = c.topShare === null || c.topShare === undefined ? null : 100 * c.topShare;
-      const share = pct === null ? "" : " (" + (pct > 0 && pct < 0.5 ? "under 1" : Math.round(pct)) + " %)";
-      const td = el("td", "top", c.top === null || c.top === undefined ? "—" : "mostly “" + c.top + "”" + share);
-      td.colSpan = 3;
-      tr.append(td);
-    }
-    body.append(tr);
-  }
-  rows.textContent = d.rows.join(", ") + (d.size > d.rows.length ? ", … (" + formatCount(d.size - d.rows.length) + " more)" : "");
-}
-
 function renderChrome() {
   const working = state.phase === "reading" || state.phase === "building";
   byId("empty-hint").hidden = !!state.graph;
   byId("empty-hint-title").textContent = working ? (state.phase === "reading" ? "Reading the file…" : "Building the first graph…") : "No graph yet.";
   byId("empty-hint-text").hidden = working;
   byId("view-help").hidden = !state.graph;
-  byId("save-settings").disabled = !state.settings;
-  byId("save-picture").disabled = !state.graph;
+  byId("view-tools").hidden = !state.graph;
+  byId("dock").hidden = !state.graph;
+  renderExportChrome();
   byId("canvas-wrap").classList.toggle("stale", state.stale);
 }
 
@@ -619,8 +619,11 @@ const view = new GraphView(byId("graph-canvas"), {
     tooltip.style.left = Math.max(4, left) + "px";
     tooltip.style.top = Math.max(4, top) + "px";
   },
-  onSelect: function (i) {
-    selectNode(i).catch(function () { /* shown on the page */ });
+  onSelect: function (i, options) {
+    selectNode(i, options).catch(function () { /* shown on the page */ });
+  },
+  onLasso: function (nodes, options) {
+    lassoNodes(nodes, options).catch(function () { /* shown on the page */ });
   },
   onDraw: function () {
     if (state.timing.pendingFirstDraw && state.graph) {
@@ -634,21 +637,8 @@ new ResizeObserver(function () { tooltip.hidden = true; view.resize(); }).observ
 
 /* ---------------------------------------------------------------- events */
 
-function download(name, blob) {
-  const a = el("a");
-  a.href = URL.createObjectURL(blob);
-  a.download = name;
-  document.body.append(a);
-  a.click();
-  a.remove();
-  setTimeout(function () { URL.revokeObjectURL(a.href); }, 1000);
-}
-
-function baseName() {
-  return state.table ? state.table.name.replace(/\.[^.]*$/, "") : "nervure";
-}
-
 function wire() {
+  wireRecovery();
   const input = byId("file-input");
   input.addEventListener("change", function () {
     const file = input.files && input.files[0];
@@ -691,15 +681,12 @@ function wire() {
   byId("colour-select").addEventListener("change", function () {
     setColourColumn(byId("colour-select").value).catch(function () { /* shown on the page */ });
   });
-  byId("detail-close").addEventListener("click", function () { selectNode(null); });
-  document.addEventListener("keydown", function (ev) { if (ev.key === "Escape" && state.selected !== null) selectNode(null); });
-
-  byId("save-settings").addEventListener("click", function () {
-    download(baseName() + ".settings.json", new Blob([JSON.stringify(state.settings, null, 2) + "\n"], { type: "application/json" }));
-  });
-  byId("save-picture").addEventListener("click", function () {
-    byId("graph-canvas").toBlob(function (blob) { if (blob) download(baseName() + ".graph.png", blob); }, "image/png");
-  });
+  wireInspector();
+  wireDerived();
+  wireExports();
+  wireScatter();
+  wireHistory();
+  wireKeys();
 }
 
 /* ---------------------------------------------------------------- scripting hook */
@@ -730,23 +717,45 @@ window.nervure = Object.freeze({
       scale: view.view.scale, offsetX: view.view.x, offsetY: view.view.y,
     };
   },
-  /** The selected node, or null. */
+  /** The selected node (with several, the last one picked), or null. */
   selected: function () { return state.selected; },
+  /** Every selected node, increasing. */
+  selection: function () { return Array.from(state.selection).sort((a, b) => a - b); },
+  /** Selects nodes as a lasso would; resolves when the inspector is filled. */
+  select: function (nodes) { return setSelection(nodes).then(() => Array.from(state.selection).sort((a, b) => a - b)); },
+  /** The inspector's ranking of columns for the selection (a copy), or null. */
+  contrast: function () { return state.contrast ? JSON.parse(JSON.stringify(state.contrast)) : null; },
+  /** Rows of the selection (0-based table rows), or null. */
+  selectionRows: function () { return state.groupRows ? Array.from(state.groupRows) : null; },
+  /** Text of an export ("json", "graphml", "memberships", "report", "svg", "settings"). */
+  exportText: function (format) { return exportText(format); },
+  /** The runs of this session: [{id, summary, settings}] (copies). */
+  history: function () { return historyList(); },
+  /** The scatter's state: {shown, total, lit, xLabel, yLabel} or null. */
+  scatter: function () { return scatterInfo(); },
+  /** Where settings came from on the last load: "fragment", "stored", or null (automatic). */
+  restored: function () { return state.restored; },
   /** Milliseconds from the start of the last load to the table read and the first graph drawn. */
   timings: function () {
     const t = state.timing;
     return { tableReadMs: t.tableRead ? t.tableRead - t.start : null, firstGraphMs: t.firstDraw ? t.firstDraw - t.start : null };
   },
   /** What the page is doing: {phase, builds, pending} (pending: a rebuild is scheduled). */
-  status: function () { return { phase: state.phase, builds: state.builds, pending: rerunTimer !== null }; },
+  status: function () { return { phase: state.phase, builds: state.builds, pending: rerunTimer !== null, recovering: recovery.recovering }; },
   /** Sets the worker's pool of clustering helpers: {helpers (0: none), minPoints}. */
   pool: function (options) { return engine.request("pool", options || {}); },
   /** The message shown on the page, or null. */
   message: function () { return state.message; },
+  /** How the last table was read: the reader's notices (decoding, decimal commas...). */
+  notices: function () { return state.table && state.table.notices ? state.table.notices.slice() : []; },
+  /** Stops the build or read under way (the engine restarts; the graph shown stays). */
+  cancel: function () { return cancelWork(); },
+  /** Hooks for the recovery tests (recovery.js). */
+  test: recoveryTestHooks,
 });
 
 wire();
 engine.start();
 renderAll();
-// dist/nervure.html#demo opens with the demo loaded.
-if (location.hash === "#demo" && document.getElementById("nervure-demo")) byId("demo-button").click();
+// dist/nervure.html#demo opens with the demo loaded (also with settings: #demo&s=...).
+if (fragmentParts().demo && document.getElementById("nervure-demo")) byId("demo-button").click();

@@ -12,6 +12,11 @@
  *               {id, type: "check", settings}
  *               {id, type: "pool", helpers, minPoints}   size of the pool (0: cluster here)
  *               {id, type: "cluster", points, dim, clustering}   (to a helper: one element)
+ *               {id, type: "memberships"} | {id, type: "explain", nodes} | {id, type: "rowValues", rows, columns}
+ *               {id, type: "derivedInfo"} | {id, type: "scatter", x, y, limit} | {id, type: "export", format, colour, fileName}
+ *               (load may carry options: {textAsMissing}; run may carry nodeLimit, and then
+ *               answers {confirm: {confirmNodes, limit}} for a graph over the limit;
+ *               testExhaustMemory / testCrash / testBusy {ms} exist for the recovery tests)
  * Messages out: {id, type: "progress", stage, fraction}
  *               {id, type: "result", value}
  *               {id, type: "error", message, fatal}
@@ -63,8 +68,11 @@ function progressPoster(id) {
   };
 }
 
+/** Read options of the file being loaded ({textAsMissing}), or null. */
+let readOptions = null;
+
 function readFileInto(engine, file, name, progress) {
-  engine.begin_table(name);
+  engine.begin_table_with(name, readOptions);
   const reader = new FileReaderSync();
   const size = file.size;
   progress("reading", 0);
@@ -77,7 +85,7 @@ function readFileInto(engine, file, name, progress) {
 }
 
 function readTextInto(engine, text, name, progress) {
-  engine.begin_table(name);
+  engine.begin_table_with(name, readOptions);
   const bytes = new TextEncoder().encode(text);
   progress("reading", 0);
   for (let offset = 0; offset < bytes.length; offset += SLICE_BYTES) {
@@ -179,7 +187,7 @@ async function runBuild(engine, settings, progress) {
   const count = engine.prepare_elements(settings, progress);
   if (count > 0 && usePool(engine, count)) {
     const labels = await clusterOnPool(engine, settings, count, progress);
-    return engine.run_with_labels(settings, labels, progress);
+    engine.set_element_labels(settings, labels);
   }
   return engine.run(settings, progress);
 }
@@ -196,6 +204,7 @@ async function handle(engine, msg) {
   const progress = progressPoster(id);
   switch (msg.type) {
     case "load": {
+      readOptions = msg.options || null;
       if (msg.file) readFileInto(engine, msg.file, msg.name, progress);
       else readTextInto(engine, msg.text, msg.name, progress);
       engine.finish_table();
@@ -208,7 +217,9 @@ async function handle(engine, msg) {
     case "run": {
       // A newer run is already waiting: skip this one, its settings are out of date.
       if (msg.id !== latestRun) return { value: { superseded: true } };
+      engine.set_node_limit(msg.nodeLimit || 0);
       const summary = await runBuild(engine, msg.settings, progress);
+      if (summary && summary.confirmNodes !== undefined) return { value: { confirm: summary } };
       const graph = graphMessage(engine);
       let colour = null;
       if (msg.colour && msg.colour.column) {
@@ -234,6 +245,32 @@ async function handle(engine, msg) {
     case "cluster": {
       const labels = wasm_bindgen.cluster_points(msg.points, msg.dim, msg.clustering);
       return { value: labels, transfer: [labels.buffer] };
+    }
+    case "memberships": {
+      const m = engine.memberships();
+      return { value: m, transfer: m ? [m.offsets.buffer, m.rows.buffer] : [] };
+    }
+    case "explain":
+      return { value: engine.explain(new Uint32Array(msg.nodes)) };
+    case "rowValues":
+      return { value: engine.row_values(new Uint32Array(msg.rows), msg.columns || null) };
+    case "derivedInfo":
+      return { value: engine.derived_info() };
+    case "scatter": {
+      const d = engine.scatter(msg.x || "", msg.y || "", msg.limit);
+      return { value: d, transfer: [d.rows.buffer, d.x.buffer, d.y.buffer] };
+    }
+    case "export":
+      return { value: engine.export(msg.format, msg.colour || "", msg.fileName || "") };
+    case "testExhaustMemory":
+      return { value: engine.exhaust_memory_for_test() };
+    case "testCrash":
+      setTimeout(function () { throw new Error("test: the worker stopped"); }, 0);
+      return { value: null };
+    case "testBusy": {
+      const end = performance.now() + (msg.ms || 0);
+      while (performance.now() < end) { /* a long synchronous step, as a big build is */ }
+      return { value: null };
     }
     default:
       throw new Error("internal: unknown request '" + msg.type + "'");
@@ -268,7 +305,11 @@ self.onmessage = function (event) {
     } catch (e) {
       // A trap (RuntimeError) means the engine panicked: its state is lost.
       const fatal = e instanceof WebAssembly.RuntimeError;
-      const message = fatal
+      const memory = fatal ? wasm_bindgen.memory_report() : null;
+      const mb = (b) => Math.round(b / 1048576).toLocaleString("en") + " MB";
+      const message = fatal && memory.failedBytes > 0
+        ? "The engine ran out of memory: it asked for " + mb(memory.failedBytes) + " more while holding " + mb(memory.heldBytes) + ". The engine was restarted. Try fewer rows or columns, or settings that build less (fewer intervals, a smaller radius)."
+        : fatal
         ? "Internal error in the engine" + (lastPanic ? " (" + lastPanic + ")" : "") + ". The engine was restarted; please report this with the file's shape and your settings."
         : (e && e.message ? e.message : String(e));
       self.postMessage({ id: msg.id, type: "error", fatal, message });

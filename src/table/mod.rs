@@ -7,6 +7,7 @@
 //! in [`crate::points`], so changing them never re-reads the file.
 
 mod cells;
+mod encoding;
 mod reader;
 mod sniff;
 #[cfg(test)]

@@ -61,6 +61,8 @@ const engine = (function () {
     const url = URL.createObjectURL(new Blob([source], { type: "text/javascript" }));
     worker = new Worker(url);
     URL.revokeObjectURL(url);
+    // The worker starts its clustering helpers from the same script.
+    worker.postMessage({ type: "helper-source", source });
     worker.onmessage = function (event) {
       const msg = event.data;
       const w = waiting.get(msg.id);
@@ -761,6 +763,8 @@ window.nervure = Object.freeze({
   },
   /** What the page is doing: {phase, builds, pending} (pending: a rebuild is scheduled). */
   status: function () { return { phase: state.phase, builds: state.builds, pending: rerunTimer !== null, recovering: recovery.recovering }; },
+  /** Sets the worker's pool of clustering helpers: {helpers (0: none), minPoints}. */
+  pool: function (options) { return engine.request("pool", options || {}); },
   /** The message shown on the page, or null. */
   message: function () { return state.message; },
   /** How the last table was read: the reader's notices (decoding, decimal commas...). */

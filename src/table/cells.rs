@@ -257,7 +257,7 @@ impl ColumnBuilder {
                 ColumnData::Category { codes, levels }
             }
         };
-        Column { name: self.name, data, first_text: self.first_text }
+        Column { name: self.name, data, first_text: self.first_text, unit: None }
     }
 }
 

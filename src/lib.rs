@@ -16,6 +16,7 @@ pub mod error;
 pub mod settings;
 pub mod table;
 pub mod timecol;
+pub mod align;
 pub mod derive;
 pub mod points;
 pub mod filter;

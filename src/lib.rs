@@ -17,6 +17,7 @@ pub mod settings;
 pub mod table;
 pub mod timecol;
 pub mod align;
+pub mod campaign;
 pub mod derive;
 pub mod points;
 pub mod filter;

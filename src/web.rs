@@ -10,9 +10,10 @@ use js_sys::{Float64Array, Function, Object, Reflect, Uint32Array};
 use serde::Serialize;
 use wasm_bindgen::prelude::*;
 
+use crate::campaign::{Campaign, Plan};
 use crate::engine::{NodeStat, Workbench};
 use crate::settings::Settings;
-use crate::table::{ReadOptions, TableReader};
+use crate::table::ingest::Ingest;
 
 /// Panics become one `console.error` line with the message and place, instead of an
 /// anonymous "unreachable" trap (written here rather than pulling in a crate for it).
@@ -61,7 +62,9 @@ struct TableInfo<'a> {
 #[wasm_bindgen]
 pub struct Engine {
     bench: Workbench,
-    reader: Option<TableReader>,
+    reader: Option<Ingest>,
+    /// The files loaded, kept one by one (see [`crate::campaign`]).
+    campaign: Campaign,
 }
 
 #[wasm_bindgen]
@@ -69,12 +72,13 @@ impl Engine {
     #[wasm_bindgen(constructor)]
     pub fn new() -> Engine {
         install_panic_message();
-        Engine { bench: Workbench::new(), reader: None }
+        Engine { bench: Workbench::new(), reader: None, campaign: Campaign::new() }
     }
 
-    /// Starts reading a new file; any table being read is dropped.
+    /// Starts reading a new file (CSV, ICARTT or spreadsheet, told by content); any file
+    /// being read is dropped.
     pub fn begin_table(&mut self, name: &str) {
-        self.reader = Some(TableReader::new(name, ReadOptions::default()));
+        self.reader = Some(Ingest::new(name));
     }
 
     /// The next bytes of the file, in order.
@@ -83,12 +87,67 @@ impl Engine {
         reader.push(chunk).map_err(fail)
     }
 
-    /// Ends the file; the table replaces the previous one. Returns `{name, rows, columns}`.
+    /// Ends the file; it replaces every file loaded before. Returns `{name, rows, columns}`.
     pub fn finish_table(&mut self) -> Result<JsValue, JsValue> {
         let reader = self.reader.take().ok_or_else(|| fail("internal: finish_table before begin_table"))?;
-        let table = reader.finish().map_err(fail)?;
+        let part = reader.finish(None).map_err(fail)?;
+        self.campaign.clear();
+        self.campaign.add(part);
+        self.assemble()
+    }
+
+    /// Ends the file and adds it to the files loaded (the table is made by `assemble`).
+    pub fn finish_file(&mut self) -> Result<(), JsValue> {
+        let reader = self.reader.take().ok_or_else(|| fail("internal: finish_file before begin_table"))?;
+        let part = reader.finish(None).map_err(fail)?;
+        self.campaign.add(part);
+        Ok(())
+    }
+
+    /// Drops every file loaded.
+    pub fn clear_files(&mut self) {
+        self.campaign.clear();
+    }
+
+    /// Removes one loaded file (call `assemble` after).
+    pub fn remove_file(&mut self, name: &str) -> Result<(), JsValue> {
+        self.campaign.remove(name).map_err(fail)
+    }
+
+    /// Reads another sheet of a loaded spreadsheet (call `assemble` after).
+    pub fn choose_sheet(&mut self, name: &str, sheet: &str) -> Result<(), JsValue> {
+        self.campaign.choose_sheet(name, sheet).map_err(fail)
+    }
+
+    /// Sets the alignment plan `{measurement, model, align}`, or clears it with `null`
+    /// (call `assemble` after).
+    pub fn set_plan(&mut self, plan: JsValue) -> Result<(), JsValue> {
+        let plan: Option<Plan> = if plan.is_null() || plan.is_undefined() {
+            None
+        } else {
+            let text: String = js_sys::JSON::stringify(&plan).map_err(|_| fail("the plan cannot be written as JSON"))?.into();
+            Some(serde_json::from_str(&text).map_err(|e| fail(format!("setting 'plan': {e}")))?)
+        };
+        self.campaign.set_plan(plan).map_err(fail)
+    }
+
+    /// Makes the table from the files loaded (merged, or aligned by the plan); it replaces
+    /// the previous table. Returns `{name, rows, columns}`.
+    pub fn assemble(&mut self) -> Result<JsValue, JsValue> {
+        let table = self.campaign.assemble().map_err(fail)?;
         self.bench.set_table(table);
         self.table_info(&[])
+    }
+
+    /// The file list: `{files: [report], plan, alignment, differences}`.
+    pub fn files(&self) -> Result<JsValue, JsValue> {
+        to_js(&self.campaign.info())
+    }
+
+    /// Column summaries of the named files merged (all when the list is empty).
+    pub fn file_columns(&self, names: JsValue) -> Result<JsValue, JsValue> {
+        let names: Vec<String> = serde_wasm_bindgen::from_value(names).map_err(|e| fail(format!("file names: {e}")))?;
+        to_js(&self.campaign.columns_of(&names).map_err(fail)?)
     }
 
     /// Column summaries with `fill_values` counted as missing: `{name, rows, columns}`.

@@ -25,6 +25,7 @@ const state = {
   builds: 0,               // graphs built since the page opened
   lensMemory: {},          // parameters of lens kinds not in use, so switching back restores them
   clusteringMemory: {},
+  files: null,             // the file list from the engine: {files, plan, alignment, differences} (files.js)
 };
 
 /* ---------------------------------------------------------------- worker */
@@ -127,7 +128,7 @@ let loadSeq = 0;
 
 /** Reads a table (a File, or text with a name), then builds its first graph with the
  *  engine's automatic settings. Resolves with the table's description. */
-async function loadTable(source) {
+async function loadTable(source, ask) {
   const seq = ++loadSeq;
   state.timing = { start: performance.now(), tableRead: 0, firstDraw: 0, pendingFirstDraw: true };
   state.phase = "reading";
@@ -138,7 +139,7 @@ async function loadTable(source) {
   renderAll();
   let loaded;
   try {
-    loaded = await engine.request("load", source, progressHandler(false));
+    loaded = await (ask ? ask(progressHandler(false)) : engine.request("load", source, progressHandler(false)));
   } catch (e) {
     if (seq === loadSeq) fail(e.message);
     throw e;
@@ -147,6 +148,7 @@ async function loadTable(source) {
   state.timing.tableRead = performance.now();
   state.table = loaded.table;
   state.settings = loaded.settings;
+  state.files = loaded.files || null;
   state.summary = null;
   state.graph = null;
   state.lensMemory = {};
@@ -388,6 +390,7 @@ function onFormChange() {
 
 function renderAll() {
   renderData();
+  renderFiles();
   renderColumns();
   renderSettings();
   renderSummary();
@@ -432,6 +435,7 @@ function renderColumns() {
     tdName.append(el("span", "column-name", c.name));
     const kind = el("span", "kind", c.kind === "number" ? "number" : "category");
     if (c.kind !== "number" && c.levels !== null && c.levels !== undefined) kind.textContent += " · " + plural(c.levels, "value", "values");
+    if (c.unit) kind.textContent += " · " + c.unit;
     tdName.append(kind);
     tdName.title = c.name + (c.kind === "number" ? " (numbers)" : " (text values)");
     if (c.firstText) tdName.title += "; read as text because data row " + c.firstText.row + " holds “" + c.firstText.text + "”";
@@ -532,7 +536,7 @@ function renderLegend() {
   const has = state.colour.values && state.graph;
   legend.hidden = !has;
   if (!has) return;
-  byId("legend-title").textContent = "Mean of " + state.colour.column + " in each node";
+  byId("legend-title").textContent = "Mean of " + state.colour.column + unitSuffix(state.colour.column) + " in each node";
   byId("legend-min").textContent = formatNumber(state.colour.min);
   byId("legend-max").textContent = formatNumber(state.colour.max);
   byId("legend-bar").style.backgroundImage = cividisGradient();
@@ -649,8 +653,9 @@ function baseName() {
 function wire() {
   const input = byId("file-input");
   input.addEventListener("change", function () {
-    const file = input.files && input.files[0];
-    if (file) loadFile(file).catch(function () { /* shown on the page */ });
+    const files = Array.from(input.files || []);
+    if (files.length > 1) loadFiles(files, false).catch(function () { /* shown on the page */ });
+    else if (files[0]) loadFile(files[0]).catch(function () { /* shown on the page */ });
     input.value = "";
   });
 
@@ -671,8 +676,9 @@ function wire() {
     ev.preventDefault();
     depth = 0;
     zone.classList.remove("over");
-    const file = ev.dataTransfer && ev.dataTransfer.files && ev.dataTransfer.files[0];
-    if (file) loadFile(file).catch(function () { /* shown on the page */ });
+    const files = Array.from((ev.dataTransfer && ev.dataTransfer.files) || []);
+    if (files.length > 1) loadFiles(files, false).catch(function () { /* shown on the page */ });
+    else if (files[0]) loadFile(files[0]).catch(function () { /* shown on the page */ });
   });
   zone.addEventListener("keydown", function (ev) {
     if (ev.key === "Enter" || ev.key === " ") { ev.preventDefault(); input.click(); }
@@ -739,6 +745,10 @@ window.nervure = Object.freeze({
   status: function () { return { phase: state.phase, builds: state.builds, pending: rerunTimer !== null }; },
   /** The message shown on the page, or null. */
   message: function () { return state.message; },
+  /** The file list (reports, alignment plan and report, differences offered), or null. */
+  files: function () { return state.files ? JSON.parse(JSON.stringify(state.files)) : null; },
+  /** Milliseconds the last many-files load and the last alignment took (read, merge or align). */
+  fileTimings: function () { return Object.assign({}, state.fileTimings || {}); },
 });
 
 wire();

@@ -54,13 +54,15 @@ pub fn auto_settings(table: &Table) -> Result<Settings> {
         version: SETTINGS_VERSION,
         columns,
         scaling: Scaling::Zscore,
-        missing: Missing { fill_values: fills },
+        missing: Missing { fill_values: fills, ..Default::default() },
         lens,
-        cover: CoverSettings { intervals: 10, overlap: 0.35 },
+        cover: CoverSettings::uniform(10, 0.35),
         clustering: Clustering::Dbscan { eps: 1.0, min_points: MIN_POINTS },
         edges: EdgeRule::default(),
         seed: 1,
         derived: Vec::new(),
+        lens2: None,
+        cover2: None,
     };
     let pts = build_points(table, &s)?;
     let n = pts.rows.len();

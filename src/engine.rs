@@ -31,7 +31,29 @@ pub struct Build {
     pub node_lens: Vec<f64>,
     /// The lens's range over the rows used.
     pub lens_range: (f64, f64),
+    /// The first filter's intervals (element `e` lies in `intervals[cover.cell(e).0]`).
     pub intervals: Vec<(f64, f64)>,
+    /// The second filter's axis, for a product cover.
+    pub second: Option<SecondAxis>,
+}
+
+/// The second filter of a product cover, as built.
+#[derive(Debug, Clone, PartialEq)]
+pub struct SecondAxis {
+    pub lens_range: (f64, f64),
+    pub intervals: Vec<(f64, f64)>,
+    /// Mean second-lens value of each node's rows.
+    pub node_lens: Vec<f64>,
+}
+
+impl Build {
+    /// The (first, second) interval indices of element `e`.
+    pub fn cell(&self, e: usize) -> (usize, Option<usize>) {
+        match &self.second {
+            None => (e, None),
+            Some(a) => (e / a.intervals.len(), Some(e % a.intervals.len())),
+        }
+    }
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize)]
@@ -49,13 +71,104 @@ pub struct Summary {
     /// Cover elements that held at least one row.
     pub elements: usize,
     pub left_out_by_column: Vec<(String, usize)>,
+    /// For each column under the median policy, how many rows that took part took its median.
+    pub filled_by_column: Vec<(String, usize)>,
 }
 
-/// Statistic of a column over a node's rows.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, serde::Deserialize)]
-#[serde(rename_all = "camelCase")]
+/// Statistic of a numeric column over a node's rows that have a value there.
+///
+/// JSON: `{"kind": "mean"}`, `{"kind": "median"}`, `{"kind": "spread"}`,
+/// `{"kind": "shareAbove", "threshold": 2.5}`; [`NodeStat::from_json`] also takes the
+/// bare strings `"mean"`, `"median"` and `"spread"`.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, serde::Deserialize)]
+#[serde(tag = "kind", rename_all = "camelCase", rename_all_fields = "camelCase", deny_unknown_fields)]
 pub enum NodeStat {
     Mean,
+    /// NumPy's `median` (the mean of the two middle values for an even count).
+    Median,
+    /// Standard deviation with ddof = 0 (the population formula, NumPy's `std` default).
+    Spread,
+    /// Share of the node's rows with a value that are strictly above `threshold`.
+    ShareAbove { threshold: f64 },
+}
+
+impl NodeStat {
+    /// Reads a statistic from its JSON (see above); the error names the field `stat`.
+    pub fn from_json(v: &serde_json::Value) -> Result<NodeStat> {
+        let v = match v {
+            serde_json::Value::String(k) => serde_json::json!({ "kind": k }),
+            v => v.clone(),
+        };
+        serde_json::from_value(v).map_err(|e| {
+            Error::settings("stat", format!("{e}; use {{\"kind\": \"mean\"}}, \"median\", \"spread\" or {{\"kind\": \"shareAbove\", \"threshold\": NUMBER}}"))
+        })
+    }
+
+    /// The statistic of `values` (reordered), NaN when empty.
+    pub fn of(&self, values: &mut [f64]) -> f64 {
+        let k = values.len();
+        if k == 0 {
+            return f64::NAN;
+        }
+        let mean = || values.iter().sum::<f64>() / k as f64;
+        match *self {
+            NodeStat::Mean => mean(),
+            NodeStat::Median => crate::missing::median_in_place(values).unwrap_or(f64::NAN),
+            NodeStat::Spread => {
+                let m = mean();
+                (values.iter().map(|x| (x - m) * (x - m)).sum::<f64>() / k as f64).sqrt()
+            }
+            NodeStat::ShareAbove { threshold } => values.iter().filter(|&&x| x > threshold).count() as f64 / k as f64,
+        }
+    }
+}
+
+/// A histogram of the lens values with the cover's intervals, for drawing where the
+/// cover cuts: `edges` (bins + 1, increasing) and `counts` as `numpy.histogram(values,
+/// bins)` gives them (equal bins over [min, max], the last bin closed; a constant lens
+/// gets the range [v - 0.5, v + 0.5], as NumPy does), and each interval with the number
+/// of rows whose value it holds. JSON: `{"edges": [..], "counts": [..], "intervals": [[a, b, rows], ..]}`.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+#[serde(rename_all = "camelCase")]
+pub struct LensHistogram {
+    pub edges: Vec<f64>,
+    pub counts: Vec<usize>,
+    pub intervals: Vec<(f64, f64, usize)>,
+}
+
+/// [`LensHistogram`] of `values` with `intervals`.
+pub fn lens_histogram(values: &[f64], bins: usize, intervals: &[(f64, f64)]) -> Result<LensHistogram> {
+    if bins == 0 || bins > 100_000 {
+        return Err(Error::settings("bins", format!("{bins} bins: choose 1 to 100000")));
+    }
+    let (mut lo, mut hi) = values.iter().fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), &v| (a.min(v), b.max(v)));
+    if values.is_empty() {
+        (lo, hi) = (0.0, 1.0);
+    } else if lo == hi {
+        (lo, hi) = (lo - 0.5, hi + 0.5);
+    }
+    // numpy.linspace(lo, hi, bins + 1): lo + i * step, the last edge hi exactly.
+    let step = (hi - lo) / bins as f64;
+    let edges: Vec<f64> = (0..=bins).map(|i| if i == bins { hi } else { lo + i as f64 * step }).collect();
+    let mut counts = vec![0usize; bins];
+    for &v in values {
+        // NumPy's rule: an index from arithmetic, corrected against the edges themselves.
+        let mut i = (((v - lo) / (hi - lo)) * bins as f64) as usize;
+        i = i.min(bins - 1);
+        if v < edges[i] {
+            i = i.saturating_sub(1);
+        } else if i + 1 < bins && v >= edges[i + 1] {
+            i += 1;
+        }
+        counts[i] += 1;
+    }
+    let mut sorted = values.to_vec();
+    sorted.sort_unstable_by(f64::total_cmp);
+    let intervals = intervals
+        .iter()
+        .map(|&(a, b)| (a, b, sorted.partition_point(|&v| v <= b) - sorted.partition_point(|&v| v < a)))
+        .collect();
+    Ok(LensHistogram { edges, counts, intervals })
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize)]
@@ -80,6 +193,9 @@ pub struct NodeDetail {
     pub element: usize,
     pub interval: (f64, f64),
     pub degree: usize,
+    /// The second filter's interval, for a product cover.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub interval2: Option<(f64, f64)>,
     pub columns: Vec<NodeColumn>,
     /// The first member rows, as 1-based data rows of the file.
     pub rows: Vec<usize>,
@@ -92,16 +208,32 @@ struct Clustered {
     noise_rows: usize,
 }
 
-type LensKey = (PointsKey, Lens, u64);
-type CoverKey = (LensKey, CoverSettings);
+type LensKey = (PointsKey, Lens, Option<Lens>, u64);
+type CoverKey = (LensKey, CoverSettings, Option<CoverSettings>);
 type ClusterKey = (CoverKey, Clustering);
 type GraphKey = (ClusterKey, EdgeRule);
 
 fn lens_key(s: &Settings) -> LensKey {
-    (PointsKey::of(s), s.lens.clone(), s.seed)
+    (PointsKey::of(s), s.lens.clone(), s.lens2.clone(), s.seed)
 }
 fn cover_key(s: &Settings) -> CoverKey {
-    (lens_key(s), s.cover.clone())
+    (lens_key(s), s.cover.clone(), s.lens2.as_ref().map(|_| second_cover(s).clone()))
+}
+
+/// The second filter's cover settings: `cover2`, or `cover` when absent.
+fn second_cover(s: &Settings) -> &CoverSettings {
+    s.cover2.as_ref().unwrap_or(&s.cover)
+}
+
+/// The lens values of the points: the first filter's, and the second's for a product cover.
+#[derive(Debug, Clone, PartialEq)]
+struct Lenses {
+    first: Vec<f64>,
+    second: Option<Vec<f64>>,
+}
+
+fn make_cover(l: &Lenses, s: &Settings) -> Cover {
+    cover::build(&l.first, &s.cover, l.second.as_deref().map(|v| (v, second_cover(s))))
 }
 fn cluster_key(s: &Settings) -> ClusterKey {
     (cover_key(s), s.clustering.clone())
@@ -124,7 +256,7 @@ pub struct Workbench {
     /// Sorted rows per numeric column for [`Workbench::explain`], made on first use.
     sorted: Option<(DerivedKey, SortedColumns)>,
     points: Option<(PointsKey, Points)>,
-    lens: Option<(LensKey, Vec<f64>)>,
+    lens: Option<(LensKey, Lenses)>,
     cover: Option<(CoverKey, Cover)>,
     clustered: Option<(ClusterKey, Clustered)>,
     last: Option<Build>,
@@ -213,7 +345,7 @@ impl Workbench {
         let ck = cover_key(s);
         if self.cover.as_ref().map(|(k, _)| k) != Some(&ck) {
             progress("cover", 0.0);
-            self.cover = Some((ck, cover::uniform(lens, s.cover.intervals, s.cover.overlap)));
+            self.cover = Some((ck, make_cover(lens, s)));
             self.clustered = None;
         }
         let cov = &self.cover.as_ref().expect("just set").1;
@@ -231,21 +363,51 @@ impl Workbench {
     /// One value per node of the last build: for a numeric column the statistic over the
     /// node's rows that have a value (NaN if none has); for a category column the share
     /// of the node's most common value.
+    /// Missing cells (the column's fill values, see [`crate::settings::Missing`]) are
+    /// skipped, never replaced by a median fill: a node's statistic describes the values
+    /// in the file. A category column gives the dominant share whatever `stat` is.
     pub fn node_values(&self, column: &str, stat: NodeStat) -> Result<Vec<f64>> {
         let (table, b) = self.table_and_build()?;
-        let fills = &b.settings.missing.fill_values;
+        let fills = b.settings.missing.fills_for(column);
         let col = table.column(column).ok_or_else(|| Error::settings("colour", format!("no column named '{column}'")))?;
+        let mut buf = Vec::new();
         Ok(b.nerve
             .nodes
             .iter()
-            .map(|n| match (&col.data, stat) {
-                (ColumnData::Number(v), NodeStat::Mean) => {
-                    let (s, k) = n.members.iter().map(|&r| v[r as usize]).filter(|x| !points::is_missing(*x, fills)).fold((0.0, 0usize), |(s, k), x| (s + x, k + 1));
-                    if k == 0 { f64::NAN } else { s / k as f64 }
+            .map(|n| match &col.data {
+                ColumnData::Number(v) => {
+                    buf.clear();
+                    buf.extend(n.members.iter().map(|&r| v[r as usize]).filter(|x| !points::is_missing(*x, fills)));
+                    stat.of(&mut buf)
                 }
-                (ColumnData::Category { codes, levels }, _) => dominant(codes, levels.len(), &n.members).map_or(f64::NAN, |(_, share)| share),
+                ColumnData::Category { codes, levels } => dominant(codes, levels.len(), &n.members).map_or(f64::NAN, |(_, share)| share),
             })
             .collect())
+    }
+
+    /// Each node's mean lens value ("colour by the filter"): `axis` 0 for the first
+    /// filter, 1 for the second of a product cover.
+    pub fn node_lens_values(&self, axis: usize) -> Result<Vec<f64>> {
+        let (_, b) = self.table_and_build()?;
+        match (axis, &b.second) {
+            (0, _) => Ok(b.node_lens.clone()),
+            (1, Some(a)) => Ok(a.node_lens.clone()),
+            (1, None) => Err(Error::settings("lens2", "the last graph has one filter; set lens2 to colour by a second one")),
+            _ => Err(Error::settings("axis", format!("filter {axis} does not exist: use 0 (lens) or 1 (lens2)"))),
+        }
+    }
+
+    /// The histogram of the last build's lens values (`axis` 0: `lens`, 1: `lens2`) in
+    /// `bins` equal bins, with that filter's cover intervals (see [`LensHistogram`]).
+    pub fn lens_histogram(&self, bins: usize, axis: usize) -> Result<LensHistogram> {
+        let (_, b) = self.table_and_build()?;
+        let lens = &self.lens.as_ref().filter(|(k, _)| *k == lens_key(&b.settings)).ok_or_else(|| Error::Data("the last graph's filter values are gone; run again".into()))?.1;
+        match (axis, &lens.second, &b.second) {
+            (0, _, _) => lens_histogram(&lens.first, bins, &b.intervals),
+            (1, Some(v), Some(a)) => lens_histogram(v, bins, &a.intervals),
+            (1, _, _) => Err(Error::settings("lens2", "the last graph has one filter; set lens2 to see a second histogram")),
+            _ => Err(Error::settings("axis", format!("filter {axis} does not exist: use 0 (lens) or 1 (lens2)"))),
+        }
     }
 
     /// For a category column: the code of each node's most common value (`MISSING_CODE` if none).
@@ -262,12 +424,12 @@ impl Workbench {
     pub fn node_detail(&self, node: usize) -> Result<NodeDetail> {
         let (table, b) = self.table_and_build()?;
         let n = b.nerve.nodes.get(node).ok_or_else(|| Error::Data(format!("there is no node {node}; the graph has {}", b.nerve.nodes.len())))?;
-        let fills = &b.settings.missing.fill_values;
         let columns = table
             .columns
             .iter()
             .map(|c| match &c.data {
                 ColumnData::Number(v) => {
+                    let fills = b.settings.missing.fills_for(&c.name);
                     let vals: Vec<f64> = n.members.iter().map(|&r| v[r as usize]).filter(|x| !points::is_missing(*x, fills)).collect();
                     let k = vals.len();
                     NodeColumn {
@@ -300,7 +462,11 @@ impl Workbench {
             node,
             size: n.members.len(),
             element: n.element,
-            interval: b.intervals.get(n.element).copied().unwrap_or((f64::NAN, f64::NAN)),
+            interval: b.intervals.get(b.cell(n.element).0).copied().unwrap_or((f64::NAN, f64::NAN)),
+            interval2: match (b.cell(n.element).1, &b.second) {
+                (Some(j), Some(a)) => a.intervals.get(j).copied(),
+                _ => None,
+            },
             degree: b.nerve.degrees()[node],
             columns,
             rows: n.members.iter().take(200).map(|&r| r as usize + 1).collect(),
@@ -347,7 +513,7 @@ impl Workbench {
     /// page's row table; pass the first rows you want to show.
     pub fn row_values(&self, rows: &[u32], columns: &[String]) -> Result<RowValues> {
         let table = self.need_table()?;
-        let fills = self.last.as_ref().map(|b| b.settings.missing.fill_values.clone()).unwrap_or_default();
+        let missing = self.last.as_ref().map(|b| b.settings.missing.clone()).unwrap_or_default();
         let cols: Vec<&crate::table::Column> = if columns.is_empty() {
             table.columns.iter().collect()
         } else {
@@ -363,7 +529,7 @@ impl Workbench {
                     .map(|c| match &c.data {
                         ColumnData::Number(v) => {
                             let x = v[r as usize];
-                            if points::is_missing(x, &fills) { serde_json::Value::Null } else { serde_json::json!(x) }
+                            if points::is_missing(x, missing.fills_for(&c.name)) { serde_json::Value::Null } else { serde_json::json!(x) }
                         }
                         ColumnData::Category { codes, levels } => match codes[r as usize] {
                             MISSING_CODE => serde_json::Value::Null,
@@ -378,6 +544,21 @@ impl Workbench {
             data_rows: rows.iter().map(|&r| r as usize + 1).collect(),
             cells,
         })
+    }
+
+    /// A seeded sample of at most `limit` rows with two values each, for the page's linked
+    /// scatter (see [`crate::scatter`]); the principal components are those of the points
+    /// of the last build.
+    pub fn scatter(&self, axes: &crate::scatter::Axes, limit: usize) -> Result<crate::scatter::ScatterData> {
+        let (table, b) = self.table_and_build()?;
+        match axes {
+            crate::scatter::Axes::Columns(x, y) => crate::scatter::column_pair(table, &b.settings.missing.fill_values, x, y, limit, b.settings.seed),
+            crate::scatter::Axes::Principal => {
+                let pts = self.points.as_ref().filter(|(k, _)| *k == PointsKey::of(&b.settings)).map(|(_, p)| p);
+                let pts = pts.ok_or_else(|| Error::Data("the points of the last graph are gone; build the graph again".into()))?;
+                crate::scatter::principal_pair(pts, limit, b.settings.seed)
+            }
+        }
     }
 
     fn table_and_build(&self) -> Result<(&Table, &Build)> {
@@ -411,7 +592,7 @@ pub fn build(table: &Table, s: &Settings) -> Result<Build> {
     let mut quiet = |_: &str, _: f64| {};
     let pts = points::build_points(table, s)?;
     let lens = lens_values(table, &pts, s)?;
-    let cov = cover::uniform(&lens, s.cover.intervals, s.cover.overlap);
+    let cov = make_cover(&lens, s);
     let clustered = cluster_elements(&pts, &cov, &s.clustering, &mut quiet);
     Ok(assemble(table, &pts, &lens, &cov, &clustered, s, &mut quiet))
 }
@@ -427,18 +608,20 @@ pub fn build(table: &Table, s: &Settings) -> Result<Build> {
 pub struct Resampler {
     pts: Points,
     lens: Vec<f64>,
-    lo: f64,
-    hi: f64,
+    lens2: Option<Vec<f64>>,
+    /// The original's intervals, per filter.
+    axis: cover::Axis,
+    axis2: Option<cover::Axis>,
 }
 
 impl Resampler {
     pub fn new(table: &Table, s: &Settings) -> Result<Resampler> {
         s.validate()?;
         let pts = points::build_points(table, s)?;
-        let lens = lens_values(table, &pts, s)?;
-        let (lo, hi) = lens.iter().fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), &v| (a.min(v), b.max(v)));
-        let (lo, hi) = if lens.is_empty() { (0.0, 0.0) } else { (lo, hi) };
-        Ok(Resampler { pts, lens, lo, hi })
+        let Lenses { first, second } = lens_values(table, &pts, s)?;
+        let axis = cover::axis(&first, &s.cover);
+        let axis2 = second.as_ref().map(|v| cover::axis(v, second_cover(s)));
+        Ok(Resampler { pts, lens: first, lens2: second, axis, axis2 })
     }
 
     /// Number of points (rows that took part); draws index these, `0..len()`.
@@ -461,9 +644,10 @@ impl Resampler {
     }
 
     /// The nerve of the points `draws` (indices into `0..len()`, repeats allowed) under the
-    /// cover and clustering of `s`, and each node's mean lens value. Node members are
-    /// positions in `draws`, not table rows. `s` must share the points and lens settings
-    /// this resampler was made with; only its cover, clustering and edge rule are read.
+    /// clustering of `s` and the original's intervals, and each node's mean (first) lens
+    /// value. Node members are positions in `draws`, not table rows. `s` must share the
+    /// points, lens and cover settings this resampler was made with; only its clustering
+    /// and edge rule are read.
     pub fn graph(&self, draws: &[u32], s: &Settings) -> (Nerve, Vec<f64>) {
         let d = self.pts.data.ncols();
         let flat = self.pts.data.as_slice().expect("points are row-major and contiguous");
@@ -478,8 +662,11 @@ impl Resampler {
             columns: self.pts.columns.clone(),
             left_out: 0,
             left_out_by_column: Vec::new(),
+            filled_by_column: Vec::new(),
         };
-        let cov = cover_within(self.lo, self.hi, &lens, s.cover.intervals, s.cover.overlap);
+        let lens2: Option<Vec<f64>> = self.lens2.as_ref().map(|l2| draws.iter().map(|&p| l2[p as usize]).collect());
+        let second = self.axis2.as_ref().zip(lens2.as_deref());
+        let cov = cover::within(&self.axis, &lens, second);
         let clustered = cluster_elements(&pts, &cov, &s.clustering, &mut |_: &str, _: f64| {});
         let nerve = Nerve::new(clustered.nodes, draws.len(), s.edges.min_shared);
         let node_lens = nerve.nodes.iter().map(|n| n.members.iter().map(|&r| lens[r as usize]).sum::<f64>() / n.members.len() as f64).collect();
@@ -487,31 +674,19 @@ impl Resampler {
     }
 }
 
-/// The uniform cover of [lo, hi] (as [`cover::intervals`]) with `values` assigned to every
-/// interval that contains them; values outside [lo, hi] fall in none.
-fn cover_within(lo: f64, hi: f64, values: &[f64], n: usize, g: f64) -> Cover {
-    let ivs = cover::intervals(lo, hi, n, g);
-    let mut elements = vec![Vec::new(); ivs.len()];
-    for (p, &v) in values.iter().enumerate() {
-        // Starts and ends both increase: the intervals holding v are a contiguous run.
-        let first = ivs.partition_point(|&(_, b)| b < v);
-        let last = ivs.partition_point(|&(a, _)| a <= v);
-        for e in &mut elements[first..last.max(first)] {
-            e.push(p as u32);
+fn lens_values(table: &Table, pts: &Points, s: &Settings) -> Result<Lenses> {
+    let finite = |v: Vec<f64>, which: &str| -> Result<Vec<f64>> {
+        if let Some(i) = v.iter().position(|x| !x.is_finite()) {
+            return Err(Error::Data(format!(
+                "the {which} gave no finite value on data row {}; choose another filter or check that column",
+                pts.rows[i] + 1
+            )));
         }
-    }
-    Cover { lo, hi, intervals: ivs, elements }
-}
-
-fn lens_values(table: &Table, pts: &Points, s: &Settings) -> Result<Vec<f64>> {
-    let v = filter::compute_lens(table, pts, s)?;
-    if let Some(i) = v.iter().position(|x| !x.is_finite()) {
-        return Err(Error::Data(format!(
-            "the filter gave no finite value on data row {}; choose another filter or check that column",
-            pts.rows[i] + 1
-        )));
-    }
-    Ok(v)
+        Ok(v)
+    };
+    let first = finite(filter::compute_lens(table, pts, s)?, "filter")?;
+    let second = filter::compute_lens2(table, pts, s)?.map(|v| finite(v, "second filter (lens2)")).transpose()?;
+    Ok(Lenses { first, second })
 }
 
 fn cluster_elements(pts: &Points, cov: &Cover, method: &Clustering, progress: &mut dyn FnMut(&str, f64)) -> Clustered {
@@ -600,16 +775,23 @@ fn cluster_all(pts: &Points, cov: &Cover, method: &Clustering, progress: &mut dy
     results.into_inner().expect("threads joined").into_iter().map(|r| r.expect("every element clustered")).collect()
 }
 
-fn assemble(table: &Table, pts: &Points, lens: &[f64], cov: &Cover, c: &Clustered, s: &Settings, progress: &mut dyn FnMut(&str, f64)) -> Build {
+fn assemble(table: &Table, pts: &Points, lens: &Lenses, cov: &Cover, c: &Clustered, s: &Settings, progress: &mut dyn FnMut(&str, f64)) -> Build {
     progress("graph", 0.0);
     let nerve = Nerve::new(c.nodes.clone(), table.n_rows, s.edges.min_shared);
     let (components, loops) = nerve.counts();
     // Mean lens value of each node: rows map back to points by binary search (rows increase).
-    let node_lens: Vec<f64> = nerve
-        .nodes
-        .iter()
-        .map(|n| n.members.iter().map(|r| lens[pts.rows.binary_search(r).expect("member rows are points")]).sum::<f64>() / n.members.len() as f64)
-        .collect();
+    let means = |lens: &[f64]| -> Vec<f64> {
+        nerve
+            .nodes
+            .iter()
+            .map(|n| n.members.iter().map(|r| lens[pts.rows.binary_search(r).expect("member rows are points")]).sum::<f64>() / n.members.len() as f64)
+            .collect()
+    };
+    let node_lens = means(&lens.first);
+    let second = match (&lens.second, &cov.second) {
+        (Some(v), Some(a)) => Some(SecondAxis { lens_range: (a.lo, a.hi), intervals: a.intervals.clone(), node_lens: means(v) }),
+        _ => None,
+    };
     progress("layout", 0.0);
     let layout = layout::layout(&nerve, &node_lens, s.seed);
     let summary = Summary {
@@ -622,8 +804,9 @@ fn assemble(table: &Table, pts: &Points, lens: &[f64], cov: &Cover, c: &Clustere
         noise_rows: c.noise_rows,
         elements: cov.elements.iter().filter(|e| !e.is_empty()).count(),
         left_out_by_column: pts.left_out_by_column.clone(),
+        filled_by_column: pts.filled_by_column.clone(),
     };
-    Build { settings: s.clone(), summary, nerve, layout, node_lens, lens_range: (cov.lo, cov.hi), intervals: cov.intervals.clone() }
+    Build { settings: s.clone(), summary, nerve, layout, node_lens, lens_range: (cov.lo, cov.hi), intervals: cov.intervals.clone(), second }
 }
 
 /// The most common code among `rows` and its share, ignoring missing values.

@@ -162,11 +162,13 @@ mod tests {
             scaling: Scaling::None,
             missing: Missing::default(),
             lens: Lens::Column { column: "x".into() },
-            cover: CoverSettings { intervals: 8, overlap: 0.3 },
+            cover: CoverSettings::uniform(8, 0.3),
             clustering: Clustering::Dbscan { eps: 0.3, min_points: 1 },
             edges: EdgeRule::default(),
             seed: 1,
             derived: Vec::new(),
+            lens2: None,
+            cover2: None,
         };
         crate::engine::build(&t, &s).unwrap()
     }

@@ -19,6 +19,7 @@ pub mod timecol;
 pub mod align;
 pub mod campaign;
 pub mod derive;
+pub mod missing;
 pub mod points;
 pub mod filter;
 pub mod cover;
@@ -31,6 +32,7 @@ pub mod shape;
 pub mod export;
 pub mod explain;
 pub mod rng;
+pub mod scatter;
 
 #[cfg(target_arch = "wasm32")]
 pub mod web;
@@ -38,4 +40,4 @@ pub mod web;
 pub use error::{Error, Result};
 pub use settings::Settings;
 pub use table::{Table, TableReader, ReadOptions};
-pub use engine::{build, Build, Summary, Workbench, NodeStat};
+pub use engine::{build, Build, Summary, Workbench, NodeStat, LensHistogram};

@@ -7,6 +7,7 @@
 use ndarray::Array2;
 
 use crate::error::{Error, Result};
+use crate::missing::ColumnValues;
 use crate::settings::{Lens, Scaling, Settings};
 use crate::table::Table;
 
@@ -21,6 +22,9 @@ pub struct Points {
     pub left_out: usize,
     /// For each column that cost rows, how many rows had no value there.
     pub left_out_by_column: Vec<(String, usize)>,
+    /// For each column under the median policy, how many of the points took its median
+    /// (rows left out for another column are not counted).
+    pub filled_by_column: Vec<(String, usize)>,
 }
 
 /// The part of the settings this stage reads; equal keys give equal points.
@@ -28,8 +32,9 @@ pub struct Points {
 pub struct PointsKey {
     columns: Vec<String>,
     scaling: Scaling,
-    fill_values: Vec<f64>,
-    lens_column: Option<String>,
+    missing: crate::settings::Missing,
+    /// Columns read by the filters (first, then second), which must have values too.
+    lens_columns: Vec<String>,
     /// Derived columns change the values behind their names.
     derived: Vec<crate::settings::Derived>,
 }
@@ -39,11 +44,15 @@ impl PointsKey {
         PointsKey {
             columns: s.columns.clone(),
             scaling: s.scaling,
-            fill_values: s.missing.fill_values.clone(),
-            lens_column: match &s.lens {
-                Lens::Column { column } => Some(column.clone()),
-                _ => None,
-            },
+            missing: s.missing.clone(),
+            lens_columns: [Some(&s.lens), s.lens2.as_ref()]
+                .into_iter()
+                .flatten()
+                .filter_map(|l| match l {
+                    Lens::Column { column } => Some(column.clone()),
+                    _ => None,
+                })
+                .collect(),
             derived: s.derived.clone(),
         }
     }
@@ -62,21 +71,26 @@ pub fn build_points(table: &Table, s: &Settings) -> Result<Points> {
             return Err(Error::settings("columns", format!("column '{c}' is listed twice")));
         }
     }
-    let cols: Vec<&[f64]> = key.columns.iter().map(|c| table.numbers(c, "columns")).collect::<Result<_>>()?;
-    let lens_col = match &key.lens_column {
-        Some(c) => Some(table.numbers(c, "lens.column")?),
-        None => None,
-    };
-    let fills = &key.fill_values;
+    let view = |c: &str, field: &str| -> Result<ColumnValues<'_>> { Ok(ColumnValues::new(c, table.numbers(c, field)?, &s.missing)) };
+    let cols: Vec<ColumnValues> = key.columns.iter().map(|c| view(c, "columns")).collect::<Result<_>>()?;
+    let lens_fields = if matches!(s.lens, Lens::Column { .. }) { ["lens.column", "lens2.column"] } else { ["lens2.column", "lens2.column"] };
+    let lens_cols: Vec<ColumnValues> = key.lens_columns.iter().zip(lens_fields).map(|(c, f)| view(c, f)).collect::<Result<_>>()?;
     let n = table.n_rows;
     let d = cols.len();
 
     let mut keep = vec![true; n];
     let mut by_column = Vec::new();
-    for (name, col) in key.columns.iter().zip(&cols).chain(key.lens_column.iter().zip(lens_col.iter())) {
+    let mut filled_cols = Vec::new();
+    for (name, col) in key.columns.iter().zip(&cols).chain(key.lens_columns.iter().zip(&lens_cols)) {
+        if col.fill_with.is_some() {
+            if !filled_cols.iter().any(|(c, _): &(&String, &ColumnValues)| *c == name) {
+                filled_cols.push((name, col));
+            }
+            continue;
+        }
         let mut count = 0;
-        for (k, &x) in keep.iter_mut().zip(col.iter()) {
-            if is_missing(x, fills) {
+        for (r, k) in keep.iter_mut().enumerate() {
+            if col.is_missing(r) {
                 *k = false;
                 count += 1;
             }
@@ -86,6 +100,11 @@ pub fn build_points(table: &Table, s: &Settings) -> Result<Points> {
         }
     }
     let rows: Vec<u32> = (0..n as u32).filter(|&i| keep[i as usize]).collect();
+    let filled_by_column: Vec<(String, usize)> = filled_cols
+        .iter()
+        .map(|(name, col)| ((*name).clone(), rows.iter().filter(|&&r| col.is_missing(r as usize)).count()))
+        .filter(|(_, k)| *k > 0)
+        .collect();
     if rows.is_empty() {
         let worst = by_column.iter().max_by_key(|(_, c)| *c).map(|(c, k)| format!(" ('{c}' is missing in {k} rows)")).unwrap_or_default();
         return Err(Error::Data(format!(
@@ -94,25 +113,28 @@ pub fn build_points(table: &Table, s: &Settings) -> Result<Points> {
     }
     let m = rows.len();
     let mut data = Array2::<f64>::zeros((m, d));
+    let mut values = Vec::with_capacity(m);
     for (j, col) in cols.iter().enumerate() {
-        let (shift, scale) = scaling_of(col, &rows, s.scaling).map_err(|why| {
+        values.clear();
+        values.extend(rows.iter().map(|&r| col.get(r as usize).expect("kept rows have a value or a fill")));
+        let (shift, scale) = scaling_of(&values, s.scaling).map_err(|why| {
             Error::Data(format!("column '{}' {why}; leave it out or choose scaling 'none'", key.columns[j]))
         })?;
-        for (i, &r) in rows.iter().enumerate() {
-            data[[i, j]] = (col[r as usize] - shift) / scale;
+        for (i, &x) in values.iter().enumerate() {
+            data[[i, j]] = (x - shift) / scale;
         }
     }
-    Ok(Points { data, rows, columns: key.columns, left_out: n - m, left_out_by_column: by_column })
+    Ok(Points { data, rows, columns: key.columns, left_out: n - m, left_out_by_column: by_column, filled_by_column })
 }
 
-/// (shift, scale) so that (x - shift) / scale is the scaled value.
-fn scaling_of(col: &[f64], rows: &[u32], scaling: Scaling) -> std::result::Result<(f64, f64), &'static str> {
-    let m = rows.len() as f64;
+/// (shift, scale) so that (x - shift) / scale is the scaled value, from the used values.
+fn scaling_of(values: &[f64], scaling: Scaling) -> std::result::Result<(f64, f64), &'static str> {
+    let m = values.len() as f64;
     match scaling {
         Scaling::None => Ok((0.0, 1.0)),
         Scaling::Zscore => {
-            let mean = rows.iter().map(|&r| col[r as usize]).sum::<f64>() / m;
-            let var = rows.iter().map(|&r| (col[r as usize] - mean).powi(2)).sum::<f64>() / m;
+            let mean = values.iter().sum::<f64>() / m;
+            let var = values.iter().map(|&x| (x - mean).powi(2)).sum::<f64>() / m;
             let sd = var.sqrt();
             if !(sd > 0.0) || !sd.is_finite() {
                 return Err("has the same value in every used row, so z-score cannot scale it");
@@ -120,10 +142,7 @@ fn scaling_of(col: &[f64], rows: &[u32], scaling: Scaling) -> std::result::Resul
             Ok((mean, sd))
         }
         Scaling::MinMax => {
-            let (lo, hi) = rows.iter().fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), &r| {
-                let x = col[r as usize];
-                (lo.min(x), hi.max(x))
-            });
+            let (lo, hi) = values.iter().fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), &x| (lo.min(x), hi.max(x)));
             if !(hi > lo) || !(hi - lo).is_finite() {
                 return Err("has the same value in every used row, so min-max cannot scale it");
             }
@@ -143,13 +162,15 @@ mod tests {
             version: 1,
             columns: cols.iter().map(|s| s.to_string()).collect(),
             scaling,
-            missing: Missing { fill_values: vec![-9999.0] },
+            missing: Missing { fill_values: vec![-9999.0], ..Default::default() },
             lens: Lens::Principal { component: 1 },
-            cover: CoverSettings { intervals: 4, overlap: 0.25 },
+            cover: CoverSettings::uniform(4, 0.25),
             clustering: Clustering::Dbscan { eps: 1.0, min_points: 2 },
             edges: EdgeRule::default(),
             seed: 1,
             derived: Vec::new(),
+            lens2: None,
+            cover2: None,
         }
     }
 
@@ -208,5 +229,23 @@ mod tests {
         s.lens = Lens::Column { column: "a".into() };
         let p = build_points(&table(), &s).unwrap();
         assert_eq!(p.rows, vec![0, 3, 4]);
+    }
+
+    #[test]
+    fn median_policy_fills_and_counts_per_column() {
+        // Column a (NaN at row 2) filled with the median of 1, 2, 4, 5 = 3 (NumPy's median,
+        // by hand); column b keeps the global rule, so row 1 (-9999) is still left out.
+        let mut s = settings(&["a", "b"], Scaling::None);
+        s.missing.per_column.insert("a".into(), ColumnMissing { fill_values: None, policy: MissingPolicy::Median });
+        let p = build_points(&table(), &s).unwrap();
+        assert_eq!(p.rows, vec![0, 2, 3, 4]);
+        assert_eq!(p.data[[1, 0]], 3.0);
+        assert_eq!(p.filled_by_column, vec![("a".to_string(), 1)]);
+        assert_eq!(p.left_out_by_column, vec![("b".to_string(), 1)]);
+        // A per-column fill list replaces the global one: for b, -9999 becomes a value.
+        s.missing.per_column.insert("b".into(), ColumnMissing { fill_values: Some(vec![50.0]), policy: MissingPolicy::LeaveOut });
+        let p = build_points(&table(), &s).unwrap();
+        assert_eq!(p.rows, vec![0, 1, 2, 3]);
+        assert_eq!(p.data[[1, 1]], -9999.0);
     }
 }

@@ -32,7 +32,20 @@ pub struct Settings {
     /// Numeric columns computed from others, in order; usable wherever a file column is.
     #[serde(default)]
     pub derived: Vec<Derived>,
+    /// A second filter: with it the cover is the product of `cover` over `lens` and
+    /// `cover2` over `lens2`, a 2-D grid of overlapping cells (see [`crate::cover`]).
+    /// Absent (the default) means one filter. The layout and [`crate::engine::Build::node_lens`]
+    /// still read the first filter.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub lens2: Option<Lens>,
+    /// The second filter's 1-D cover; absent means the same as `cover`. Refused without `lens2`.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub cover2: Option<CoverSettings>,
 }
+
+/// Most cells a product cover may have (intervals × intervals2), so that an unlucky
+/// setting cannot ask for millions of empty elements.
+pub const MAX_CELLS: usize = 250_000;
 
 /// A derived column: `expression` over column names (see [`crate::derive`]).
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
@@ -59,11 +72,56 @@ pub enum Scaling {
 
 /// Numeric sentinels that mean "no value" (for example -9999, common practice in field
 /// data). Applied after reading, so changing them never re-reads the file.
+///
+/// JSON: `{"fillValues": [-9999], "perColumn": {"depth": {"fillValues": [0], "policy": "median"}}}`.
+/// A column listed in `perColumn` uses its own `fillValues` instead of the global list
+/// (absent: the global list) and its own `policy` (absent: `"leaveOut"`). Per-column
+/// entries apply to the points (coordinates and filter columns) and to node statistics;
+/// derived-column inputs, column summaries and the contrast ranking read the global list.
 #[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
 #[serde(rename_all = "camelCase", deny_unknown_fields)]
 pub struct Missing {
     #[serde(default)]
     pub fill_values: Vec<f64>,
+    #[serde(default, skip_serializing_if = "std::collections::BTreeMap::is_empty")]
+    pub per_column: std::collections::BTreeMap<String, ColumnMissing>,
+}
+
+/// One column's missing-value rule (see [`Missing`]).
+#[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
+#[serde(rename_all = "camelCase", deny_unknown_fields)]
+pub struct ColumnMissing {
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub fill_values: Option<Vec<f64>>,
+    #[serde(default)]
+    pub policy: MissingPolicy,
+}
+
+/// What happens to a row with no value in a column.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Serialize, Deserialize)]
+#[serde(rename_all = "camelCase")]
+pub enum MissingPolicy {
+    /// The row takes no part, and is counted in `Summary.leftOutByColumn`.
+    #[default]
+    LeaveOut,
+    /// The row takes the column's median over the table rows that have a value there
+    /// (NumPy's `median`: the mean of the two middle values for an even count), and is
+    /// counted in `Summary.filledByColumn`.
+    Median,
+}
+
+impl Missing {
+    /// The values that mean "no value" in `column`.
+    pub fn fills_for(&self, column: &str) -> &[f64] {
+        match self.per_column.get(column).and_then(|c| c.fill_values.as_ref()) {
+            Some(v) => v,
+            None => &self.fill_values,
+        }
+    }
+
+    pub fn policy_for(&self, column: &str) -> MissingPolicy {
+        self.per_column.get(column).map_or(MissingPolicy::LeaveOut, |c| c.policy)
+    }
 }
 
 /// The filter (lens) function.
@@ -86,6 +144,15 @@ pub enum Lens {
         #[serde(default)]
         norm: Spread,
     },
+    /// Distance to the empirical measure (Chazal, Cohen-Steiner, Mérigot 2011) with mass
+    /// parameter m = k / n: the root mean square distance to the point's `k` nearest
+    /// points, itself included (see [`crate::filter::knn`]).
+    DistanceToMeasure { k: usize },
+    /// Distance to the point's `k`-th nearest point, itself counted first (k = 1 gives 0).
+    NeighbourDistance { k: usize },
+    /// The largest distance to any point. This is eccentricity with p = infinity (Singh,
+    /// Mémoli, Carlsson 2007), computed by the same code, under its usual name.
+    LInfinityCentrality,
 }
 
 /// Which mean of the distances to all other points eccentricity takes
@@ -102,7 +169,8 @@ pub enum Spread {
     Max,
 }
 
-/// The uniform interval cover of the lens's range (Singh, Mémoli, Carlsson 2007).
+/// An interval cover of the lens's values: uniform (Singh, Mémoli, Carlsson 2007) or
+/// balanced (equal numbers of rows); both are defined in [`crate::cover`].
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 #[serde(rename_all = "camelCase", deny_unknown_fields)]
 pub struct CoverSettings {
@@ -110,6 +178,26 @@ pub struct CoverSettings {
     pub intervals: usize,
     /// Fraction of an interval's length shared with the next one, in [0, 1).
     pub overlap: f64,
+    /// `"uniform"` (the default) or `"balanced"`.
+    #[serde(default)]
+    pub kind: CoverKind,
+}
+
+impl CoverSettings {
+    /// A uniform cover with `intervals` intervals and overlap fraction `overlap`.
+    pub fn uniform(intervals: usize, overlap: f64) -> Self {
+        CoverSettings { intervals, overlap, kind: CoverKind::Uniform }
+    }
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Serialize, Deserialize)]
+#[serde(rename_all = "camelCase")]
+pub enum CoverKind {
+    /// Intervals of equal length over the lens's range.
+    #[default]
+    Uniform,
+    /// Intervals holding equal numbers of rows: quantile edges.
+    Balanced,
 }
 
 /// How rows inside one cover element are split into clusters.
@@ -170,24 +258,25 @@ impl Settings {
         if self.columns.is_empty() {
             return Err(Error::settings("columns", "choose at least one numeric column"));
         }
-        if self.cover.intervals == 0 {
-            return Err(Error::settings("cover.intervals", "must be at least 1"));
-        }
-        if self.cover.intervals > 10_000 {
-            return Err(Error::settings("cover.intervals", "at most 10000"));
-        }
-        let g = self.cover.overlap;
-        if !(0.0..1.0).contains(&g) || g.is_nan() {
-            return Err(Error::settings("cover.overlap", format!("{g} is outside [0, 1)")));
-        }
-        match &self.lens {
-            Lens::Principal { component } if *component == 0 => {
-                return Err(Error::settings("lens.component", "components are counted from 1"))
+        check_cover(&self.cover, "cover")?;
+        check_lens(&self.lens, "lens")?;
+        match (&self.lens2, &self.cover2) {
+            (None, Some(_)) => {
+                return Err(Error::settings("cover2", "a second cover needs a second filter: set lens2 or remove cover2"))
             }
-            Lens::Density { bandwidth: Some(b) } if !(*b > 0.0) || !b.is_finite() => {
-                return Err(Error::settings("lens.bandwidth", format!("{b} must be a positive number")))
+            (Some(l2), c2) => {
+                check_lens(l2, "lens2")?;
+                let c2 = c2.as_ref().unwrap_or(&self.cover);
+                check_cover(c2, "cover2")?;
+                let cells = self.cover.intervals.saturating_mul(c2.intervals);
+                if cells > MAX_CELLS {
+                    return Err(Error::settings(
+                        "cover2.intervals",
+                        format!("{} × {} = {cells} cells; at most {MAX_CELLS}: use fewer intervals on one filter", self.cover.intervals, c2.intervals),
+                    ));
+                }
             }
-            _ => {}
+            (None, None) => {}
         }
         match &self.clustering {
             Clustering::Dbscan { eps, min_points } => {
@@ -210,8 +299,45 @@ impl Settings {
         if self.missing.fill_values.iter().any(|v| v.is_nan()) {
             return Err(Error::settings("missing.fillValues", "NaN is always missing; list numbers only"));
         }
+        for (col, m) in &self.missing.per_column {
+            if m.fill_values.as_ref().is_some_and(|v| v.iter().any(|x| x.is_nan())) {
+                return Err(Error::settings(
+                    format!("missing.perColumn.{col}.fillValues"),
+                    "NaN is always missing; list numbers only",
+                ));
+            }
+        }
         crate::derive::validate(&self.derived)?;
         Ok(())
+    }
+}
+
+fn check_cover(c: &CoverSettings, field: &str) -> Result<()> {
+    if c.intervals == 0 {
+        return Err(Error::settings(format!("{field}.intervals"), "must be at least 1"));
+    }
+    if c.intervals > 10_000 {
+        return Err(Error::settings(format!("{field}.intervals"), "at most 10000"));
+    }
+    let g = c.overlap;
+    if !(0.0..1.0).contains(&g) || g.is_nan() {
+        return Err(Error::settings(format!("{field}.overlap"), format!("{g} is outside [0, 1)")));
+    }
+    Ok(())
+}
+
+fn check_lens(l: &Lens, field: &str) -> Result<()> {
+    match l {
+        Lens::Principal { component } if *component == 0 => {
+            Err(Error::settings(format!("{field}.component"), "components are counted from 1"))
+        }
+        Lens::Density { bandwidth: Some(b) } if !(*b > 0.0) || !b.is_finite() => {
+            Err(Error::settings(format!("{field}.bandwidth"), format!("{b} must be a positive number")))
+        }
+        Lens::DistanceToMeasure { k } | Lens::NeighbourDistance { k } if *k == 0 => {
+            Err(Error::settings(format!("{field}.k"), "must be at least 1 (the point itself counts as its first neighbour)"))
+        }
+        _ => Ok(()),
     }
 }
 
@@ -224,13 +350,15 @@ mod tests {
             version: 1,
             columns: vec!["a".into(), "b".into()],
             scaling: Scaling::Zscore,
-            missing: Missing { fill_values: vec![-9999.0] },
+            missing: Missing { fill_values: vec![-9999.0], ..Default::default() },
             lens: Lens::Principal { component: 1 },
-            cover: CoverSettings { intervals: 10, overlap: 0.3 },
+            cover: CoverSettings::uniform(10, 0.3),
             clustering: Clustering::Dbscan { eps: 0.5, min_points: 5 },
             edges: EdgeRule { min_shared: 1 },
             seed: 1,
             derived: vec![Derived { name: "ratio".into(), expression: "a / b".into() }],
+            lens2: None,
+            cover2: None,
         }
     }
 
@@ -295,5 +423,62 @@ mod tests {
         let mut v: serde_json::Value = serde_json::from_str(&sample().to_json()).unwrap();
         v["derived"][0]["formula"] = serde_json::json!("a");
         assert!(Settings::from_value(v).unwrap_err().to_string().contains("formula"));
+    }
+
+    #[test]
+    fn new_fields_round_trip_and_default() {
+        let mut s = sample();
+        s.lens = Lens::DistanceToMeasure { k: 12 };
+        s.lens2 = Some(Lens::LInfinityCentrality);
+        s.cover2 = Some(CoverSettings { intervals: 4, overlap: 0.2, kind: CoverKind::Balanced });
+        s.missing.per_column.insert("b".into(), ColumnMissing { fill_values: Some(vec![0.0]), policy: MissingPolicy::Median });
+        let text = s.to_json();
+        assert!(text.contains("\"kind\": \"distanceToMeasure\"") && text.contains("\"kind\": \"lInfinityCentrality\""), "{text}");
+        assert!(text.contains("\"perColumn\"") && text.contains("\"policy\": \"median\"") && text.contains("\"kind\": \"balanced\""), "{text}");
+        assert_eq!(Settings::from_json(&text).unwrap(), s);
+        // Documents written before these fields existed still read, with the defaults.
+        let old = r#"{"version":1,"columns":["a"],"scaling":"none","lens":{"kind":"neighbourDistance","k":3},
+            "missing":{"fillValues":[-1],"perColumn":{"a":{}}},
+            "cover":{"intervals":3,"overlap":0.2},"clustering":{"kind":"singleLinkage","gapBins":8}}"#;
+        let t = Settings::from_json(old).unwrap();
+        assert_eq!(t.cover.kind, CoverKind::Uniform);
+        assert_eq!((t.lens2.clone(), t.cover2.clone()), (None, None));
+        assert_eq!(t.missing.policy_for("a"), MissingPolicy::LeaveOut);
+        assert_eq!(t.missing.fills_for("a"), &[-1.0]);
+        // One filter writes no lens2 / cover2 / perColumn fields at all.
+        assert!(!sample().to_json().contains("lens2") && !sample().to_json().contains("perColumn"));
+    }
+
+    #[test]
+    fn new_fields_are_checked_naming_the_field() {
+        let err = |s: &Settings| s.validate().unwrap_err().to_string();
+        let mut s = sample();
+        s.lens = Lens::NeighbourDistance { k: 0 };
+        assert!(err(&s).contains("'lens.k'"), "{}", err(&s));
+        let mut s = sample();
+        s.lens2 = Some(Lens::DistanceToMeasure { k: 0 });
+        assert!(err(&s).contains("'lens2.k'"), "{}", err(&s));
+        let mut s = sample();
+        s.cover2 = Some(CoverSettings::uniform(3, 0.1));
+        assert!(err(&s).contains("'cover2'") && err(&s).contains("lens2"), "{}", err(&s));
+        let mut s = sample();
+        s.lens2 = Some(Lens::Principal { component: 2 });
+        s.cover2 = Some(CoverSettings::uniform(3, 1.5));
+        assert!(err(&s).contains("'cover2.overlap'"), "{}", err(&s));
+        s.cover2 = Some(CoverSettings::uniform(1000, 0.1));
+        s.cover.intervals = 1000;
+        assert!(err(&s).contains("'cover2.intervals'") && err(&s).contains("1000000 cells"), "{}", err(&s));
+        s.cover2 = None;
+        s.cover.intervals = 10;
+        assert!(s.validate().is_ok(), "cover2 absent means the same as cover");
+        let mut s = sample();
+        s.missing.per_column.insert("b".into(), ColumnMissing { fill_values: Some(vec![f64::NAN]), policy: MissingPolicy::LeaveOut });
+        assert!(err(&s).contains("'missing.perColumn.b.fillValues'"), "{}", err(&s));
+        let mut v: serde_json::Value = serde_json::from_str(&sample().to_json()).unwrap();
+        v["cover"]["kind"] = serde_json::json!("quantile");
+        assert!(Settings::from_value(v).unwrap_err().to_string().contains("quantile"));
+        let mut v: serde_json::Value = serde_json::from_str(&sample().to_json()).unwrap();
+        v["missing"]["perColumn"] = serde_json::json!({"b": {"policy": "mean"}});
+        assert!(Settings::from_value(v).unwrap_err().to_string().contains("mean"));
     }
 }

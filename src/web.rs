@@ -198,17 +198,114 @@ impl Engine {
         out.into()
     }
 
-    /// One value per node of the last graph: `stat` (e.g. "mean") of `column` over its rows.
-    pub fn node_values(&self, column: &str, stat: &str) -> Result<Float64Array, JsValue> {
-        let stat: NodeStat = serde_json::from_value(serde_json::Value::String(stat.to_string()))
-            .map_err(|_| fail(format!("unknown node statistic '{stat}'")))?;
+    /// One value per node of the last graph: `stat` of `column` over its rows. `stat` is
+    /// a string ("mean", "median", "spread") or an object such as
+    /// `{kind: "shareAbove", threshold: 2.5}` (see [`NodeStat`]).
+    pub fn node_values(&self, column: &str, stat: &JsValue) -> Result<Float64Array, JsValue> {
+        let text: String = js_sys::JSON::stringify(stat).map_err(|_| fail("setting 'stat': cannot be written as JSON"))?.into();
+        let value: serde_json::Value = serde_json::from_str(&text).map_err(fail)?;
+        let stat = NodeStat::from_json(&value).map_err(fail)?;
         let values = self.bench.node_values(column, stat).map_err(fail)?;
         Ok(Float64Array::from(&values[..]))
+    }
+
+    /// Each node's mean lens value: `axis` 0 (or absent) for `lens`, 1 for `lens2`.
+    pub fn node_lens_values(&self, axis: Option<u32>) -> Result<Float64Array, JsValue> {
+        let values = self.bench.node_lens_values(axis.unwrap_or(0) as usize).map_err(fail)?;
+        Ok(Float64Array::from(&values[..]))
+    }
+
+    /// The lens histogram with the cover's intervals: `{edges, counts, intervals: [[a, b, rows]]}`
+    /// for `lens` (`axis` 0 or absent) or `lens2` (1).
+    pub fn lens_histogram(&self, bins: u32, axis: Option<u32>) -> Result<JsValue, JsValue> {
+        to_js(&self.bench.lens_histogram(bins as usize, axis.unwrap_or(0) as usize).map_err(fail)?)
     }
 
     /// Size, cover element, per-column statistics and first member rows of one node.
     pub fn node_detail(&self, node: usize) -> Result<JsValue, JsValue> {
         to_js(&self.bench.node_detail(node).map_err(fail)?)
+    }
+
+    /// Members of every node of the last graph, as CSR typed arrays: node `i` holds table
+    /// rows `rows[offsets[i] .. offsets[i + 1]]` (0-based, increasing). `null` before a run.
+    pub fn memberships(&self) -> JsValue {
+        let Some(build) = self.bench.last() else { return JsValue::NULL };
+        let mut offsets: Vec<u32> = Vec::with_capacity(build.nerve.nodes.len() + 1);
+        let mut rows: Vec<u32> = Vec::new();
+        offsets.push(0);
+        for n in &build.nerve.nodes {
+            rows.extend_from_slice(&n.members);
+            offsets.push(rows.len() as u32);
+        }
+        let out = Object::new();
+        set(&out, "offsets", &Uint32Array::from(&offsets[..]).into());
+        set(&out, "rows", &Uint32Array::from(&rows[..]).into());
+        out.into()
+    }
+
+    /// Columns ranked by how much the rows of `nodes` differ from the rest.
+    pub fn explain(&mut self, nodes: &[u32]) -> Result<JsValue, JsValue> {
+        let nodes: Vec<usize> = nodes.iter().map(|&n| n as usize).collect();
+        to_js(&self.bench.explain(&nodes).map_err(fail)?)
+    }
+
+    /// The union of the rows of `nodes` (0-based table rows, increasing).
+    pub fn rows_of(&self, nodes: &[u32]) -> Result<Uint32Array, JsValue> {
+        let nodes: Vec<usize> = nodes.iter().map(|&n| n as usize).collect();
+        Ok(Uint32Array::from(&self.bench.rows_of(&nodes).map_err(fail)?[..]))
+    }
+
+    /// Cells of table rows `rows` for `columns` (every column when empty):
+    /// `{columns, dataRows, cells}`.
+    pub fn row_values(&self, rows: &[u32], columns: JsValue) -> Result<JsValue, JsValue> {
+        let columns: Vec<String> = if columns.is_undefined() || columns.is_null() {
+            Vec::new()
+        } else {
+            serde_wasm_bindgen::from_value(columns).map_err(|e| fail(format!("internal: columns must be a list of names: {e}")))?
+        };
+        to_js(&self.bench.row_values(rows, &columns).map_err(fail)?)
+    }
+
+    /// What the derived columns of the last run found: `[{name, missing, undefined}]`.
+    pub fn derived_info(&self) -> Result<JsValue, JsValue> {
+        to_js(self.bench.derived_info())
+    }
+
+    /// A sample of at most `limit` rows with two values each: `x`, `y` column names, or
+    /// both empty for principal components 1 and 2. `{rows, x, y, total, xLabel, yLabel}`
+    /// with typed arrays.
+    pub fn scatter(&self, x: &str, y: &str, limit: usize) -> Result<JsValue, JsValue> {
+        let axes = if x.is_empty() && y.is_empty() {
+            crate::scatter::Axes::Principal
+        } else {
+            crate::scatter::Axes::Columns(x.to_string(), y.to_string())
+        };
+        let d = self.bench.scatter(&axes, limit).map_err(fail)?;
+        let out = Object::new();
+        set(&out, "rows", &Uint32Array::from(&d.rows[..]).into());
+        set(&out, "x", &Float64Array::from(&d.x[..]).into());
+        set(&out, "y", &Float64Array::from(&d.y[..]).into());
+        set(&out, "total", &JsValue::from_f64(d.total as f64));
+        set(&out, "xLabel", &JsValue::from_str(&d.x_label));
+        set(&out, "yLabel", &JsValue::from_str(&d.y_label));
+        Ok(out.into())
+    }
+
+    /// The last graph as text in one of the export formats: "json", "graphml" (with the
+    /// colour column's node values when `colour_column` is not empty), "memberships",
+    /// "report" (naming `file_name`).
+    pub fn export(&self, format: &str, colour_column: &str, file_name: &str) -> Result<String, JsValue> {
+        let build = self.bench.last().ok_or_else(|| fail("no graph has been built yet"))?;
+        match format {
+            "json" => Ok(crate::export::graph_json(build)),
+            "graphml" => {
+                let values = if colour_column.is_empty() { None } else { Some(self.bench.node_values(colour_column, NodeStat::Mean).map_err(fail)?) };
+                Ok(crate::export::graphml(build, values.as_deref().map(|v| (colour_column, v))))
+            }
+            "memberships" => Ok(crate::export::memberships_csv(build)),
+            "report" => Ok(crate::export::report(build, file_name)),
+            other => Err(fail(format!("internal: unknown export format '{other}'"))),
+        }
     }
 }
 

@@ -254,13 +254,15 @@ fn settings(lens: &str) -> Settings {
         version: 1,
         columns: vec!["x".into(), "y".into()],
         scaling: Scaling::Zscore,
-        missing: Missing { fill_values: vec![-9999.0] },
+        missing: Missing { fill_values: vec![-9999.0], ..Default::default() },
         lens: Lens::Column { column: lens.into() },
-        cover: CoverSettings { intervals: 6, overlap: 0.3 },
+        cover: CoverSettings::uniform(6, 0.3),
         clustering: Clustering::Dbscan { eps: 0.6, min_points: 3 },
         edges: EdgeRule::default(),
         seed: 1,
         derived: Vec::new(),
+        lens2: None,
+        cover2: None,
     }
 }
 

@@ -127,11 +127,13 @@ fn settings() -> Settings {
         scaling: Scaling::None,
         missing: Missing::default(),
         lens: Lens::Column { column: "x".into() },
-        cover: CoverSettings { intervals: 3, overlap: 0.0 },
+        cover: CoverSettings::uniform(3, 0.0),
         clustering: Clustering::Dbscan { eps: 1.5, min_points: 1 },
         edges: EdgeRule::default(),
         seed: 1,
         derived: Vec::new(),
+        lens2: None,
+        cover2: None,
     }
 }
 

@@ -4,7 +4,10 @@
 //! - an edge exists exactly when two nodes share at least `minShared` rows;
 //! - the graph does not depend on the order of the rows (up to relabelling);
 //! - for rotation-invariant filters, rotating and translating the points leaves the
-//!   graph unchanged (distances are unchanged; a fact of the trade).
+//!   graph unchanged (distances are unchanged; a fact of the trade);
+//! - the same for the balanced cover and the 2-D product cover: each node lies inside its
+//!   element, the nodes of an element are exactly its clusters (all its rows when no row
+//!   can be noise), and edges are exactly where rows are shared.
 
 use std::collections::BTreeSet;
 
@@ -32,11 +35,13 @@ fn settings(d: usize, lens: Lens, clustering: Clustering) -> Settings {
         scaling: Scaling::None,
         missing: Missing::default(),
         lens,
-        cover: CoverSettings { intervals: 8, overlap: 0.4 },
+        cover: CoverSettings::uniform(8, 0.4),
         clustering,
         edges: EdgeRule { min_shared: 1 },
         seed: 1,
         derived: Vec::new(),
+        lens2: None,
+        cover2: None,
     }
 }
 
@@ -139,4 +144,107 @@ fn graph_is_unchanged_by_rotation_and_translation_for_eccentricity() {
         let b = build(&table_of(&moved), &s).unwrap();
         assert_eq!(canonical(&a, &|r| r), canonical(&b, &|r| r), "{norm:?}");
     }
+    // The neighbour filters read distances only, so they are rotation invariant too.
+    for lens in [Lens::DistanceToMeasure { k: 10 }, Lens::NeighbourDistance { k: 6 }, Lens::LInfinityCentrality] {
+        let mut s = settings(d, lens.clone(), Clustering::SingleLinkage { gap_bins: 10 });
+        s.cover.kind = CoverKind::Balanced;
+        let a = build(&table_of(&rows), &s).unwrap();
+        let b = build(&table_of(&moved), &s).unwrap();
+        assert_eq!(canonical(&a, &|r| r), canonical(&b, &|r| r), "{lens:?}");
+        assert!(a.summary.nodes >= 8, "{lens:?}");
+    }
+}
+
+/// The nodes of every element, checked against a cover recomputed here from the lens
+/// columns (column lenses, so the lens values are the raw columns): nodes of element e are
+/// disjoint subsets of e's rows, and with `no_noise` (single linkage, or DBSCAN with
+/// minPoints 1: every point is a core point) their union is all of e's rows.
+fn check_elements(b: &Build, t: &Table, no_noise: bool) {
+    let s = &b.settings;
+    let col = |l: &Lens| match l {
+        Lens::Column { column } => t.numbers(column, "lens").unwrap().to_vec(),
+        _ => panic!("column lenses only"),
+    };
+    let v1 = col(&s.lens);
+    let v2 = s.lens2.as_ref().map(col);
+    let c2 = s.cover2.clone().unwrap_or(s.cover.clone());
+    let cov = nervure::cover::build(&v1, &s.cover, v2.as_deref().map(|v| (v, &c2)));
+    assert_eq!(b.intervals, cov.intervals);
+    let mut by_element: Vec<Vec<u32>> = vec![Vec::new(); cov.elements.len()];
+    for n in &b.nerve.nodes {
+        assert!(n.element < cov.elements.len());
+        for &r in &n.members {
+            assert!(cov.elements[n.element].binary_search(&r).is_ok(), "row {r} outside element {}", n.element);
+        }
+        by_element[n.element].extend_from_slice(&n.members);
+    }
+    for (e, mut got) in by_element.into_iter().enumerate() {
+        got.sort_unstable();
+        let before = got.len();
+        got.dedup();
+        assert_eq!(got.len(), before, "nodes of element {e} overlap");
+        if no_noise {
+            assert_eq!(got, cov.elements[e], "element {e}: every row lands in a node");
+        }
+    }
+    // Edges exactly where rows are shared (minShared as set).
+    for (i, a) in b.nerve.nodes.iter().enumerate() {
+        for (j, c) in b.nerve.nodes.iter().enumerate().skip(i + 1) {
+            let shared = a.members.iter().filter(|r| c.members.binary_search(r).is_ok()).count();
+            let edge = b.nerve.edges.iter().find(|e| (e.a as usize, e.b as usize) == (i, j));
+            assert_eq!(edge.map(|e| e.shared as usize), (shared >= s.edges.min_shared).then_some(shared), "nodes {i} {j}");
+        }
+    }
+    let in_nodes: BTreeSet<u32> = b.nerve.nodes.iter().flat_map(|n| n.members.iter().copied()).collect();
+    assert_eq!(in_nodes.len() + b.summary.noise_rows, b.summary.rows);
+}
+
+#[test]
+fn balanced_and_product_covers_keep_the_invariants() {
+    let rows = blobs(600, 3, 21);
+    let t = table_of(&rows);
+    let balanced = CoverSettings { intervals: 7, overlap: 0.35, kind: CoverKind::Balanced };
+    for (clustering, no_noise) in [
+        (Clustering::SingleLinkage { gap_bins: 10 }, true),
+        (Clustering::Dbscan { eps: 0.9, min_points: 1 }, true),
+        (Clustering::Dbscan { eps: 0.8, min_points: 5 }, false),
+    ] {
+        for min_shared in [1, 2] {
+            // Balanced 1-D.
+            let mut s = settings(3, Lens::Column { column: "x0".into() }, clustering.clone());
+            s.cover = balanced.clone();
+            s.edges.min_shared = min_shared;
+            let b = build(&t, &s).unwrap();
+            assert!(b.summary.nodes >= 7);
+            check_elements(&b, &t, no_noise);
+            // Product of a uniform cover of x0 and a balanced cover of x1.
+            let mut s2 = settings(3, Lens::Column { column: "x0".into() }, clustering.clone());
+            s2.cover = CoverSettings::uniform(5, 0.3);
+            s2.lens2 = Some(Lens::Column { column: "x1".into() });
+            s2.cover2 = Some(CoverSettings { intervals: 4, overlap: 0.25, kind: CoverKind::Balanced });
+            s2.edges.min_shared = min_shared;
+            let b2 = build(&t, &s2).unwrap();
+            assert_eq!(b2.second.as_ref().unwrap().intervals.len(), 4);
+            assert!(b2.nerve.nodes.iter().any(|n| n.element >= 5), "cells beyond the first row are used");
+            check_elements(&b2, &t, no_noise);
+        }
+    }
+}
+
+#[test]
+fn balanced_and_product_covers_do_not_depend_on_row_order() {
+    let rows = blobs(400, 3, 30);
+    let mut perm: Vec<usize> = (0..rows.len()).collect();
+    let mut r = SplitMix64::new(7);
+    for i in (1..perm.len()).rev() {
+        perm.swap(i, r.below(i + 1));
+    }
+    let shuffled: Vec<Vec<f64>> = perm.iter().map(|&i| rows[i].clone()).collect();
+    let mut s = settings(3, Lens::Column { column: "x0".into() }, Clustering::SingleLinkage { gap_bins: 10 });
+    s.cover = CoverSettings { intervals: 6, overlap: 0.3, kind: CoverKind::Balanced };
+    s.lens2 = Some(Lens::Column { column: "x2".into() });
+    let a = build(&table_of(&rows), &s).unwrap();
+    let b = build(&table_of(&shuffled), &s).unwrap();
+    assert_eq!(canonical(&a, &|r| r), canonical(&b, &|r| perm[r as usize] as u32));
+    assert!(a.summary.nodes > 6);
 }

@@ -72,11 +72,13 @@ fn settings(columns: &[String], lens: Lens, intervals: usize, overlap: f64, clus
         scaling: Scaling::Zscore,
         missing: Missing::default(),
         lens,
-        cover: CoverSettings { intervals, overlap },
+        cover: CoverSettings::uniform(intervals, overlap),
         clustering,
         edges: EdgeRule { min_shared: 1 },
         seed: 1,
         derived: Vec::new(),
+        lens2: None,
+        cover2: None,
     };
     s.validate().expect("test settings are valid");
     s

@@ -296,8 +296,10 @@ fn settings() -> Settings {
         scaling: Scaling::None,
         missing: Missing::default(),
         derived: Vec::new(),
+        lens2: None,
+        cover2: None,
         lens: Lens::Column { column: "x".into() },
-        cover: CoverSettings { intervals: 6, overlap: 0.3 },
+        cover: CoverSettings::uniform(6, 0.3),
         clustering: Clustering::Dbscan { eps: 0.35, min_points: 3 },
         edges: EdgeRule { min_shared: 1 },
         seed: 1,
@@ -412,7 +414,7 @@ fn sweep_cells_match_single_builds() {
     assert_eq!(cells.len(), 6);
     for c in &cells {
         let mut s = settings();
-        s.cover = CoverSettings { intervals: c.intervals, overlap: c.overlap };
+        s.cover = CoverSettings::uniform(c.intervals, c.overlap);
         let b = nervure::build(&t, &s).unwrap();
         assert_eq!((c.components, c.loops, c.nodes), (b.summary.components, b.summary.loops, b.summary.nodes));
         assert!(c.significant.is_none());

@@ -91,11 +91,13 @@ fn run(name: &str, pts: &Cloud, lens: Lens, intervals: usize, overlap: f64, eps:
         scaling: Scaling::None,
         missing: Missing::default(),
         lens,
-        cover: CoverSettings { intervals, overlap },
+        cover: CoverSettings::uniform(intervals, overlap),
         clustering: Clustering::Dbscan { eps, min_points },
         edges: EdgeRule { min_shared: 1 },
         seed: 1,
         derived: Vec::new(),
+        lens2: None,
+        cover2: None,
     };
     nervure::build(&table, &s).unwrap_or_else(|e| panic!("{name}: {e}"))
 }
@@ -258,13 +260,15 @@ fn demo_temperature_and_oxygen_make_one_loop() {
         version: 1,
         columns: vec!["water_temp_c".into(), "dissolved_oxygen_mg_l".into()],
         scaling: Scaling::Zscore,
-        missing: Missing { fill_values: vec![-9999.0] },
+        missing: Missing { fill_values: vec![-9999.0], ..Default::default() },
         lens: Lens::Principal { component: 1 },
-        cover: CoverSettings { intervals: 12, overlap: 0.35 },
+        cover: CoverSettings::uniform(12, 0.35),
         clustering: Clustering::Dbscan { eps: 0.2, min_points: 8 },
         edges: EdgeRule { min_shared: 1 },
         seed: 1,
         derived: Vec::new(),
+        lens2: None,
+        cover2: None,
     };
     let b = nervure::build(&table, &s).unwrap();
     expect("demo temperature-oxygen", &b, 1, 1);

@@ -6,6 +6,16 @@
  * the same functions, so a script sees exactly what a person sees, errors included.
  */
 
+/* HOOK(node statistics): the engine will offer median, spread and the share of rows above a
+ * threshold besides the mean; add them here as [stat, words] and the colour card shows a
+ * choice (the worker passes `stat` to Engine.node_values unchanged). */
+const COLOUR_STATS = [["mean", "Mean"]];
+
+function statWords(stat) {
+  const hit = COLOUR_STATS.find((s) => s[0] === stat);
+  return hit ? hit[1] : stat;
+}
+
 /** Wait after the last settings change before building again. */
 const RERUN_DELAY_MS = 350;
 
@@ -17,8 +27,17 @@ const state = {
   graph: null,             // typed arrays from the engine
   stale: false,            // the graph on screen does not match the settings (last build failed)
   colour: { column: null, stat: "mean", values: null, min: NaN, max: NaN },
-  selected: null,
+  selected: null,          // the one selected node, or the group's ringed node (see inspector.js)
+  selection: new Set(),    // every selected node
+  primary: null,
   detail: null,
+  contrast: null,          // the engine's ranking of columns for the selection
+  groupRows: null,         // Uint32Array: the selection's rows
+  rowPage: 0,
+  rowCells: null,
+  members: null,           // node -> rows (CSR) of the current graph
+  membersPromise: null,
+  inspectSeq: 0,
   progress: null,          // {label, fraction}
   message: null,           // the last error, as the engine worded it
   timing: { start: 0, tableRead: 0, firstDraw: 0, pendingFirstDraw: false },
@@ -133,8 +152,8 @@ async function loadTable(source, ask) {
   state.timing = { start: performance.now(), tableRead: 0, firstDraw: 0, pendingFirstDraw: true };
   state.phase = "reading";
   state.message = null;
+  resetSelection();
   state.selected = null;
-  state.detail = null;
   state.progress = { label: "Reading the file", fraction: 0 };
   renderAll();
   let loaded;
@@ -149,6 +168,8 @@ async function loadTable(source, ask) {
   state.table = loaded.table;
   state.settings = loaded.settings;
   state.files = loaded.files || null;
+  state.restored = null;
+  if (typeof restoreSettingsFor === "function") await restoreSettingsFor(loaded);
   state.summary = null;
   state.graph = null;
   state.lensMemory = {};
@@ -225,14 +246,28 @@ async function build(seq) {
   state.summary = out.summary;
   state.graph = out.graph;
   state.stale = false;
+  resetSelection();
   state.selected = null;
-  state.detail = null;
   applyColour(out.colour);
   renderAll();
   const card = byId("colour-block");
   view.insetTop = card.hidden ? 0 : card.offsetTop + card.offsetHeight;
   view.setGraph(out.graph, false);
+  if (typeof afterBuild === "function") await afterBuild(out);
   return out.summary;
+}
+
+/** What follows every build: derived columns into the column list, settings kept
+ *  (local storage, fragment), the run recorded, the scatter refreshed. */
+async function afterBuild() {
+  await syncDerivedColumns();
+  storeSettings();
+  writeFragment();
+  recordRun();
+  renderChrome();
+  // HOOK(lens histogram): when the engine offers it, fetch the lens histogram here and draw
+  // it with the cover's intervals under the Cover fields of the settings form.
+  if (state.tab === "scatter") { renderScatterControls(); refreshScatter(); }
 }
 
 function applyColour(colour) {
@@ -268,25 +303,8 @@ async function setColourColumn(column) {
     if (state.colour.column !== column) return;
     applyColour(colour);
     renderLegend();
-    if (state.selected !== null) renderDetail();
-  } catch (e) {
-    fail(e.message);
-    throw e;
-  }
-}
-
-async function selectNode(i) {
-  state.selected = i;
-  state.detail = null;
-  view.setSelected(i);
-  renderDetail();
-  if (i === null) return null;
-  try {
-    const detail = await engine.request("detail", { node: i });
-    if (state.selected !== i) return detail;
-    state.detail = detail;
-    renderDetail();
-    return detail;
+    if (state.selection.size) renderDetail();
+    if (typeof onColourChanged === "function") onColourChanged();
   } catch (e) {
     fail(e.message);
     throw e;
@@ -399,6 +417,8 @@ function renderAll() {
   renderProgress();
   renderMessage();
   renderDetail();
+  renderDerived();
+  renderRestored();
   renderChrome();
 }
 
@@ -433,7 +453,8 @@ function renderColumns() {
     // Name on the first line, detected kind under it.
     const tdName = el("td", "name");
     tdName.append(el("span", "column-name", c.name));
-    const kind = el("span", "kind", c.kind === "number" ? "number" : "category");
+    const derived = derivedNames().has(c.name);
+    const kind = el("span", "kind", derived ? "derived number" : c.kind === "number" ? "number" : "category");
     if (c.kind !== "number" && c.levels !== null && c.levels !== undefined) kind.textContent += " · " + plural(c.levels, "value", "values");
     if (c.unit) kind.textContent += " · " + c.unit;
     tdName.append(kind);
@@ -536,7 +557,7 @@ function renderLegend() {
   const has = state.colour.values && state.graph;
   legend.hidden = !has;
   if (!has) return;
-  byId("legend-title").textContent = "Mean of " + state.colour.column + unitSuffix(state.colour.column) + " in each node";
+  byId("legend-title").textContent = statWords(state.colour.stat) + " of " + state.colour.column + unitSuffix(state.colour.column) + " in each node";
   byId("legend-min").textContent = formatNumber(state.colour.min);
   byId("legend-max").textContent = formatNumber(state.colour.max);
   byId("legend-bar").style.backgroundImage = cividisGradient();
@@ -557,49 +578,15 @@ function renderMessage() {
   m.textContent = state.message || "";
 }
 
-function renderDetail() {
-  const box = byId("detail");
-  const i = state.selected;
-  if (i === null || !state.graph) { box.hidden = true; return; }
-  box.hidden = false;
-  const d = state.detail;
-  byId("detail-title").textContent = "Node " + i;
-  const size = state.graph.nodeSizes[i];
-  const sub = byId("detail-sub");
-  const facts = [plural(d ? d.size : size, "row", "rows")];
-  if (d) facts.push(plural(d.degree, "edge", "edges"));
-  facts.push("lens interval " + ((d ? d.element : state.graph.nodeElements[i]) + 1) + (d && d.interval ? " [" + formatNumber(d.interval[0]) + ", " + formatNumber(d.interval[1]) + "]" : ""));
-  sub.textContent = facts.join(" · ");
-  const body = byId("detail-stats");
-  body.textContent = "";
-  const rows = byId("detail-rows");
-  if (!d) { rows.textContent = "…"; return; }
-  for (const c of d.columns) {
-    const tr = el("tr");
-    const th = el("th", null, c.name);
-    th.title = c.name;
-    tr.append(th);
-    if (c.kind === "number") tr.append(el("td", "num", formatNumber(c.mean)), el("td", "num", formatNumber(c.min)), el("td", "num", formatNumber(c.max)));
-    else {
-      const pct = c.topShare === null || c.topShare === undefined ? null : 100 * c.topShare;
-      const share = pct === null ? "" : " (" + (pct > 0 && pct < 0.5 ? "under 1" : Math.round(pct)) + " %)";
-      const td = el("td", "top", c.top === null || c.top === undefined ? "—" : "mostly “" + c.top + "”" + share);
-      td.colSpan = 3;
-      tr.append(td);
-    }
-    body.append(tr);
-  }
-  rows.textContent = d.rows.join(", ") + (d.size > d.rows.length ? ", … (" + formatCount(d.size - d.rows.length) + " more)" : "");
-}
-
 function renderChrome() {
   const working = state.phase === "reading" || state.phase === "building";
   byId("empty-hint").hidden = !!state.graph;
   byId("empty-hint-title").textContent = working ? (state.phase === "reading" ? "Reading the file…" : "Building the first graph…") : "No graph yet.";
   byId("empty-hint-text").hidden = working;
   byId("view-help").hidden = !state.graph;
-  byId("save-settings").disabled = !state.settings;
-  byId("save-picture").disabled = !state.graph;
+  byId("view-tools").hidden = !state.graph;
+  byId("dock").hidden = !state.graph;
+  renderExportChrome();
   byId("canvas-wrap").classList.toggle("stale", state.stale);
 }
 
@@ -621,8 +608,11 @@ const view = new GraphView(byId("graph-canvas"), {
     tooltip.style.left = Math.max(4, left) + "px";
     tooltip.style.top = Math.max(4, top) + "px";
   },
-  onSelect: function (i) {
-    selectNode(i).catch(function () { /* shown on the page */ });
+  onSelect: function (i, options) {
+    selectNode(i, options).catch(function () { /* shown on the page */ });
+  },
+  onLasso: function (nodes, options) {
+    lassoNodes(nodes, options).catch(function () { /* shown on the page */ });
   },
   onDraw: function () {
     if (state.timing.pendingFirstDraw && state.graph) {
@@ -635,20 +625,6 @@ const view = new GraphView(byId("graph-canvas"), {
 new ResizeObserver(function () { tooltip.hidden = true; view.resize(); }).observe(byId("canvas-wrap"));
 
 /* ---------------------------------------------------------------- events */
-
-function download(name, blob) {
-  const a = el("a");
-  a.href = URL.createObjectURL(blob);
-  a.download = name;
-  document.body.append(a);
-  a.click();
-  a.remove();
-  setTimeout(function () { URL.revokeObjectURL(a.href); }, 1000);
-}
-
-function baseName() {
-  return state.table ? state.table.name.replace(/\.[^.]*$/, "") : "nervure";
-}
 
 function wire() {
   const input = byId("file-input");
@@ -695,15 +671,12 @@ function wire() {
   byId("colour-select").addEventListener("change", function () {
     setColourColumn(byId("colour-select").value).catch(function () { /* shown on the page */ });
   });
-  byId("detail-close").addEventListener("click", function () { selectNode(null); });
-  document.addEventListener("keydown", function (ev) { if (ev.key === "Escape" && state.selected !== null) selectNode(null); });
-
-  byId("save-settings").addEventListener("click", function () {
-    download(baseName() + ".settings.json", new Blob([JSON.stringify(state.settings, null, 2) + "\n"], { type: "application/json" }));
-  });
-  byId("save-picture").addEventListener("click", function () {
-    byId("graph-canvas").toBlob(function (blob) { if (blob) download(baseName() + ".graph.png", blob); }, "image/png");
-  });
+  wireInspector();
+  wireDerived();
+  wireExports();
+  wireScatter();
+  wireHistory();
+  wireKeys();
 }
 
 /* ---------------------------------------------------------------- scripting hook */
@@ -734,8 +707,24 @@ window.nervure = Object.freeze({
       scale: view.view.scale, offsetX: view.view.x, offsetY: view.view.y,
     };
   },
-  /** The selected node, or null. */
+  /** The selected node (with several, the last one picked), or null. */
   selected: function () { return state.selected; },
+  /** Every selected node, increasing. */
+  selection: function () { return Array.from(state.selection).sort((a, b) => a - b); },
+  /** Selects nodes as a lasso would; resolves when the inspector is filled. */
+  select: function (nodes) { return setSelection(nodes).then(() => Array.from(state.selection).sort((a, b) => a - b)); },
+  /** The inspector's ranking of columns for the selection (a copy), or null. */
+  contrast: function () { return state.contrast ? JSON.parse(JSON.stringify(state.contrast)) : null; },
+  /** Rows of the selection (0-based table rows), or null. */
+  selectionRows: function () { return state.groupRows ? Array.from(state.groupRows) : null; },
+  /** Text of an export ("json", "graphml", "memberships", "report", "svg", "settings"). */
+  exportText: function (format) { return exportText(format); },
+  /** The runs of this session: [{id, summary, settings}] (copies). */
+  history: function () { return historyList(); },
+  /** The scatter's state: {shown, total, lit, xLabel, yLabel} or null. */
+  scatter: function () { return scatterInfo(); },
+  /** Where settings came from on the last load: "fragment", "stored", or null (automatic). */
+  restored: function () { return state.restored; },
   /** Milliseconds from the start of the last load to the table read and the first graph drawn. */
   timings: function () {
     const t = state.timing;
@@ -754,5 +743,5 @@ window.nervure = Object.freeze({
 wire();
 engine.start();
 renderAll();
-// dist/nervure.html#demo opens with the demo loaded.
-if (location.hash === "#demo" && document.getElementById("nervure-demo")) byId("demo-button").click();
+// dist/nervure.html#demo opens with the demo loaded (also with settings: #demo&s=...).
+if (fragmentParts().demo && document.getElementById("nervure-demo")) byId("demo-button").click();

@@ -6,6 +6,11 @@
  * CSS pixels as  screen = world * scale + offset  (y pointing down, as the canvas does).
  * A node's disc area is proportional to its number of rows; an edge's width grows with
  * the rows its two nodes share.
+ *
+ * Selection: a click picks one node, a shift-click adds or removes one, and a drag with
+ * shift held (or any drag in lasso mode) draws a lasso whose enclosed node centres are
+ * selected. With the canvas focused, arrow keys move a keyboard cursor between nodes
+ * and Enter (shift+Enter) selects (toggles) the node under it.
  */
 
 function GraphView(canvas, callbacks) {
@@ -14,7 +19,12 @@ function GraphView(canvas, callbacks) {
   this.callbacks = callbacks;
   this.graph = null;
   this.fills = null;
-  this.selected = null;
+  this.selected = null;      // the node whose ring is strongest (the last one picked)
+  this.selection = new Set(); // every selected node
+  this.lit = null;            // Uint8Array per node: nodes lit from elsewhere (the scatter)
+  this.cursor = null;         // keyboard cursor
+  this.lassoMode = false;
+  this.lasso = null;          // [x0, y0, x1, y1, ...] while drawing
   this.hovered = null;
   this.radii = null;
   this.order = null;
@@ -36,6 +46,9 @@ GraphView.MIN_RADIUS = 3;
 GraphView.prototype.setGraph = function (graph, keepView) {
   this.graph = graph;
   this.selected = null;
+  this.selection = new Set();
+  this.lit = null;
+  this.cursor = null;
   this.hovered = null;
   this._sizeDiscs();
   // Draw big discs first so small ones stay visible on top of them.
@@ -53,10 +66,40 @@ GraphView.prototype.setFills = function (fills) {
   this.requestDraw();
 };
 
-GraphView.prototype.setSelected = function (i) {
-  this.selected = i;
+/** `nodes`: a Set of node indices (or one index, or null); `primary`: the ringed one. */
+GraphView.prototype.setSelected = function (nodes, primary) {
+  if (nodes === null || nodes === undefined) nodes = new Set();
+  else if (typeof nodes === "number") nodes = new Set([nodes]);
+  this.selection = nodes;
+  this.selected = primary !== undefined ? primary : (nodes.size === 1 ? nodes.values().next().value : null);
   this.requestDraw();
 };
+
+GraphView.prototype.setLit = function (lit) {
+  this.lit = lit;
+  this.requestDraw();
+};
+
+/** Nodes whose centres lie inside the polygon [x0, y0, x1, y1, ...] (CSS pixels). */
+GraphView.prototype.nodesInPolygon = function (poly) {
+  const out = [];
+  if (!this.graph || poly.length < 6) return out;
+  for (let i = 0; i < this.graph.nodeSizes.length; i++) {
+    const q = this.toScreen(i);
+    if (pointInPolygon(q.x, q.y, poly)) out.push(i);
+  }
+  return out;
+};
+
+/** Even-odd rule ray casting (common practice). */
+function pointInPolygon(x, y, poly) {
+  let inside = false;
+  for (let i = 0, j = poly.length - 2; i < poly.length; j = i, i += 2) {
+    const xi = poly[i], yi = poly[i + 1], xj = poly[j], yj = poly[j + 1];
+    if ((yi > y) !== (yj > y) && x < ((xj - xi) * (y - yi)) / (yj - yi) + xi) inside = !inside;
+  }
+  return inside;
+}
 
 GraphView.prototype._sizeDiscs = function () {
   const g = this.graph;
@@ -158,28 +201,51 @@ GraphView.prototype.draw = function () {
     ctx.stroke();
   }
 
-  // Nodes, largest first.
+  // Nodes, largest first; with a selection or lit nodes, the others are dimmed.
+  const dim = this.selection.size > 0 || !!this.lit;
   for (let k = 0; k < this.order.length; k++) {
     const i = this.order[k];
     const x = p[2 * i] * s + ox, y = p[2 * i + 1] * s + oy, r = this.radii[i];
     ctx.beginPath();
     ctx.arc(x, y, r, 0, 2 * Math.PI);
     ctx.fillStyle = this.fills ? this.fills[i] : "rgb(120, 134, 150)";
+    ctx.globalAlpha = dim && !this.selection.has(i) && !(this.lit && this.lit[i]) ? 0.35 : 1;
     ctx.fill();
+    ctx.globalAlpha = 1;
     ctx.lineWidth = 1.25;
     ctx.strokeStyle = "rgba(255, 255, 255, 0.9)";
     ctx.stroke();
   }
 
-  // Hover and selection rings on top.
-  for (const [i, colour, width] of [[this.hovered, "rgba(29, 37, 45, 0.55)", 2], [this.selected, "#b5361f", 3.5]]) {
+  // Lit, hover, selection and keyboard-cursor rings on top.
+  const rings = [];
+  if (this.lit) for (let i = 0; i < this.lit.length; i++) if (this.lit[i] && !this.selection.has(i)) rings.push([i, "#2e6b8f", 2.5, 3.5, null]);
+  rings.push([this.hovered, "rgba(29, 37, 45, 0.55)", 2, 3.5, null]);
+  for (const i of this.selection) rings.push([i, "#b5361f", i === this.selected ? 3.5 : 2.5, 3.5, null]);
+  rings.push([this.cursor, "#1c242c", 2, 7, [4, 3]]);
+  for (const [i, colour, width, gap, dash] of rings) {
     if (i === null || i === undefined || i >= this.radii.length) continue;
     const q = this.toScreen(i);
     ctx.beginPath();
-    ctx.arc(q.x, q.y, this.radii[i] + 3.5, 0, 2 * Math.PI);
+    ctx.arc(q.x, q.y, this.radii[i] + gap, 0, 2 * Math.PI);
     ctx.lineWidth = width;
     ctx.strokeStyle = colour;
+    ctx.setLineDash(dash || []);
     ctx.stroke();
+  }
+  ctx.setLineDash([]);
+  if (this.lasso && this.lasso.length >= 4) {
+    ctx.beginPath();
+    ctx.moveTo(this.lasso[0], this.lasso[1]);
+    for (let k = 2; k < this.lasso.length; k += 2) ctx.lineTo(this.lasso[k], this.lasso[k + 1]);
+    ctx.closePath();
+    ctx.fillStyle = "rgba(46, 74, 107, 0.08)";
+    ctx.fill();
+    ctx.lineWidth = 1.5;
+    ctx.setLineDash([6, 4]);
+    ctx.strokeStyle = "#2e4a6b";
+    ctx.stroke();
+    ctx.setLineDash([]);
   }
   this.drawCount++;
   if (this.callbacks.onDraw) this.callbacks.onDraw(this.drawCount);
@@ -195,7 +261,9 @@ GraphView.prototype._listen = function () {
   c.addEventListener("pointerdown", (ev) => {
     if (ev.button !== 0) return;
     const q = local(ev);
-    drag = { x: q.x, y: q.y, vx: this.view.x, vy: this.view.y, moved: false, id: ev.pointerId };
+    const lasso = this.lassoMode || ev.shiftKey;
+    drag = { x: q.x, y: q.y, vx: this.view.x, vy: this.view.y, moved: false, id: ev.pointerId, lasso, shift: ev.shiftKey };
+    if (lasso) this.lasso = [q.x, q.y];
     c.setPointerCapture(ev.pointerId);
   });
   c.addEventListener("pointermove", (ev) => {
@@ -203,6 +271,10 @@ GraphView.prototype._listen = function () {
     if (drag) {
       const dx = q.x - drag.x, dy = q.y - drag.y;
       if (!drag.moved && dx * dx + dy * dy > 16) { drag.moved = true; c.classList.add("dragging"); }
+      if (drag.lasso) {
+        if (this.graph) { this.lasso.push(q.x, q.y); this.requestDraw(); }
+        return;
+      }
       if (drag.moved) {
         this.fitted = false;
         this.view.x = drag.vx + dx;
@@ -222,13 +294,20 @@ GraphView.prototype._listen = function () {
   const end = (ev) => {
     if (!drag) return;
     const wasClick = !drag.moved;
+    const d = drag;
     c.releasePointerCapture(drag.id);
     c.classList.remove("dragging");
     drag = null;
-    if (wasClick && ev.type === "pointerup") {
+    const poly = this.lasso;
+    this.lasso = null;
+    if (ev.type !== "pointerup") { this.requestDraw(); return; }
+    if (wasClick) {
       const q = local(ev);
-      this.callbacks.onSelect(this.nodeAt(q.x, q.y));
+      this.callbacks.onSelect(this.nodeAt(q.x, q.y), { toggle: d.shift });
+    } else if (d.lasso && poly) {
+      this.callbacks.onLasso(this.nodesInPolygon(poly), { add: d.shift });
     }
+    this.requestDraw();
   };
   c.addEventListener("pointerup", end);
   c.addEventListener("pointercancel", end);
@@ -250,4 +329,79 @@ GraphView.prototype._listen = function () {
     this.requestDraw();
   }, { passive: false });
   c.addEventListener("dblclick", () => this.fit());
+  c.addEventListener("keydown", (ev) => {
+    if (!this.graph || this.graph.nodeSizes.length === 0) return;
+    const keys = { ArrowRight: [1, 0], ArrowLeft: [-1, 0], ArrowDown: [0, 1], ArrowUp: [0, -1] };
+    if (keys[ev.key]) {
+      ev.preventDefault();
+      this.cursor = this.nextNode(this.cursor, keys[ev.key]);
+      this.requestDraw();
+      const q = this.toScreen(this.cursor);
+      this.callbacks.onHover(this.cursor, q.x, q.y);
+    } else if ((ev.key === "Enter" || ev.key === " ") && this.cursor !== null) {
+      ev.preventDefault();
+      this.callbacks.onSelect(this.cursor, { toggle: ev.shiftKey });
+    }
+  });
+  c.addEventListener("blur", () => { this.cursor = null; this.requestDraw(); this.callbacks.onHover(null, 0, 0); });
 };
+
+/** The nearest node from `from` in direction [dx, dy] (screen), within a 45° cone; the
+ *  largest node when there is no cursor yet; `from` itself when nothing lies that way. */
+GraphView.prototype.nextNode = function (from, dir) {
+  if (from === null || from === undefined) return this.order[0];
+  const a = this.toScreen(from);
+  let best = from, bestD = Infinity;
+  for (let i = 0; i < this.graph.nodeSizes.length; i++) {
+    if (i === from) continue;
+    const q = this.toScreen(i);
+    const dx = q.x - a.x, dy = q.y - a.y;
+    const along = dx * dir[0] + dy * dir[1];
+    const across = Math.abs(dx * dir[1] - dy * dir[0]);
+    if (along <= 0 || across > along) continue;
+    const d = along + 2 * across;
+    if (d < bestD) { bestD = d; best = i; }
+  }
+  return best;
+};
+
+/** Draws a stored graph (positions, sizes, edges, fills) fitted into a w × h box of a 2-D
+ *  context, with no interaction: history thumbnails, the comparison view, the PNG export. */
+function drawGraphStatic(ctx, w, h, graph, fills, pad) {
+  ctx.clearRect(0, 0, w, h);
+  const n = graph.nodeSizes.length;
+  if (n === 0) return;
+  const p = graph.positions;
+  let x0 = Infinity, x1 = -Infinity, y0 = Infinity, y1 = -Infinity, maxSize = 1;
+  for (let i = 0; i < n; i++) {
+    x0 = Math.min(x0, p[2 * i]); x1 = Math.max(x1, p[2 * i]);
+    y0 = Math.min(y0, p[2 * i + 1]); y1 = Math.max(y1, p[2 * i + 1]);
+    maxSize = Math.max(maxSize, graph.nodeSizes[i]);
+  }
+  const maxR = Math.max(2, Math.min(w, h) * GraphView.MAX_RADIUS_SHARE);
+  const m = (pad === undefined ? 4 : pad) + maxR;
+  const s = Math.min((w - 2 * m) / Math.max(x1 - x0, 1e-9), (h - 2 * m) / Math.max(y1 - y0, 1e-9));
+  const ox = w / 2 - s * (x0 + x1) / 2, oy = h / 2 - s * (y0 + y1) / 2;
+  let maxShared = 1;
+  for (const v of graph.edgeShared) maxShared = Math.max(maxShared, v);
+  ctx.strokeStyle = "rgba(62, 74, 86, 0.42)";
+  ctx.lineCap = "round";
+  for (let e = 0; e < graph.edgeA.length; e++) {
+    const a = graph.edgeA[e], b = graph.edgeB[e];
+    ctx.lineWidth = Math.max(0.6, (1 + 5 * Math.sqrt(graph.edgeShared[e] / maxShared)) * maxR / 30);
+    ctx.beginPath();
+    ctx.moveTo(p[2 * a] * s + ox, p[2 * a + 1] * s + oy);
+    ctx.lineTo(p[2 * b] * s + ox, p[2 * b + 1] * s + oy);
+    ctx.stroke();
+  }
+  const order = Array.from({ length: n }, (_, i) => i).sort((a, b) => graph.nodeSizes[b] - graph.nodeSizes[a] || a - b);
+  for (const i of order) {
+    ctx.beginPath();
+    ctx.arc(p[2 * i] * s + ox, p[2 * i + 1] * s + oy, Math.max(1.5, maxR * Math.sqrt(graph.nodeSizes[i] / maxSize)), 0, 2 * Math.PI);
+    ctx.fillStyle = fills ? fills[i] : "rgb(120, 134, 150)";
+    ctx.fill();
+    ctx.lineWidth = 0.8;
+    ctx.strokeStyle = "rgba(255, 255, 255, 0.9)";
+    ctx.stroke();
+  }
+}

@@ -12,6 +12,8 @@
  *               {id, type: "detail", node}
  *               {id, type: "summaries", fillValues}
  *               {id, type: "check", settings}
+ *               {id, type: "memberships"} | {id, type: "explain", nodes} | {id, type: "rowValues", rows, columns}
+ *               {id, type: "derivedInfo"} | {id, type: "scatter", x, y, limit} | {id, type: "export", format, colour, fileName}
  * Messages out: {id, type: "progress", stage, fraction}
  *               {id, type: "result", value}
  *               {id, type: "error", message, fatal}
@@ -145,6 +147,22 @@ function handle(engine, msg) {
       return { value: engine.column_summaries(new Float64Array(msg.fillValues || [])) };
     case "check":
       return { value: engine.check_settings(msg.settings) };
+    case "memberships": {
+      const m = engine.memberships();
+      return { value: m, transfer: m ? [m.offsets.buffer, m.rows.buffer] : [] };
+    }
+    case "explain":
+      return { value: engine.explain(new Uint32Array(msg.nodes)) };
+    case "rowValues":
+      return { value: engine.row_values(new Uint32Array(msg.rows), msg.columns || null) };
+    case "derivedInfo":
+      return { value: engine.derived_info() };
+    case "scatter": {
+      const d = engine.scatter(msg.x || "", msg.y || "", msg.limit);
+      return { value: d, transfer: [d.rows.buffer, d.x.buffer, d.y.buffer] };
+    }
+    case "export":
+      return { value: engine.export(msg.format, msg.colour || "", msg.fileName || "") };
     default:
       throw new Error("internal: unknown request '" + msg.type + "'");
   }

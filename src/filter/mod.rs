@@ -4,6 +4,7 @@
 //! nothing else. Filters whose exact value costs O(n²) switch to a stated estimate above
 //! [`EXACT_LIMIT`] points; each says how far the estimate can be from the exact value.
 
+pub mod knn;
 pub mod linalg;
 
 use ndarray::ArrayView2;
@@ -19,16 +20,38 @@ pub const EXACT_LIMIT: usize = 4000;
 
 /// The lens value of every point, in point order.
 pub fn compute_lens(table: &Table, points: &Points, s: &Settings) -> Result<Vec<f64>> {
+    compute_lens_of(table, points, &s.lens, s, "lens")
+}
+
+/// The second lens's values (`s.lens2`), if there is one.
+pub fn compute_lens2(table: &Table, points: &Points, s: &Settings) -> Result<Option<Vec<f64>>> {
+    s.lens2.as_ref().map(|l| compute_lens_of(table, points, l, s, "lens2")).transpose()
+}
+
+/// The values of `lens` at every point; errors about its fields name them under `field`
+/// ("lens" or "lens2").
+pub fn compute_lens_of(table: &Table, points: &Points, lens: &Lens, s: &Settings, field: &str) -> Result<Vec<f64>> {
     let x = points.data.view();
-    match &s.lens {
+    let out = match lens {
         Lens::Column { column } => {
-            let col = table.numbers(column, "lens.column")?;
-            Ok(points.rows.iter().map(|&r| col[r as usize]).collect())
+            let col = crate::missing::ColumnValues::new(column, table.numbers(column, &format!("{field}.column"))?, &s.missing);
+            // Rows without a value (and no fill) are not points, so `get` always answers.
+            Ok(points.rows.iter().map(|&r| col.get(r as usize).unwrap_or(f64::NAN)).collect())
         }
         Lens::Principal { component } => principal_scores(x, *component),
         Lens::Density { bandwidth } => density_estimate(x, *bandwidth, EXACT_LIMIT, s.seed),
         Lens::Eccentricity { norm } => eccentricity_estimate(x, *norm, EXACT_LIMIT, s.seed),
-    }
+        Lens::DistanceToMeasure { k } => knn::knn_lens(x, *k, knn::KnnValue::DistanceToMeasure),
+        Lens::NeighbourDistance { k } => knn::knn_lens(x, *k, knn::KnnValue::KthDistance),
+        // The largest distance to any point is eccentricity with p = infinity: the same code.
+        Lens::LInfinityCentrality => eccentricity_estimate(x, Spread::Max, EXACT_LIMIT, s.seed),
+    };
+    out.map_err(|e| match e {
+        Error::Settings { field: f, message } if field != "lens" && f.starts_with("lens.") => {
+            Error::settings(format!("{field}.{}", &f["lens.".len()..]), message)
+        }
+        e => e,
+    })
 }
 
 /// Scores on principal component `component` (1 = largest variance): the centred points

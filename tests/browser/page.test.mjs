@@ -8,62 +8,16 @@
 // any console error or uncaught page error. Summaries are compared with the command-line
 // runner's for the same settings (set NERVURE_CLI to a built `nervure` binary to skip cargo).
 
-import { test, before, after, beforeEach, afterEach } from "node:test";
+import { test, beforeEach } from "node:test";
 import assert from "node:assert/strict";
 import { spawnSync } from "node:child_process";
-import { copyFileSync, existsSync, mkdirSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from "node:fs";
-import { tmpdir } from "node:os";
+import { copyFileSync, existsSync, mkdirSync, readFileSync, writeFileSync } from "node:fs";
 import { dirname, join } from "node:path";
-import { fileURLToPath, pathToFileURL } from "node:url";
-import { chromium } from "playwright-core";
+import { here, root, outDir, circleCsv, usePage, waitForGraph as waitFor, uncoveredNode } from "./harness.mjs";
 
-const here = dirname(fileURLToPath(import.meta.url));
-const root = join(here, "..", "..");
-const pagePath = join(root, "dist", "nervure.html");
-const pageUrl = pathToFileURL(pagePath).href;
-const outDir = join(here, "out");
-const circleCsv = join(here, "fixtures", "circle.csv");
-mkdirSync(outDir, { recursive: true });
-
-const CHROMIUM = process.env.CHROMIUM || "/usr/bin/chromium";
-const FLAGS = ["--no-sandbox", "--disable-gpu", "--disable-background-networking", "--disable-component-update", "--disable-sync", "--no-first-run", "--disable-quic"];
-
-let context, userDataDir;
-let page, problems;
-
-before(async () => {
-  assert.ok(existsSync(pagePath), `${pagePath} is missing: build it with cargo run --release --features page-builder --bin nervure-build`);
-  userDataDir = mkdtempSync(join(tmpdir(), "nervure-chromium-"));
-  context = await chromium.launchPersistentContext(userDataDir, {
-    executablePath: CHROMIUM,
-    headless: true,
-    args: FLAGS,
-    viewport: { width: 1600, height: 900 },
-    deviceScaleFactor: 1,
-  });
-});
-
-after(async () => {
-  if (context) await context.close();
-  if (userDataDir) rmSync(userDataDir, { recursive: true, force: true });
-});
-
-/** Opens a fresh page that records every request, console error and page error. */
-beforeEach(async () => {
-  problems = [];
-  page = await context.newPage();
-  const allowed = (url) => url === pageUrl || url.startsWith("blob:") || url.startsWith("data:");
-  page.on("request", (r) => { if (!allowed(r.url())) problems.push("request to " + r.url()); });
-  page.on("console", (m) => { if (m.type() === "error") problems.push("console error: " + m.text()); });
-  page.on("pageerror", (e) => problems.push("page error: " + e.message));
-  page.on("worker", (w) => w.on("console", (m) => { if (m.type() === "error") problems.push("worker console error: " + m.text()); }));
-  await page.goto(pageUrl);
-});
-
-afterEach(async () => {
-  await page.close();
-  assert.deepEqual(problems, [], "the page made requests or reported errors");
-});
+const ctx = usePage();
+let page;
+beforeEach(() => { page = ctx.page; });
 
 /** The summary the command-line runner prints for a file and a settings document. */
 function cliSummary(csvPath, settings) {
@@ -88,23 +42,8 @@ function cliAutoSettings(csvPath) {
   return JSON.parse(readFileSync(path, "utf8"));
 }
 
-/** The last-drawn node whose centre no disc drawn above it covers, and the screen mapping
- *  of the page's layout (screen = world * scale + offset, CSS pixels in the canvas). */
-function uncoveredNode(layout, preferLargest = false) {
-  const pos = (i) => ({ x: layout.positions[2 * i] * layout.scale + layout.offsetX, y: layout.positions[2 * i + 1] * layout.scale + layout.offsetY });
-  const uncovered = [];
-  for (let k = layout.order.length - 1; k >= 0; k--) {
-    const i = layout.order[k], p = pos(i);
-    const covered = layout.order.slice(k + 1).some((j) => Math.hypot(pos(j).x - p.x, pos(j).y - p.y) <= layout.radii[j] + 2);
-    if (!covered) uncovered.push(i);
-  }
-  assert.ok(uncovered.length > 0, "every node is hidden under another");
-  const target = preferLargest ? uncovered.reduce((a, b) => (layout.sizes[b] > layout.sizes[a] ? b : a)) : uncovered[0];
-  return { target, pos };
-}
-
 async function waitForGraph() {
-  await page.waitForFunction(() => window.nervure.summary() !== null && window.nervure.timings().firstGraphMs !== null, null, { timeout: 60000 });
+  await waitFor(page);
 }
 
 async function loadCircleThroughInput() {
@@ -135,7 +74,7 @@ test("the demo button draws a graph with no request", async (t) => {
   const { target, pos } = uncoveredNode(layout, true);
   const box = await page.locator("#graph-canvas").boundingBox();
   await page.mouse.click(box.x + pos(target).x, box.y + pos(target).y);
-  await page.waitForFunction(() => document.getElementById("detail-rows").textContent.length > 1);
+  await page.waitForFunction(() => document.querySelectorAll("#rows-body tr").length > 0);
   await page.mouse.move(box.x + 5, box.y + box.height - 5);
   await page.waitForTimeout(300);
   await page.screenshot({ path: join(outDir, "page.png") });
@@ -242,12 +181,13 @@ test("clicking a node shows its size and rows", async () => {
   await page.mouse.click(box.x + p.x, box.y + p.y);
   await page.waitForSelector("#detail:not([hidden])");
   assert.equal(await page.evaluate(() => window.nervure.selected()), target);
-  await page.waitForFunction(() => document.getElementById("detail-rows").textContent !== "…");
+  await page.waitForFunction(() => document.querySelectorAll("#rows-body tr").length > 0);
   const sub = (await page.textContent("#detail-sub")).replace(/\u2009/g, "");
   const size = layout.sizes[target];
   assert.match(sub, new RegExp("^" + size + " rows?\\b"));
-  const listed = (await page.textContent("#detail-rows")).split(",").filter((s) => /^\s*\d+\s*$/.test(s)).length;
-  assert.equal(listed, Math.min(size, 200), "the detail lists the node's first rows (at most 200, as the engine documents)");
+  const listed = await page.$$eval("#rows-body tr th", (ths) => ths.map((t) => Number(t.textContent)));
+  assert.equal(listed.length, Math.min(size, 100), "the inspector shows the node's first rows, 100 to a page");
+  assert.ok(listed.every((r, k) => Number.isInteger(r) && r >= 1 && r <= 600 && (k === 0 || r > listed[k - 1])), "data row numbers, increasing");
   const statNames = await page.$$eval("#detail-stats th", (ths) => ths.map((th) => th.textContent));
   assert.deepEqual(statNames, ["x", "y", "angle_deg", "half"]);
 });

@@ -39,6 +39,7 @@ from scipy.stats import gaussian_kde, ks_2samp, kstwo
 from sklearn.cluster import DBSCAN
 from sklearn.datasets import load_iris, load_wine, make_blobs
 from sklearn.decomposition import PCA
+from sklearn.neighbors import NearestNeighbors
 from sklearn.preprocessing import StandardScaler
 
 HERE = os.path.dirname(os.path.abspath(__file__))
@@ -439,6 +440,96 @@ def bottleneck_fixture():
     })
 
 
+def neighbours_fixture(iris_z):
+    """k nearest distances with the query points being the fitted points, so each
+    point's first neighbour is itself (distance 0). From them: distance to a measure
+    (Chazal, Cohen-Steiner, Merigot 2011) d(x) = sqrt(mean of the k squared distances),
+    and the k-th distance."""
+    rng = np.random.default_rng(43)
+    blob = rng.normal(size=(300, 2))
+    # Ten exact duplicates, so that ties at distance 0 are covered.
+    blob = np.vstack([blob, blob[:10]])
+    cases = []
+    for label, pts in [("iris z-scored (StandardScaler)", iris_z),
+                       ("numpy.random.default_rng(43) normal 300 x 2, rows 0-9 repeated", blob)]:
+        for k in (1, 2, 5, 16):
+            dist, _ = NearestNeighbors(n_neighbors=k).fit(pts).kneighbors(pts)
+            cases.append({
+                "label": label,
+                "points": rows(pts),
+                "k": k,
+                "dtm": floats(np.sqrt((dist ** 2).mean(axis=1))),
+                "kth": floats(dist[:, -1]),
+            })
+    write("neighbours.json", {
+        "source": (f"{lib('scikit-learn')}: sklearn.neighbors.NearestNeighbors(n_neighbors=k).fit(X).kneighbors(X) "
+                   "(the query points are the fitted points, so each point is its own first neighbour); "
+                   f"{lib('numpy')}: dtm = sqrt(mean(dist ** 2, axis=1)), kth = dist[:, -1]"),
+        "cases": cases,
+    })
+
+
+def rank_intervals(n, g):
+    """The uniform cover of [0, 1] with the same floating-point steps as the engine's
+    cover::intervals: len = 1 / (n - (n - 1) g), start i * len * (1 - g), end start + len,
+    the last end 1 exactly."""
+    length = 1.0 / (n - (n - 1) * g)
+    step = length * (1 - g)
+    out = []
+    for i in range(n):
+        a = 0.0 if i == 0 else 0.0 + i * step
+        b = 1.0 if i == n - 1 else a + length
+        out.append((a, b))
+    return out
+
+
+def quantiles_fixture():
+    """Balanced cover edges (numpy.quantile, method 'linear'), how many values each
+    closed interval holds, numpy.histogram counts and edges, and node statistics
+    (numpy.median, numpy.std with ddof 0, share above a threshold)."""
+    x, target, _, _ = iris()
+    rng = np.random.default_rng(47)
+    samples = [
+        ("iris petal length (cm), many ties", x[:, 2]),
+        ("numpy.random.default_rng(47) lognormal 501", rng.lognormal(size=501)),
+        ("eight values", np.array([3.0, 1.0, 4.0, 1.0, 5.0, 9.0, 2.0, 6.0])),
+    ]
+    covers = []
+    for label, v in samples:
+        for n, g in ((1, 0.0), (4, 0.25), (10, 0.3), (7, 0.5), (5, 0.0)):
+            ps = rank_intervals(n, g)
+            lo = np.quantile(v, [a for a, _ in ps])
+            hi = np.quantile(v, [b for _, b in ps])
+            counts = [int(np.sum((v >= a) & (v <= b))) for a, b in zip(lo, hi)]
+            covers.append({"label": label, "values": floats(v), "intervals": n, "overlap": g,
+                           "p": [a for a, _ in ps], "q": [b for _, b in ps],
+                           "lo": floats(lo), "hi": floats(hi), "rows": counts})
+    histograms = []
+    for label, v in samples + [("constant", np.full(5, 2.5))]:
+        for bins in (1, 7, 20):
+            counts, edges = np.histogram(v, bins=bins)
+            histograms.append({"label": label, "values": floats(v), "bins": bins,
+                               "counts": [int(c) for c in counts], "edges": floats(edges)})
+    stats = []
+    for species in range(3):
+        for col in range(4):
+            v = x[target == species, col]
+            t = float(np.mean(x[:, col]))
+            stats.append({"label": f"iris species {species} column {col}", "values": floats(v),
+                          "mean": float(np.mean(v)), "median": float(np.median(v)),
+                          "spread": float(np.std(v)), "threshold": t,
+                          "shareAbove": float(np.mean(v > t))})
+    write("quantiles.json", {
+        "source": (f"{lib('numpy')}: numpy.quantile(values, p) (method 'linear') at the rank-space cover "
+                   "p_i = i L (1 - g), q_i = p_i + L, L = 1 / (n - (n - 1) g); rows = count of a <= v <= b; "
+                   "numpy.histogram(values, bins); numpy.median, numpy.std (ddof 0), numpy.mean(v > threshold); "
+                   "iris from sklearn.datasets.load_iris"),
+        "covers": covers,
+        "histograms": histograms,
+        "stats": stats,
+    })
+
+
 def align_fixture():
     """Nearest-in-time matching per group (pandas.merge_asof) and linear interpolation in
     time per group (numpy.interp with left=right=NaN: missing outside the model's range)."""
@@ -559,6 +650,8 @@ def main():
     bottleneck_fixture()
     align_fixture()
     xlsx_fixture()
+    neighbours_fixture(iris_z)
+    quantiles_fixture()
 
 
 if __name__ == "__main__":

@@ -1,0 +1,285 @@
+/* exports.js: handing a result on and getting it back. Downloads (settings, graph JSON,
+ * GraphML, memberships CSV, PNG and SVG pictures with their legend, the text report) as
+ * Blob URLs clicked through an <a download>, which is a navigation to a local object, not
+ * a request; settings read back from a file; settings kept in local storage and in the
+ * page address's fragment.
+ *
+ * What is kept where:
+ * - local storage ("nervure.lastSettings"): the settings of the last graph built, with the
+ *   file name and the file's column names. They are used again only when a file of the
+ *   same name with the same columns is opened; any other file starts from the engine's
+ *   automatic settings. Never any data.
+ * - the fragment: `#s=` + the settings JSON, URI-encoded (with `#demo&s=...` when the page
+ *   was opened on the demo). Settings only, never data; a fragment is not sent anywhere.
+ *   It wins over local storage when both apply, and is used on the first file opened
+ *   after the address was given, not on later files.
+ *
+ * The graph formats are written by the engine (src/export.rs); the SVG is written here,
+ * every text escaped.
+ */
+
+const STORE_KEY = "nervure.lastSettings";
+
+/* ---------------------------------------------------------------- downloads */
+
+function download(name, blob) {
+  const a = el("a");
+  a.href = URL.createObjectURL(blob);
+  a.download = name;
+  a.hidden = true;
+  document.body.append(a);
+  a.click();
+  a.remove();
+  setTimeout(function () { URL.revokeObjectURL(a.href); }, 4000);
+}
+
+function baseName() {
+  return state.table ? state.table.name.replace(/\.[^.]*$/, "") : "nervure";
+}
+
+const EXPORTS = {
+  settings: { suffix: ".settings.json", type: "application/json" },
+  json: { suffix: ".graph.json", type: "application/json" },
+  graphml: { suffix: ".graphml", type: "application/xml" },
+  memberships: { suffix: ".memberships.csv", type: "text/csv" },
+  report: { suffix: ".report.txt", type: "text/plain" },
+  svg: { suffix: ".graph.svg", type: "image/svg+xml" },
+};
+
+/** The text of an export. */
+async function exportText(format) {
+  if (format === "settings") {
+    if (!state.settings) throw new Error("no settings yet: open a CSV file first");
+    return JSON.stringify(state.settings, null, 2) + "\n";
+  }
+  if (!state.graph) throw new Error("no graph has been built yet");
+  if (format === "svg") return graphSvg();
+  if (!EXPORTS[format]) throw new Error("unknown export '" + format + "'");
+  return engine.request("export", { format, colour: state.colour.values ? state.colour.column : "", fileName: state.table.name });
+}
+
+async function exportFile(format) {
+  byId("export-menu").open = false;
+  try {
+    if (format === "png") {
+      const blob = await graphPng();
+      download(baseName() + ".graph.png", blob);
+      return;
+    }
+    const text = await exportText(format);
+    download(baseName() + EXPORTS[format].suffix, new Blob([text], { type: EXPORTS[format].type + ";charset=utf-8" }));
+  } catch (e) {
+    fail(e.message);
+  }
+}
+
+function renderExportChrome() {
+  for (const b of document.querySelectorAll("[data-export]")) {
+    b.disabled = b.dataset.export === "settings" ? !state.settings : !state.graph;
+  }
+}
+
+/* ---------------------------------------------------------------- pictures */
+
+function xmlEscape(text) {
+  return String(text).replace(/[&<>"']/g, (c) => ({ "&": "&amp;", "<": "&lt;", ">": "&gt;", '"': "&quot;", "'": "&apos;" })[c])
+    // Characters XML 1.0 forbids (controls other than tab, newline, carriage return).
+    .replace(/[\u0000-\u0008\u000b\u000c\u000e-\u001f\ufffe\uffff]/g, "\ufffd");
+}
+
+const n2 = (v) => (Math.round(v * 100) / 100).toString();
+
+/** The graph as drawn now (same view, colours and sizes) with its legend, as SVG text. */
+function graphSvg() {
+  const g = state.graph;
+  const w = Math.round(view.width), h = Math.round(view.height);
+  const s = view.view.scale, ox = view.view.x, oy = view.view.y, p = g.positions;
+  const out = [];
+  out.push('<?xml version="1.0" encoding="UTF-8"?>');
+  out.push('<svg xmlns="http://www.w3.org/2000/svg" width="' + w + '" height="' + h + '" viewBox="0 0 ' + w + " " + h + '" font-family="system-ui, sans-serif">');
+  out.push("<title>" + xmlEscape("Nervure graph of " + state.table.name) + "</title>");
+  out.push('<rect width="100%" height="100%" fill="#fffdf8"/>');
+  let maxShared = 1;
+  for (const v of g.edgeShared) maxShared = Math.max(maxShared, v);
+  out.push('<g stroke="rgb(62,74,86)" stroke-opacity="0.42" stroke-linecap="round">');
+  for (let e = 0; e < g.edgeA.length; e++) {
+    const a = g.edgeA[e], b = g.edgeB[e];
+    out.push('<line x1="' + n2(p[2 * a] * s + ox) + '" y1="' + n2(p[2 * a + 1] * s + oy) + '" x2="' + n2(p[2 * b] * s + ox) + '" y2="' + n2(p[2 * b + 1] * s + oy) + '" stroke-width="' + n2(1 + 5 * Math.sqrt(g.edgeShared[e] / maxShared)) + '"/>');
+  }
+  out.push("</g>");
+  out.push('<g stroke="#ffffff" stroke-width="1.25">');
+  for (const i of view.order) {
+    const fill = view.fills ? view.fills[i] : "rgb(120, 134, 150)";
+    out.push('<circle cx="' + n2(p[2 * i] * s + ox) + '" cy="' + n2(p[2 * i + 1] * s + oy) + '" r="' + n2(view.radii[i]) + '" fill="' + fill.replace(/ /g, "") + '"><title>' + xmlEscape("Node " + i + ": " + g.nodeSizes[i] + " rows") + "</title></circle>");
+  }
+  out.push("</g>");
+  if (state.colour.values) {
+    const title = statWords(state.colour.stat) + " of " + state.colour.column + " in each node";
+    const lw = Math.max(240, Math.min(420, 14 + 7.4 * title.length));
+    const x = w - lw - 12, y = 12;
+    out.push('<defs><linearGradient id="legend-map" x1="0" x2="1" y1="0" y2="0">');
+    for (let k = 0; k <= 16; k++) out.push('<stop offset="' + (k / 16).toFixed(4) + '" stop-color="' + colourAt(k / 16).replace(/ /g, "") + '"/>');
+    out.push("</linearGradient></defs>");
+    out.push('<g class="legend"><rect x="' + n2(x) + '" y="' + y + '" width="' + n2(lw) + '" height="62" rx="8" fill="#fffdf8" fill-opacity="0.94" stroke="#dcd7cd"/>');
+    out.push('<text x="' + n2(x + 12) + '" y="' + (y + 22) + '" font-size="13" fill="#56616b">' + xmlEscape(title) + "</text>");
+    const minText = formatNumber(state.colour.min), maxText = formatNumber(state.colour.max);
+    out.push('<text x="' + n2(x + 12) + '" y="' + (y + 48) + '" font-size="13" font-weight="600" fill="#1c242c">' + xmlEscape(minText) + "</text>");
+    const bx = x + 20 + 8 * minText.length, bw = lw - 40 - 8 * (minText.length + maxText.length);
+    out.push('<rect x="' + n2(bx) + '" y="' + (y + 36) + '" width="' + n2(Math.max(40, bw)) + '" height="14" rx="4" fill="url(#legend-map)" stroke="rgba(0,0,0,0.15)"/>');
+    out.push('<text x="' + n2(x + lw - 12) + '" y="' + (y + 48) + '" font-size="13" font-weight="600" fill="#1c242c" text-anchor="end">' + xmlEscape(maxText) + "</text></g>");
+  }
+  const sm = state.summary;
+  out.push('<text x="12" y="' + (h - 12) + '" font-size="13" fill="#56616b">' + xmlEscape(state.table.name + " · " + sm.nodes + " nodes · " + sm.edges + " edges · " + sm.components + " components · " + sm.loops + " loops") + "</text>");
+  out.push("</svg>");
+  return out.join("\n") + "\n";
+}
+
+/** The SVG picture drawn at twice the size into a canvas, as a PNG blob. The SVG goes in
+ *  as a data: image, which the page's policy allows (img-src data:). */
+function graphPng() {
+  const svg = graphSvg();
+  return new Promise(function (resolve, reject) {
+    const img = new Image();
+    img.onload = function () {
+      const c = document.createElement("canvas");
+      c.width = Math.round(view.width * 2);
+      c.height = Math.round(view.height * 2);
+      const ctx = c.getContext("2d");
+      ctx.drawImage(img, 0, 0, c.width, c.height);
+      c.toBlob(function (blob) { if (blob) resolve(blob); else reject(new Error("the picture could not be made")); }, "image/png");
+    };
+    img.onerror = function () { reject(new Error("the picture could not be made")); };
+    img.src = "data:image/svg+xml;charset=utf-8," + encodeURIComponent(svg);
+  });
+}
+
+/* ---------------------------------------------------------------- settings back in */
+
+async function importSettingsText(text, fileName) {
+  if (!state.table) throw new Error("open the data file first, then its settings (" + fileName + ")");
+  let obj;
+  try {
+    obj = JSON.parse(text);
+  } catch (e) {
+    const message = "setting '(document)': " + fileName + " is not JSON (" + e.message + "); choose a settings file saved by Nervure";
+    fail(message);
+    throw new Error(message);
+  }
+  await applySettings(obj);
+  return buildNow();
+}
+
+/* ---------------------------------------------------------------- local storage and fragment */
+
+function fileColumnNames(table) {
+  const derived = derivedNames();
+  return table.columns.map((c) => c.name).filter((n) => !derived.has(n));
+}
+
+function storeSettings() {
+  if (!state.settings || !state.table) return;
+  try {
+    localStorage.setItem(STORE_KEY, JSON.stringify({ fileName: state.table.name, columns: fileColumnNames(state.table), settings: state.settings }));
+  } catch (e) { /* storage full or refused: nothing to keep */ }
+}
+
+function storedSettingsFor(table) {
+  let saved;
+  try { saved = JSON.parse(localStorage.getItem(STORE_KEY) || "null"); } catch (e) { return null; }
+  if (!saved || saved.fileName !== table.name) return null;
+  const names = table.columns.map((c) => c.name);
+  if (JSON.stringify(saved.columns) !== JSON.stringify(names)) return null;
+  return saved.settings;
+}
+
+/** {demo, settings, error} read from the address's fragment. */
+function fragmentParts() {
+  const out = { demo: false, settings: null, error: null };
+  const hash = location.hash.replace(/^#/, "");
+  for (const part of hash.split("&")) {
+    if (part === "demo") out.demo = true;
+    else if (part.startsWith("s=")) {
+      try { out.settings = JSON.parse(decodeURIComponent(part.slice(2))); }
+      catch (e) { out.error = "the settings in the page address (after #s=) are not readable JSON: " + e.message; }
+    }
+  }
+  return out;
+}
+
+function writeFragment() {
+  if (!state.settings) return;
+  const f = fragmentParts();
+  const hash = "#" + (f.demo ? "demo&" : "") + "s=" + encodeURIComponent(JSON.stringify(state.settings));
+  if (location.hash === hash) return;
+  state.writingFragment = hash;
+  try { history.replaceState(null, "", hash); } catch (e) { /* some browsers refuse on file://: the address stays */ }
+}
+
+/** On each load: the fragment's settings, else the stored ones for this file, else the
+ *  engine's automatic ones (already in state.settings). */
+async function restoreSettingsFor(loaded) {
+  state.derivedKey = "[]";
+  state.derivedInfo = [];
+  const f = fragmentParts();
+  const tries = [];
+  // The fragment counts only when it came with the address (or was typed in), not when
+  // this page wrote it for the previous file.
+  if (f.settings && location.hash !== state.writingFragment) tries.push(["fragment", f.settings]);
+  const stored = storedSettingsFor(loaded.table);
+  if (stored) tries.push(["stored", stored]);
+  const notes = [];
+  if (f.error) notes.push(f.error);
+  for (const [source, candidate] of tries) {
+    try {
+      state.settings = await engine.request("check", { settings: candidate });
+      state.restored = source;
+      state.autoSettings = loaded.settings;
+      break;
+    } catch (e) {
+      notes.push((source === "fragment" ? "The settings in the page address were not used: " : "Your saved settings for this file were not used: ") + e.message);
+    }
+  }
+  state.restoreProblem = notes.length ? notes.join(" ") : null;
+  renderRestored();
+}
+
+function renderRestored() {
+  const note = byId("restored-note");
+  note.hidden = !state.restored && !state.restoreProblem;
+  note.classList.toggle("problem", !!state.restoreProblem);
+  byId("restored-undo").hidden = !state.restored;
+  if (note.hidden) return;
+  const text = state.restored === "fragment"
+    ? "Settings taken from the page address."
+    : state.restored === "stored" ? "Settings restored from your last session with " + state.table.name + "." : "";
+  byId("restored-text").textContent = [state.restoreProblem, text].filter(Boolean).join(" ");
+}
+
+function wireExports() {
+  for (const b of document.querySelectorAll("[data-export]")) {
+    b.addEventListener("click", function () { exportFile(b.dataset.export); });
+  }
+  const input = byId("import-settings");
+  input.addEventListener("change", function () {
+    const file = input.files && input.files[0];
+    input.value = "";
+    if (!file) return;
+    file.text().then(function (text) { return importSettingsText(text, file.name); }).catch(function (e) { fail(e.message); });
+  });
+  byId("restored-undo").addEventListener("click", function () {
+    const auto = state.autoSettings;
+    state.restored = null;
+    state.restoreProblem = null;
+    renderRestored();
+    if (auto) applySettings(auto).then(buildNow).catch(function () { /* shown */ });
+  });
+  document.addEventListener("click", function (ev) {
+    const menu = byId("export-menu");
+    if (menu.open && !menu.contains(ev.target)) menu.open = false;
+  });
+  window.addEventListener("hashchange", function () {
+    if (location.hash === state.writingFragment) return;
+    const f = fragmentParts();
+    if (f.settings && state.table) applySettings(f.settings).then(buildNow).catch(function () { /* shown */ });
+  });
+}

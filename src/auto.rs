@@ -43,9 +43,16 @@ pub fn auto_settings(table: &Table) -> Result<Settings> {
         })
         .take(AUTO_MAX_COLUMNS)
         .collect();
+    if table.n_rows < 2 {
+        return Err(Error::Data(format!(
+            "{} has a single data row; a graph of the data's shape needs at least two rows",
+            table.name
+        )));
+    }
     if columns.is_empty() {
         return Err(Error::Data(format!(
-            "{} has no numeric column with values in at least half of its rows; check the delimiter and the missing-value markers",
+            "{} has no numeric column that varies and has values in at least half of its rows (constant columns, \
+             such as those of a file whose rows are all identical, are left out); check the delimiter and the missing-value markers",
             table.name
         )));
     }

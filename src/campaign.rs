@@ -146,7 +146,7 @@ mod tests {
     use crate::table::ingest::Ingest;
 
     fn add(c: &mut Campaign, name: &str, text: &str) {
-        let mut i = Ingest::new(name);
+        let mut i = Ingest::new(name, crate::table::ReadOptions::default());
         i.push(text.as_bytes()).unwrap();
         c.add(i.finish(None).unwrap());
     }

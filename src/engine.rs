@@ -73,6 +73,10 @@ pub struct Summary {
     pub left_out_by_column: Vec<(String, usize)>,
     /// For each column under the median policy, how many rows that took part took its median.
     pub filled_by_column: Vec<(String, usize)>,
+    /// Settings that gave a graph but probably not the one wanted, one sentence each
+    /// (absent from the JSON when there is none).
+    #[serde(skip_serializing_if = "Vec::is_empty", default)]
+    pub warnings: Vec<String>,
 }
 
 /// Statistic of a numeric column over a node's rows that have a value there.
@@ -320,7 +324,6 @@ impl Workbench {
     pub fn run(&mut self, s: &Settings, progress: &mut dyn FnMut(&str, f64)) -> Result<Summary> {
         s.validate()?;
         self.sync_derived(s)?;
-        let table = self.table.as_ref().ok_or_else(|| Error::Input("no table is loaded yet: open a CSV file first".into()))?;
         if let Some(b) = &self.last {
             if graph_key(&b.settings) == graph_key(s) {
                 let b = self.last.as_mut().expect("checked");
@@ -328,6 +331,30 @@ impl Workbench {
                 return Ok(b.summary.clone());
             }
         }
+        self.cluster_stages(s, progress)?;
+        let table = self.table.as_ref().expect("checked by cluster_stages");
+        let pts = &self.points.as_ref().expect("just set").1;
+        let lens = &self.lens.as_ref().expect("just set").1;
+        let cov = &self.cover.as_ref().expect("just set").1;
+        let clustered = &self.clustered.as_ref().expect("just set").1;
+        let b = assemble(table, pts, lens, cov, clustered, s, progress);
+        let summary = b.summary.clone();
+        self.last = Some(b);
+        Ok(summary)
+    }
+
+    /// How many nodes the graph of `s` has, computed (and cached) up to the clusters, before
+    /// the edges and the layout: the page asks before drawing a graph too large to read.
+    pub fn node_count(&mut self, s: &Settings, progress: &mut dyn FnMut(&str, f64)) -> Result<usize> {
+        s.validate()?;
+        self.sync_derived(s)?;
+        self.cluster_stages(s, progress)?;
+        Ok(self.clustered.as_ref().expect("just set").1.nodes.len())
+    }
+
+    /// Every stage up to the clusters, each re-used when its part of the settings is unchanged.
+    fn cluster_stages(&mut self, s: &Settings, progress: &mut dyn FnMut(&str, f64)) -> Result<()> {
+        let table = self.table.as_ref().ok_or_else(|| Error::Input("no table is loaded yet: open a CSV file first".into()))?;
         let pk = PointsKey::of(s);
         if self.points.as_ref().map(|(k, _)| k) != Some(&pk) {
             progress("points", 0.0);
@@ -353,11 +380,7 @@ impl Workbench {
         if self.clustered.as_ref().map(|(k, _)| k) != Some(&kk) {
             self.clustered = Some((kk, cluster_elements(pts, cov, &s.clustering, progress)));
         }
-        let clustered = &self.clustered.as_ref().expect("just set").1;
-        let b = assemble(table, pts, lens, cov, clustered, s, progress);
-        let summary = b.summary.clone();
-        self.last = Some(b);
-        Ok(summary)
+        Ok(())
     }
 
     /// One value per node of the last build: for a numeric column the statistic over the
@@ -805,8 +828,23 @@ fn assemble(table: &Table, pts: &Points, lens: &Lenses, cov: &Cover, c: &Cluster
         elements: cov.elements.iter().filter(|e| !e.is_empty()).count(),
         left_out_by_column: pts.left_out_by_column.clone(),
         filled_by_column: pts.filled_by_column.clone(),
+        warnings: settings_warnings(s, pts.rows.len()),
     };
     Build { settings: s.clone(), summary, nerve, layout, node_lens, lens_range: (cov.lo, cov.hi), intervals: cov.intervals.clone(), second }
+}
+
+/// Warnings about settings that are valid but unlikely to be meant. More intervals than
+/// rows is allowed (the cover is still defined) but leaves most intervals empty.
+fn settings_warnings(s: &Settings, rows: usize) -> Vec<String> {
+    let mut out = Vec::new();
+    if s.cover.intervals > rows {
+        out.push(format!(
+            "setting 'cover.intervals': {} intervals for {rows} row{} leaves most intervals empty; fewer intervals (at most {rows}) give a readable graph",
+            s.cover.intervals,
+            if rows == 1 { "" } else { "s" }
+        ));
+    }
+    out
 }
 
 /// The most common code among `rows` and its share, ignoring missing values.

@@ -100,6 +100,11 @@ pub fn build_points(table: &Table, s: &Settings) -> Result<Points> {
         }
     }
     let rows: Vec<u32> = (0..n as u32).filter(|&i| keep[i as usize]).collect();
+    if let Some((c, _)) = by_column.iter().find(|(_, k)| *k == n && n > 0) {
+        return Err(Error::Data(format!(
+            "column '{c}' has no value in any row (every cell is empty, a missing marker or a fill value); leave it out"
+        )));
+    }
     let filled_by_column: Vec<(String, usize)> = filled_cols
         .iter()
         .map(|(name, col)| ((*name).clone(), rows.iter().filter(|&&r| col.is_missing(r as usize)).count()))

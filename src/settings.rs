@@ -243,6 +243,7 @@ impl Settings {
             }
             _ => {}
         }
+        check_shape(&value)?;
         let s: Settings = serde_json::from_value(value).map_err(|e| Error::settings("(document)", e.to_string()))?;
         s.validate()?;
         Ok(s)
@@ -310,6 +311,83 @@ impl Settings {
         crate::derive::validate(&self.derived)?;
         Ok(())
     }
+}
+
+/// Fields of the document and of its plain sub-objects, for naming an unknown field with
+/// its place (serde's own message names the field but not where it is).
+const KNOWN_FIELDS: [(&str, &[&str]); 5] = [
+    (
+        "",
+        &["version", "columns", "scaling", "missing", "lens", "cover", "clustering", "edges", "seed", "derived", "lens2", "cover2"],
+    ),
+    ("cover", &["intervals", "overlap", "kind"]),
+    ("cover2", &["intervals", "overlap", "kind"]),
+    ("edges", &["minShared"]),
+    ("missing", &["fillValues", "perColumn"]),
+];
+
+/// Whole-number fields, each at least 1 (`seed` at least 0).
+const COUNT_FIELDS: [(&str, &str); 10] = [
+    ("cover", "intervals"),
+    ("cover2", "intervals"),
+    ("lens", "k"),
+    ("lens2", "component"),
+    ("lens2", "k"),
+    ("clustering", "minPoints"),
+    ("clustering", "gapBins"),
+    ("edges", "minShared"),
+    ("lens", "component"),
+    ("", "seed"),
+];
+
+/// Number fields.
+const NUMBER_FIELDS: [(&str, &str); 5] =
+    [("cover", "overlap"), ("cover2", "overlap"), ("clustering", "eps"), ("lens", "bandwidth"), ("lens2", "bandwidth")];
+
+fn path(parent: &str, field: &str) -> String {
+    if parent.is_empty() {
+        field.to_string()
+    } else {
+        format!("{parent}.{field}")
+    }
+}
+
+/// Checks, before serde reads the document, what serde would refuse without naming the
+/// field's place: unknown fields, negative or fractional counts, text where a number goes.
+fn check_shape(value: &serde_json::Value) -> Result<()> {
+    let obj = |parent: &str| if parent.is_empty() { value.as_object() } else { value.get(parent).and_then(|v| v.as_object()) };
+    if value.as_object().is_none() {
+        return Err(Error::settings("(document)", "a settings document is a JSON object: { \"version\": 1, ... }"));
+    }
+    for (parent, known) in KNOWN_FIELDS {
+        let Some(o) = obj(parent) else { continue };
+        if let Some(k) = o.keys().find(|k| !known.contains(&k.as_str())) {
+            return Err(Error::settings(
+                path(parent, k),
+                format!("unknown field; this build does not read it (fields: {})", known.join(", ")),
+            ));
+        }
+    }
+    for (parent, field) in COUNT_FIELDS {
+        let Some(v) = obj(parent).and_then(|o| o.get(field)) else { continue };
+        let least = if field == "seed" { 0 } else { 1 };
+        if v.as_u64().is_none() && (v.is_number() || v.is_string() || v.is_boolean()) {
+            if v.as_i64() == Some(0) {
+                continue; // validate() words the zero case
+            }
+            return Err(Error::settings(
+                path(parent, field),
+                format!("{v} is not allowed; use a whole number of at least {least}"),
+            ));
+        }
+    }
+    for (parent, field) in NUMBER_FIELDS {
+        let Some(v) = obj(parent).and_then(|o| o.get(field)) else { continue };
+        if !v.is_number() && !(v.is_null() && field == "bandwidth") {
+            return Err(Error::settings(path(parent, field), format!("{v} is not a number")));
+        }
+    }
+    Ok(())
 }
 
 fn check_cover(c: &CoverSettings, field: &str) -> Result<()> {

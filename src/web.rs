@@ -14,6 +14,7 @@ use crate::campaign::{Campaign, Plan};
 use crate::engine::{NodeStat, Workbench};
 use crate::settings::Settings;
 use crate::table::ingest::Ingest;
+use crate::table::ReadOptions;
 
 /// Panics become one `console.error` line with the message and place, instead of an
 /// anonymous "unreachable" trap (written here rather than pulling in a crate for it).
@@ -25,6 +26,51 @@ fn install_panic_message() {
             web_sys::console::error_1(&JsValue::from_str(&format!("nervure engine panic: {info}")));
         }));
     });
+}
+
+/// The allocator, watched: when a request fails, its size is kept so that the worker can say
+/// "out of memory" after the trap that follows (the engine itself cannot report it: a failed
+/// allocation aborts).
+struct WatchedAllocator;
+
+static FAILED_ALLOCATION: std::sync::atomic::AtomicUsize = std::sync::atomic::AtomicUsize::new(0);
+
+// SAFETY: every call is forwarded unchanged to the system allocator.
+unsafe impl std::alloc::GlobalAlloc for WatchedAllocator {
+    unsafe fn alloc(&self, layout: std::alloc::Layout) -> *mut u8 {
+        note_failure(std::alloc::System.alloc(layout), layout.size())
+    }
+    unsafe fn alloc_zeroed(&self, layout: std::alloc::Layout) -> *mut u8 {
+        note_failure(std::alloc::System.alloc_zeroed(layout), layout.size())
+    }
+    unsafe fn dealloc(&self, ptr: *mut u8, layout: std::alloc::Layout) {
+        std::alloc::System.dealloc(ptr, layout)
+    }
+    unsafe fn realloc(&self, ptr: *mut u8, layout: std::alloc::Layout, new_size: usize) -> *mut u8 {
+        note_failure(std::alloc::System.realloc(ptr, layout, new_size), new_size)
+    }
+}
+
+fn note_failure(ptr: *mut u8, size: usize) -> *mut u8 {
+    if ptr.is_null() {
+        FAILED_ALLOCATION.store(size.max(1), std::sync::atomic::Ordering::Relaxed);
+    }
+    ptr
+}
+
+#[global_allocator]
+static ALLOCATOR: WatchedAllocator = WatchedAllocator;
+
+/// `{failedBytes, heldBytes}`: the size of the last allocation that failed (0 if none) and
+/// the engine's memory now. Safe to call after a trap: it reads two numbers.
+#[wasm_bindgen]
+pub fn memory_report() -> JsValue {
+    let out = Object::new();
+    let failed = FAILED_ALLOCATION.load(std::sync::atomic::Ordering::Relaxed) as f64;
+    let held = (core::arch::wasm32::memory_size(0) as f64) * 65536.0;
+    set(&out, "failedBytes", &JsValue::from_f64(failed));
+    set(&out, "heldBytes", &JsValue::from_f64(held));
+    out.into()
 }
 
 fn to_js<T: Serialize + ?Sized>(value: &T) -> Result<JsValue, JsValue> {
@@ -57,6 +103,17 @@ struct TableInfo<'a> {
     name: &'a str,
     rows: usize,
     columns: Vec<crate::table::ColumnSummary>,
+    /// How the file was read (decoding, decimal commas, values read as missing).
+    notices: &'a [String],
+    encoding: &'a str,
+}
+
+/// Per-file read options the page may give: `{textAsMissing: [column names]}`.
+#[derive(serde::Deserialize, Default)]
+#[serde(rename_all = "camelCase", deny_unknown_fields)]
+struct PageReadOptions {
+    #[serde(default)]
+    text_as_missing: Vec<String>,
 }
 
 #[wasm_bindgen]
@@ -65,6 +122,10 @@ pub struct Engine {
     reader: Option<Ingest>,
     /// The files loaded, kept one by one (see [`crate::campaign`]).
     campaign: Campaign,
+    notices: Vec<String>,
+    encoding: &'static str,
+    /// Graphs with more nodes than this are not laid out until asked again with 0 (no limit).
+    node_limit: usize,
 }
 
 #[wasm_bindgen]
@@ -72,13 +133,44 @@ impl Engine {
     #[wasm_bindgen(constructor)]
     pub fn new() -> Engine {
         install_panic_message();
-        Engine { bench: Workbench::new(), reader: None, campaign: Campaign::new() }
+        Engine { bench: Workbench::new(), reader: None, notices: Vec::new(), encoding: "UTF-8", node_limit: 0, campaign: Campaign::new() }
     }
 
     /// Starts reading a new file (CSV, ICARTT or spreadsheet, told by content); any file
     /// being read is dropped.
     pub fn begin_table(&mut self, name: &str) {
         self.reader = Some(Ingest::new(name));
+    }
+
+    /// Starts reading a new file with read options `{textAsMissing: [...]}`.
+    pub fn begin_table_with(&mut self, name: &str, options: JsValue) -> Result<(), JsValue> {
+        let page: PageReadOptions = if options.is_undefined() || options.is_null() {
+            PageReadOptions::default()
+        } else {
+            serde_wasm_bindgen::from_value(options).map_err(|e| fail(format!("internal: read options: {e}")))?
+        };
+        self.reader = Some(Ingest::new(name, ReadOptions { text_as_missing: page.text_as_missing, ..ReadOptions::default() }));
+        Ok(())
+    }
+
+    /// Graphs of more than `limit` nodes (0: no limit) are not drawn: `run` returns
+    /// `{confirmNodes: n}` instead of a summary, before the edges and the layout.
+    pub fn set_node_limit(&mut self, limit: u32) {
+        self.node_limit = limit as usize;
+    }
+
+    /// Test hook: allocates 64 MiB blocks until the allocator fails (the call then traps),
+    /// so that the page's recovery from running out of memory can be tested.
+    pub fn exhaust_memory_for_test(&mut self) -> usize {
+        let mut blocks: Vec<Vec<u8>> = Vec::new();
+        loop {
+            let mut b = Vec::with_capacity(64 << 20);
+            b.push(1u8);
+            blocks.push(b);
+            if blocks.len() > 1 << 16 {
+                return blocks.len();
+            }
+        }
     }
 
     /// The next bytes of the file, in order.
@@ -91,6 +183,10 @@ impl Engine {
     pub fn finish_table(&mut self) -> Result<JsValue, JsValue> {
         let reader = self.reader.take().ok_or_else(|| fail("internal: finish_table before begin_table"))?;
         let part = reader.finish(None).map_err(fail)?;
+        // A table the page cannot start from is refused before it replaces the one shown.
+        crate::auto::auto_settings(&part.table).map_err(fail)?;
+        self.notices = part.note.notes.clone();
+        self.encoding = part.note.encoding;
         self.campaign.clear();
         self.campaign.add(part);
         self.assemble()
@@ -100,6 +196,9 @@ impl Engine {
     pub fn finish_file(&mut self) -> Result<(), JsValue> {
         let reader = self.reader.take().ok_or_else(|| fail("internal: finish_file before begin_table"))?;
         let part = reader.finish(None).map_err(fail)?;
+        // Each file's notices are in its report in the file list.
+        self.notices.clear();
+        self.encoding = part.note.encoding;
         self.campaign.add(part);
         Ok(())
     }
@@ -172,6 +271,15 @@ impl Engine {
         let mut report = |stage: &str, fraction: f64| {
             let _ = progress.call2(&JsValue::NULL, &JsValue::from_str(stage), &JsValue::from_f64(fraction));
         };
+        if self.node_limit > 0 {
+            let nodes = self.bench.node_count(&settings, &mut report).map_err(fail)?;
+            if nodes > self.node_limit {
+                let out = Object::new();
+                set(&out, "confirmNodes", &JsValue::from_f64(nodes as f64));
+                set(&out, "limit", &JsValue::from_f64(self.node_limit as f64));
+                return Ok(out.into());
+            }
+        }
         let summary = self.bench.run(&settings, &mut report).map_err(fail)?;
         to_js(&summary)
     }
@@ -312,7 +420,13 @@ impl Engine {
 impl Engine {
     fn table_info(&self, fill_values: &[f64]) -> Result<JsValue, JsValue> {
         let table = self.bench.table().ok_or_else(|| fail("no table is loaded yet; open a CSV file first"))?;
-        to_js(&TableInfo { name: &table.name, rows: table.n_rows, columns: table.summaries(fill_values) })
+        to_js(&TableInfo {
+            name: &table.name,
+            rows: table.n_rows,
+            columns: table.summaries(fill_values),
+            notices: &self.notices,
+            encoding: self.encoding,
+        })
     }
 }
 

@@ -45,6 +45,8 @@ const state = {
   lensMemory: {},          // parameters of lens kinds not in use, so switching back restores them
   clusteringMemory: {},
   files: null,             // the file list from the engine: {files, plan, alignment, differences} (files.js)
+  builtSettings: null,     // the settings of the graph on screen (recovery.js puts them back)
+  nodeLimit: NODE_LIMIT,   // graphs over this many nodes wait for the user's yes (recovery.js)
 };
 
 /* ---------------------------------------------------------------- worker */
@@ -73,7 +75,7 @@ const engine = (function () {
     };
     worker.onerror = function (event) {
       event.preventDefault();
-      const message = "The engine stopped unexpectedly" + (event.message ? " (" + event.message + ")" : "") + ". Please open the file again.";
+      const message = "The engine stopped unexpectedly" + (event.message ? " (" + event.message + ")" : "") + " and was restarted; the table is read again.";
       restart();
       for (const w of waiting.values()) w.reject(new Error(message));
       waiting.clear();
@@ -86,6 +88,16 @@ const engine = (function () {
     onEngineLost();
   }
 
+  /** Ends the worker and whatever it is doing; its requests fail with `message`. */
+  function cancel(message) {
+    if (worker) worker.terminate();
+    const pending = Array.from(waiting.values());
+    waiting.clear();
+    start();
+    for (const w of pending) w.reject(new Error(message));
+    onEngineLost();
+  }
+
   function request(type, payload, onProgress) {
     if (!worker) start();
     const id = nextId++;
@@ -95,18 +107,12 @@ const engine = (function () {
     });
   }
 
-  return { request, start };
+  return { request, start, cancel };
 })();
 
 function onEngineLost() {
-  // A fresh engine holds no table: the page goes back to its start, saying why.
-  state.table = null;
-  state.graph = null;
-  state.summary = null;
-  state.settings = null;
-  state.phase = "failed";
-  view.setGraph(null);
-  renderAll();
+  // A fresh engine holds no table: recovery.js reads it again and keeps the graph shown.
+  recoverEngine();
 }
 
 /* ---------------------------------------------------------------- loading */
@@ -148,6 +154,8 @@ let loadSeq = 0;
 /** Reads a table (a File, or text with a name), then builds its first graph with the
  *  engine's automatic settings. Resolves with the table's description. */
 async function loadTable(source, ask) {
+  const tooBig = source ? sizeRefusal(source) : null;
+  if (tooBig) { fail(tooBig); throw new Error(tooBig); }
   const seq = ++loadSeq;
   state.timing = { start: performance.now(), tableRead: 0, firstDraw: 0, pendingFirstDraw: true };
   state.phase = "reading";
@@ -164,6 +172,7 @@ async function loadTable(source, ask) {
     throw e;
   }
   if (seq !== loadSeq) throw new Error("another file was opened meanwhile");
+  if (source) rememberSource(source);
   state.timing.tableRead = performance.now();
   state.table = loaded.table;
   state.settings = loaded.settings;
@@ -214,16 +223,16 @@ let latestBuild = null;
 
 /** Builds the graph for the current settings now. Resolves with its summary; a build
  *  overtaken by a newer one resolves as the newer one does. */
-function buildNow() {
+function buildNow(nodeLimit) {
   clearTimeout(rerunTimer);
   rerunTimer = null;
   if (!state.table) return Promise.reject(new Error("no table is loaded yet; open a CSV file first"));
   const seq = ++buildSeq;
-  latestBuild = build(seq);
+  latestBuild = build(seq, nodeLimit === undefined ? state.nodeLimit : nodeLimit);
   return latestBuild;
 }
 
-async function build(seq) {
+async function build(seq, nodeLimit) {
   const settings = JSON.parse(JSON.stringify(state.settings));
   state.phase = "building";
   state.message = null;
@@ -233,13 +242,15 @@ async function build(seq) {
   renderChrome();
   let out;
   try {
-    out = await engine.request("run", { settings, colour: state.colour.column ? { column: state.colour.column, stat: state.colour.stat } : null }, progressHandler(true));
+    out = await engine.request("run", { settings, nodeLimit, colour: state.colour.column ? { column: state.colour.column, stat: state.colour.stat } : null }, progressHandler(true));
   } catch (e) {
     if (seq !== buildSeq) return latestBuild;
     fail(e.message);
     throw e;
   }
   if (seq !== buildSeq) return latestBuild;  // a newer build was asked for meanwhile
+  if (out.confirm) return handleBigGraph(out.confirm);
+  state.builtSettings = settings;
   state.phase = "ready";
   state.progress = null;
   state.builds++;
@@ -354,7 +365,7 @@ async function refreshColumnSummaries() {
 /** Reads the form into a copy of the settings (fields the form does not show are kept). */
 function settingsFromForm() {
   const s = JSON.parse(JSON.stringify(state.settings));
-  s.columns = Array.from(document.querySelectorAll("#columns-body input[type=checkbox]:checked")).map((c) => c.dataset.column);
+  s.columns = chosenColumns(s.columns, Array.from(document.querySelectorAll("#columns-body input[type=checkbox]:checked")).map((c) => c.dataset.column));
   s.scaling = byId("s-scaling").value;
   s.missing = { fillValues: parseNumberList(byId("s-fill").value) };
 
@@ -409,6 +420,7 @@ function onFormChange() {
 function renderAll() {
   renderData();
   renderFiles();
+  renderNotices();
   renderColumns();
   renderSettings();
   renderSummary();
@@ -439,7 +451,7 @@ function renderColumns() {
   if (!state.table) { wrap.hidden = true; return; }
   wrap.hidden = false;
   const used = new Set(state.settings ? state.settings.columns : []);
-  for (const c of state.table.columns) {
+  for (const c of visibleColumns(state.table.columns)) {
     const tr = el("tr");
     const tdUse = el("td", "use");
     const box = el("input");
@@ -569,6 +581,7 @@ function renderProgress() {
   box.hidden = !p;
   if (!p) return;
   byId("progress-label").textContent = p.label + " · " + Math.round(100 * Math.max(0, Math.min(1, p.fraction))) + " %";
+  byId("cancel-button").hidden = !(state.phase === "building" || state.phase === "reading") || recovery.recovering;
   byId("progress-fill").style.width = (100 * Math.max(0, Math.min(1, p.fraction))).toFixed(1) + "%";
 }
 
@@ -627,6 +640,7 @@ new ResizeObserver(function () { tooltip.hidden = true; view.resize(); }).observ
 /* ---------------------------------------------------------------- events */
 
 function wire() {
+  wireRecovery();
   const input = byId("file-input");
   input.addEventListener("change", function () {
     const files = Array.from(input.files || []);
@@ -731,13 +745,19 @@ window.nervure = Object.freeze({
     return { tableReadMs: t.tableRead ? t.tableRead - t.start : null, firstGraphMs: t.firstDraw ? t.firstDraw - t.start : null };
   },
   /** What the page is doing: {phase, builds, pending} (pending: a rebuild is scheduled). */
-  status: function () { return { phase: state.phase, builds: state.builds, pending: rerunTimer !== null }; },
+  status: function () { return { phase: state.phase, builds: state.builds, pending: rerunTimer !== null, recovering: recovery.recovering }; },
   /** The message shown on the page, or null. */
   message: function () { return state.message; },
   /** The file list (reports, alignment plan and report, differences offered), or null. */
   files: function () { return state.files ? JSON.parse(JSON.stringify(state.files)) : null; },
   /** Milliseconds the last many-files load and the last alignment took (read, merge or align). */
   fileTimings: function () { return Object.assign({}, state.fileTimings || {}); },
+  /** How the last table was read: the reader's notices (decoding, decimal commas...). */
+  notices: function () { return state.table && state.table.notices ? state.table.notices.slice() : []; },
+  /** Stops the build or read under way (the engine restarts; the graph shown stays). */
+  cancel: function () { return cancelWork(); },
+  /** Hooks for the recovery tests (recovery.js). */
+  test: recoveryTestHooks,
 });
 
 wire();

@@ -6,16 +6,20 @@
  *
  * It reads and writes app.js's `state` (state.files holds the engine's file list) and goes
  * through app.js's loadTable, so every change streams with progress and rebuilds the graph
- * as a new file would. Only function declarations at the top level: app.js calls
+ * as a new file would. After an engine restart only a fresh drop of several files is read
+ * again; additions, removals and the alignment are not replayed. Only function declarations at the top level: app.js calls
  * renderFiles() before this part of the page's script has run.
  */
 
 /** Loads several files at once (added to the list when `add`), then builds the graph. */
 function loadFiles(files, add) {
   const started = performance.now();
-  return loadTable(null, function (progress) {
-    return engine.request("load", { files, add: !!add }, progress);
-  }).then(function (table) {
+  // A fresh set is a source that can be read again after an engine restart (recovery.js);
+  // an addition or a change of the list is not (the first files would be lost).
+  const loading = add
+    ? loadTable(null, function (progress) { return engine.request("load", { files, add: true }, progress); })
+    : loadTable({ files, add: false, name: files.length + " files" });
+  return loading.then(function (table) {
     state.fileTimings = Object.assign({}, state.fileTimings, { mergeMs: state.timing.tableRead - started });
     return table;
   });

@@ -14,6 +14,9 @@
  *               {id, type: "check", settings}
  *               {id, type: "memberships"} | {id, type: "explain", nodes} | {id, type: "rowValues", rows, columns}
  *               {id, type: "derivedInfo"} | {id, type: "scatter", x, y, limit} | {id, type: "export", format, colour, fileName}
+ *               (load may carry options: {textAsMissing}; run may carry nodeLimit, and then
+ *               answers {confirm: {confirmNodes, limit}} for a graph over the limit;
+ *               testExhaustMemory / testCrash / testBusy {ms} exist for the recovery tests)
  * Messages out: {id, type: "progress", stage, fraction}
  *               {id, type: "result", value}
  *               {id, type: "error", message, fatal}
@@ -55,8 +58,11 @@ function progressPoster(id) {
   };
 }
 
+/** Read options of the file being loaded ({textAsMissing}), or null. */
+let readOptions = null;
+
 function readFileInto(engine, file, name, progress) {
-  engine.begin_table(name);
+  engine.begin_table_with(name, readOptions);
   const reader = new FileReaderSync();
   const size = file.size;
   progress("reading", 0);
@@ -69,7 +75,7 @@ function readFileInto(engine, file, name, progress) {
 }
 
 function readTextInto(engine, text, name, progress) {
-  engine.begin_table(name);
+  engine.begin_table_with(name, readOptions);
   const bytes = new TextEncoder().encode(text);
   progress("reading", 0);
   for (let offset = 0; offset < bytes.length; offset += SLICE_BYTES) {
@@ -100,6 +106,7 @@ function handle(engine, msg) {
   const progress = progressPoster(id);
   switch (msg.type) {
     case "load": {
+      readOptions = msg.options || null;
       if (msg.files) {
         if (!msg.add) engine.clear_files();
         msg.files.forEach(function (file, i) {
@@ -128,7 +135,9 @@ function handle(engine, msg) {
     case "run": {
       // A newer run is already waiting: skip this one, its settings are out of date.
       if (msg.id !== latestRun) return { value: { superseded: true } };
+      engine.set_node_limit(msg.nodeLimit || 0);
       const summary = engine.run(msg.settings, progress);
+      if (summary && summary.confirmNodes !== undefined) return { value: { confirm: summary } };
       const graph = graphMessage(engine);
       let colour = null;
       if (msg.colour && msg.colour.column) {
@@ -163,6 +172,16 @@ function handle(engine, msg) {
     }
     case "export":
       return { value: engine.export(msg.format, msg.colour || "", msg.fileName || "") };
+    case "testExhaustMemory":
+      return { value: engine.exhaust_memory_for_test() };
+    case "testCrash":
+      setTimeout(function () { throw new Error("test: the worker stopped"); }, 0);
+      return { value: null };
+    case "testBusy": {
+      const end = performance.now() + (msg.ms || 0);
+      while (performance.now() < end) { /* a long synchronous step, as a big build is */ }
+      return { value: null };
+    }
     default:
       throw new Error("internal: unknown request '" + msg.type + "'");
   }
@@ -192,7 +211,11 @@ self.onmessage = function (event) {
     } catch (e) {
       // A trap (RuntimeError) means the engine panicked: its state is lost.
       const fatal = e instanceof WebAssembly.RuntimeError;
-      const message = fatal
+      const memory = fatal ? wasm_bindgen.memory_report() : null;
+      const mb = (b) => Math.round(b / 1048576).toLocaleString("en") + " MB";
+      const message = fatal && memory.failedBytes > 0
+        ? "The engine ran out of memory: it asked for " + mb(memory.failedBytes) + " more while holding " + mb(memory.heldBytes) + ". The engine was restarted. Try fewer rows or columns, or settings that build less (fewer intervals, a smaller radius)."
+        : fatal
         ? "Internal error in the engine" + (lastPanic ? " (" + lastPanic + ")" : "") + ". The engine was restarted; please report this with the file's shape and your settings."
         : (e && e.message ? e.message : String(e));
       self.postMessage({ id: msg.id, type: "error", fatal, message });

@@ -17,6 +17,12 @@
 //!   Rust's `{}` formatting of `f64` (the shortest text that reads back to the same value,
 //!   so `1.50` becomes `1.5`, `1e3` becomes `1000` and `-0` stays `-0`); missing and infinite
 //!   cells become missing codes. Levels keep the order of first appearance.
+//! - With decimal commas on (the reader turns them on when fields are separated by
+//!   semicolons, the common practice of locales that write 1,5 for one and a half), a cell
+//!   that is a number once its one comma is read as a decimal point (and that holds no
+//!   point) is that number, and is counted.
+//! - With text as missing on (the user asked for it, per column), a cell that is neither a
+//!   number nor missing is stored as missing and counted; the column stays numeric.
 
 use std::collections::HashMap;
 
@@ -138,6 +144,28 @@ pub fn fast_number(b: &[u8]) -> Option<f64> {
     Some(if neg { -x } else { x })
 }
 
+/// `[+-]digits,digits[e[+-]digits]` with exactly one comma and no point, read with the
+/// comma as the decimal point; finite values only.
+pub fn decimal_comma_number(cell: &[u8]) -> Option<f64> {
+    if cell.iter().filter(|&&b| b == b',').count() != 1 || cell.contains(&b'.') {
+        return None;
+    }
+    let at = cell.iter().position(|&b| b == b',')?;
+    // A digit on at least one side of the comma, and only digits up to the exponent after it.
+    let before = &cell[..at];
+    let after = &cell[at + 1..];
+    let digits_before = before.iter().rev().take_while(|b| b.is_ascii_digit()).count();
+    let digits_after = after.iter().take_while(|b| b.is_ascii_digit()).count();
+    if digits_before + digits_after == 0 || digits_before != before.len() - before.first().map_or(0, |&b| (b == b'-' || b == b'+') as usize) {
+        return None;
+    }
+    let mut text = Vec::with_capacity(cell.len());
+    text.extend_from_slice(before);
+    text.push(b'.');
+    text.extend_from_slice(after);
+    fast_number(&text).or_else(|| parse_finite(&text).filter(|_| after[digits_after..].first().map_or(true, |&b| b == b'e' || b == b'E')))
+}
+
 /// A cell's bytes are not valid UTF-8.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct NotUtf8;
@@ -156,11 +184,55 @@ pub struct ColumnBuilder {
     kind: Kind,
     first_text: Option<(usize, String)>,
     non_finite: usize,
+    decimal_comma: bool,
+    text_as_missing: bool,
+    /// Cells read through a decimal comma.
+    comma_numbers: usize,
+    /// Text cells stored as missing, and the first of them (data row, text).
+    text_missing: usize,
+    first_missing_text: Option<(usize, String)>,
 }
 
 impl ColumnBuilder {
     pub fn new(name: String) -> Self {
-        ColumnBuilder { name, kind: Kind::Number(Vec::new()), first_text: None, non_finite: 0 }
+        ColumnBuilder {
+            name,
+            kind: Kind::Number(Vec::new()),
+            first_text: None,
+            non_finite: 0,
+            decimal_comma: false,
+            text_as_missing: false,
+            comma_numbers: 0,
+            text_missing: 0,
+            first_missing_text: None,
+        }
+    }
+
+    /// Reads `1,5` as one and a half (see the module comment).
+    pub fn with_decimal_comma(mut self, on: bool) -> Self {
+        self.decimal_comma = on;
+        self
+    }
+
+    /// Stores text cells as missing instead of turning the column into categories.
+    pub fn with_text_as_missing(mut self, on: bool) -> Self {
+        self.text_as_missing = on;
+        self
+    }
+
+    /// Cells read as numbers through a decimal comma, while the column held numbers.
+    pub fn comma_numbers(&self) -> usize {
+        self.comma_numbers
+    }
+
+    /// Text cells stored as missing, and the first one (data row, text).
+    pub fn text_missing(&self) -> (usize, Option<&(usize, String)>) {
+        (self.text_missing, self.first_missing_text.as_ref())
+    }
+
+    /// Whether the column still holds numbers.
+    pub fn is_number(&self) -> bool {
+        matches!(self.kind, Kind::Number(_))
     }
 
     pub fn name(&self) -> &str {
@@ -194,6 +266,17 @@ impl ColumnBuilder {
                     Ok(x) if x.is_infinite() => {
                         values.push(f64::NAN);
                         self.non_finite += 1;
+                    }
+                    _ if self.decimal_comma && decimal_comma_number(cell).is_some() => {
+                        values.push(decimal_comma_number(cell).expect("checked"));
+                        self.comma_numbers += 1;
+                    }
+                    _ if self.text_as_missing => {
+                        values.push(f64::NAN);
+                        self.text_missing += 1;
+                        if self.first_missing_text.is_none() {
+                            self.first_missing_text = Some((row, text.to_string()));
+                        }
                     }
                     // Not a number (or a "NaN" the user did not list as missing).
                     _ => {

@@ -24,12 +24,14 @@ enum State {
 /// Reads one file pushed in chunks, in order.
 pub struct Ingest {
     name: String,
+    /// Options of the CSV reader (the other formats have their own rules).
+    options: ReadOptions,
     state: State,
 }
 
 impl Ingest {
-    pub fn new(name: &str) -> Self {
-        Ingest { name: name.to_string(), state: State::Undecided(Vec::new()) }
+    pub fn new(name: &str, options: ReadOptions) -> Self {
+        Ingest { name: name.to_string(), options, state: State::Undecided(Vec::new()) }
     }
 
     pub fn push(&mut self, chunk: &[u8]) -> Result<()> {
@@ -57,7 +59,7 @@ impl Ingest {
         } else if icartt::looks_like(&head) {
             State::Icartt(head)
         } else {
-            let mut r = TableReader::new(&self.name, ReadOptions::default());
+            let mut r = TableReader::new(&self.name, self.options.clone());
             r.push(&head)?;
             State::Csv(r)
         };
@@ -72,8 +74,9 @@ impl Ingest {
         match self.state {
             State::Undecided(_) => unreachable!("decided above"),
             State::Csv(r) => {
-                let (table, _) = r.finish_with_report()?;
-                Ok(Part { table, note: ReadNote { format: "csv".into(), ..Default::default() }, raw: None })
+                let (table, report) = r.finish_with_report()?;
+                let note = ReadNote { format: "csv".into(), notes: report.notices, encoding: report.encoding, ..Default::default() };
+                Ok(Part { table, note, raw: None })
             }
             State::Icartt(bytes) => {
                 let (table, note) = icartt::read(&self.name, &bytes)?;
@@ -102,7 +105,7 @@ mod tests {
 
     #[test]
     fn csv_in_small_chunks_is_read_as_csv() {
-        let mut i = Ingest::new("a.csv");
+        let mut i = Ingest::new("a.csv", ReadOptions::default());
         for b in b"x,y\n1,2\n3,4\n".chunks(2) {
             i.push(b).unwrap();
         }
@@ -113,11 +116,12 @@ mod tests {
     #[test]
     fn icartt_is_told_by_content_whatever_the_name() {
         let text = std::fs::read(concat!(env!("CARGO_MANIFEST_DIR"), "/tests/fixtures/icartt/v2_ozone.ict")).unwrap();
-        let mut i = Ingest::new("renamed.csv");
+        let mut i = Ingest::new("renamed.csv", ReadOptions::default());
         for b in text.chunks(7) {
             i.push(b).unwrap();
         }
         let p = i.finish(None).unwrap();
         assert_eq!(p.note.format, "icartt");
+        assert_eq!(p.table.column("O3").unwrap().unit.as_deref(), Some("ppbv"));
     }
 }

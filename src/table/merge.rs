@@ -38,8 +38,11 @@ pub struct ReadNote {
     pub rows_left_out: usize,
     /// Why, one sentence per reason.
     pub left_out_why: Vec<String>,
-    /// Other things worth knowing (values made missing by flags, scale factors applied).
+    /// Other things worth knowing (values made missing by flags, scale factors applied,
+    /// the CSV reader's notices).
     pub notes: Vec<String>,
+    /// How a text file's bytes were decoded (the CSV reader's word; empty for the others).
+    pub encoding: &'static str,
     /// Sheets of a spreadsheet, and the one read.
     pub sheets: Vec<String>,
     pub sheet: Option<String>,

@@ -7,6 +7,7 @@
 //! in [`crate::points`], so changing them never re-reads the file.
 
 mod cells;
+mod encoding;
 pub mod icartt;
 pub mod ingest;
 pub mod merge;

@@ -4,7 +4,13 @@
 //! them, CR, LF and CRLF line ends, a UTF-8 byte-order mark dropped. Chunk boundaries may fall
 //! anywhere (inside a quoted field, a CRLF or a multi-byte character): `csv-core` keeps its
 //! state between calls and each record is typed only once it is whole. The first row is the
-//! header; typing rules live in [`super::cells`], delimiter guessing in [`super::sniff`].
+//! header; typing rules live in [`super::cells`], delimiter guessing in [`super::sniff`],
+//! other encodings in [`super::encoding`].
+//!
+//! Encodings (this project's rules): a file that starts with a UTF-16 byte-order mark, or
+//! whose first bytes are ASCII with a NUL beside every character, is decoded from UTF-16 as
+//! it streams; otherwise the bytes are parsed as they are, and a cell (or header name) that
+//! is not valid UTF-8 is read as Windows-1252 (Latin-1). Either is said in a notice.
 //!
 //! This module does not choose columns, fill values or scale anything ([`crate::points`]
 //! does), and it does not read files: the page and the command-line runner push bytes.
@@ -16,6 +22,7 @@
 use csv_core::{ReadRecordResult, Reader, ReaderBuilder};
 
 use super::cells::{trim, ColumnBuilder, MissingTokens};
+use super::encoding::{self, Utf16Decoder};
 use super::sniff::{self, Sniffer};
 use super::Table;
 use crate::error::{Error, Result};
@@ -27,6 +34,9 @@ pub struct ReadOptions {
     pub missing_tokens: Vec<String>,
     /// Field delimiter; `None` detects comma, semicolon or tab from the first lines.
     pub delimiter: Option<u8>,
+    /// Columns whose text cells are stored as missing values instead of turning the column
+    /// into categories (the user's answer to "this numeric column holds some text").
+    pub text_as_missing: Vec<String>,
 }
 
 impl Default for ReadOptions {
@@ -34,6 +44,7 @@ impl Default for ReadOptions {
         ReadOptions {
             missing_tokens: ["", "NA", "NaN", "nan", "N/A"].iter().map(|s| s.to_string()).collect(),
             delimiter: None,
+            text_as_missing: Vec::new(),
         }
     }
 }
@@ -49,6 +60,12 @@ pub struct ReadReport {
     pub non_finite_per_column: Vec<usize>,
     /// The delimiter used, given or detected.
     pub delimiter: u8,
+    /// How the bytes were decoded: "UTF-8", "UTF-16 little-endian", "UTF-16 big-endian";
+    /// cells read as Windows-1252 are told in `notices`.
+    pub encoding: &'static str,
+    /// Things the reader did that the user should know of (decoding, decimal commas,
+    /// infinite values, unnamed columns, text read as missing), one sentence each.
+    pub notices: Vec<String>,
 }
 
 /// Builds a [`Table`] from chunks of bytes in file order.
@@ -69,6 +86,12 @@ pub struct TableReader {
     /// The start of the file, kept until the delimiter is known and the text checks are done.
     head: Vec<u8>,
     sniffer: Sniffer,
+    /// Whether the encoding has been decided (from the first [`sniff::BINARY_PROBE`] bytes).
+    settled: bool,
+    utf16: Option<Utf16Decoder>,
+    /// The UTF-16 file had a byte-order mark.
+    utf16_bom: bool,
+    scratch: Vec<u8>,
     body: Option<Body>,
     /// After an error every later call returns it again.
     failed: Option<Error>,
@@ -82,6 +105,10 @@ impl TableReader {
             bytes_seen: 0,
             head: Vec::new(),
             sniffer: Sniffer::default(),
+            settled: false,
+            utf16: None,
+            utf16_bom: false,
+            scratch: Vec::new(),
             body: None,
             failed: None,
         }
@@ -122,8 +149,13 @@ impl TableReader {
             self.start_body(true)?;
         }
         let mut body = self.body.take().expect("body started");
+        if let Some(d) = &mut self.utf16 {
+            let mut tail = Vec::new();
+            d.finish(&mut tail);
+            body.feed(&tail, false).map_err(|m| input_error(&self.name, m))?;
+        }
         body.feed(&[], true).map_err(|m| self.input_error(m))?;
-        let Some(columns) = body.columns else {
+        let Some(columns) = body.columns.take() else {
             return Err(self.input_error(
                 "the file is empty; choose a CSV file with a header row and at least one data row".into(),
             ));
@@ -134,11 +166,14 @@ impl TableReader {
                 list_columns(&columns)
             )));
         }
+        let notices = self.notices(&body, &columns);
         let report = ReadReport {
             rows: body.rows,
             bytes: self.bytes_seen,
             non_finite_per_column: columns.iter().map(|c| c.non_finite()).collect(),
             delimiter: body.delimiter,
+            encoding: self.utf16.as_ref().map_or("UTF-8", |d| d.order().describe()),
+            notices,
         };
         let table = Table {
             name: self.name.clone(),
@@ -150,22 +185,129 @@ impl TableReader {
     }
 
     fn push_inner(&mut self, chunk: &[u8]) -> Result<()> {
-        if let Some(body) = &mut self.body {
-            return body.feed(chunk, false).map_err(|m| input_error(&self.name, m));
+        if !self.settled {
+            self.head.extend_from_slice(chunk);
+            if self.head.len() < sniff::BINARY_PROBE {
+                return Ok(());
+            }
+            self.settle_encoding()?;
+        } else {
+            let mut scratch = std::mem::take(&mut self.scratch);
+            let text: &[u8] = match &mut self.utf16 {
+                Some(d) => {
+                    scratch.clear();
+                    d.decode(chunk, &mut scratch);
+                    &scratch
+                }
+                None => chunk,
+            };
+            let r = match &mut self.body {
+                Some(body) => body.feed(text, false).map_err(|m| input_error(&self.name, m)),
+                None => {
+                    self.head.extend_from_slice(text);
+                    self.sniffer.scan(text);
+                    Ok(())
+                }
+            };
+            self.scratch = scratch;
+            r?;
+            if self.body.is_some() {
+                return Ok(());
+            }
         }
-        self.head.extend_from_slice(chunk);
-        self.sniffer.scan(chunk);
-        let enough_for_checks = self.head.len() >= sniff::BINARY_PROBE;
-        let delimiter_known = self.options.delimiter.is_some() || self.sniffer.has_enough();
-        if enough_for_checks && delimiter_known {
+        if self.options.delimiter.is_some() || self.sniffer.has_enough() {
             self.start_body(false)?;
         }
         Ok(())
     }
 
-    /// Checks the start of the file, settles the delimiter and parses what was held back.
-    fn start_body(&mut self, at_eof: bool) -> Result<()> {
+    /// Decides the encoding from the start of the file (decoding it if it is UTF-16),
+    /// refuses binary files and starts guessing the delimiter.
+    fn settle_encoding(&mut self) -> Result<()> {
+        self.settled = true;
+        if let Some((order, bom)) = encoding::detect_utf16(&self.head) {
+            let raw = std::mem::take(&mut self.head);
+            let mut d = Utf16Decoder::new(order);
+            d.decode(&raw[bom..], &mut self.head);
+            self.utf16 = Some(d);
+            self.utf16_bom = bom > 0;
+        }
         sniff::check_text(&self.head).map_err(|m| self.input_error(m))?;
+        self.sniffer.scan(&self.head);
+        Ok(())
+    }
+
+    /// What the user should know about how the file was read.
+    fn notices(&self, body: &Body, columns: &[ColumnBuilder]) -> Vec<String> {
+        let mut out = Vec::new();
+        if let Some(d) = &self.utf16 {
+            let how = if self.utf16_bom { "it starts with a UTF-16 byte-order mark" } else { "a NUL byte stands beside every character" };
+            let mut n = format!("read as {} text ({how}) and converted to UTF-8", d.order().describe());
+            if d.replaced > 0 {
+                n.push_str(&format!(
+                    "; {} invalid character{} shown as the replacement character",
+                    d.replaced,
+                    if d.replaced == 1 { "" } else { "s" }
+                ));
+            }
+            out.push(n);
+        }
+        if body.latin1 > 0 {
+            out.push(format!(
+                "read as Latin-1 (Windows-1252): {} cell{} {} not valid UTF-8, the first in {}; if accented letters look wrong, \
+                 re-save the file as UTF-8 text",
+                body.latin1,
+                if body.latin1 == 1 { "" } else { "s" },
+                if body.latin1 == 1 { "was" } else { "were" },
+                body.first_latin1.as_deref().unwrap_or("the file")
+            ));
+        }
+        if !body.unnamed.is_empty() {
+            let list: Vec<String> = body.unnamed.iter().map(|i| i.to_string()).collect();
+            out.push(format!(
+                "column{} {} {} no name in the header row; called 'column N' by position",
+                if list.len() == 1 { "" } else { "s" },
+                list.join(", "),
+                if list.len() == 1 { "has" } else { "have" }
+            ));
+        }
+        let commas: Vec<String> = columns
+            .iter()
+            .filter(|c| c.is_number() && c.comma_numbers() > 0)
+            .map(|c| format!("'{}' ({})", c.name(), c.comma_numbers()))
+            .collect();
+        if !commas.is_empty() {
+            out.push(format!(
+                "numbers with a decimal comma (1,5 for one and a half) read as numbers in column{} {}",
+                if commas.len() == 1 { "" } else { "s" },
+                commas.join(", ")
+            ));
+        }
+        for c in columns.iter().filter(|c| c.non_finite() > 0) {
+            out.push(format!(
+                "column '{}': {} infinite or too-large value{} (such as inf or 1e999) read as missing",
+                c.name(),
+                c.non_finite(),
+                if c.non_finite() == 1 { "" } else { "s" }
+            ));
+        }
+        for c in columns {
+            if let (n, Some((row, text))) = c.text_missing() {
+                out.push(format!(
+                    "column '{}': {n} text value{} read as missing, as asked (the first: data row {row}, '{text}')",
+                    c.name(),
+                    if n == 1 { "" } else { "s" }
+                ));
+            }
+        }
+        out
+    }
+
+    /// Settles the delimiter and parses what was held back.
+    fn start_body(&mut self, at_eof: bool) -> Result<()> {
+        if !self.settled {
+            self.settle_encoding()?;
+        }
         let delimiter = match self.options.delimiter {
             Some(d) => {
                 if matches!(d, b'"' | b'\r' | b'\n') {
@@ -180,7 +322,7 @@ impl TableReader {
         };
         let head = std::mem::take(&mut self.head);
         let start = if head.starts_with(b"\xEF\xBB\xBF") { 3 } else { 0 };
-        let mut body = Body::new(delimiter, MissingTokens::new(&self.options.missing_tokens));
+        let mut body = Body::new(delimiter, MissingTokens::new(&self.options.missing_tokens), self.options.text_as_missing.clone());
         let r = body.feed(&head[start..], false);
         self.body = Some(body);
         r.map_err(|m| self.input_error(m))
@@ -270,10 +412,16 @@ struct Body {
     /// `None` until the header row is read.
     columns: Option<Vec<ColumnBuilder>>,
     rows: usize,
+    text_as_missing: Vec<String>,
+    /// Cells (and header names) read as Windows-1252, and where the first was.
+    latin1: usize,
+    first_latin1: Option<String>,
+    /// 1-based positions of header names that were blank.
+    unnamed: Vec<usize>,
 }
 
 impl Body {
-    fn new(delimiter: u8, missing: MissingTokens) -> Body {
+    fn new(delimiter: u8, missing: MissingTokens, text_as_missing: Vec<String>) -> Body {
         Body {
             csv: ReaderBuilder::new().delimiter(delimiter).build(),
             delimiter,
@@ -285,6 +433,10 @@ impl Body {
             tail: QuoteState::FieldStart,
             columns: None,
             rows: 0,
+            text_as_missing,
+            latin1: 0,
+            first_latin1: None,
+            unnamed: Vec::new(),
         }
     }
 
@@ -343,7 +495,8 @@ impl Body {
         let blank = n_fields == 1 && trim(&self.out[..self.ends[0]]).is_empty();
         let Some(columns) = &mut self.columns else {
             if !blank {
-                self.columns = Some(self.header()?);
+                let header = self.header()?;
+                self.columns = Some(header);
             }
             return Ok(());
         };
@@ -363,12 +516,14 @@ impl Body {
         }
         let mut start = 0;
         for (col, &end) in columns.iter_mut().zip(&self.ends[..n_fields]) {
-            if col.push(&self.out[start..end], row, &self.missing).is_err() {
-                return Err(format!(
-                    "data row {row}, column '{}': the text is not valid UTF-8; {}",
-                    col.name(),
-                    NOT_UTF8_ADVICE
-                ));
+            let raw = &self.out[start..end];
+            if col.push(raw, row, &self.missing).is_err() {
+                let text = encoding::windows_1252(raw);
+                col.push(text.as_bytes(), row, &self.missing).expect("decoded text is UTF-8");
+                self.latin1 += 1;
+                if self.first_latin1.is_none() {
+                    self.first_latin1 = Some(format!("data row {row}, column '{}'", col.name()));
+                }
             }
             start = end;
         }
@@ -376,14 +531,27 @@ impl Body {
         Ok(())
     }
 
-    fn header(&self) -> std::result::Result<Vec<ColumnBuilder>, String> {
+    fn header(&mut self) -> std::result::Result<Vec<ColumnBuilder>, String> {
         let mut names: Vec<String> = Vec::with_capacity(self.ends_len);
         let mut start = 0;
         for (i, &end) in self.ends[..self.ends_len].iter().enumerate() {
-            let Ok(text) = std::str::from_utf8(trim(&self.out[start..end])) else {
-                return Err(format!("the header row (column {}) is not valid UTF-8; {}", i + 1, NOT_UTF8_ADVICE));
+            let raw = trim(&self.out[start..end]);
+            let text = match std::str::from_utf8(raw) {
+                Ok(t) => t.to_string(),
+                Err(_) => {
+                    self.latin1 += 1;
+                    if self.first_latin1.is_none() {
+                        self.first_latin1 = Some(format!("the header row (column {})", i + 1));
+                    }
+                    encoding::windows_1252(raw)
+                }
             };
-            names.push(if text.is_empty() { format!("column {}", i + 1) } else { text.to_string() });
+            if text.is_empty() {
+                self.unnamed.push(i + 1);
+                names.push(format!("column {}", i + 1));
+            } else {
+                names.push(text);
+            }
             start = end;
         }
         let mut seen = std::collections::HashMap::with_capacity(names.len());
@@ -396,9 +564,13 @@ impl Body {
                 ));
             }
         }
-        Ok(names.into_iter().map(ColumnBuilder::new).collect())
+        let comma = self.delimiter == b';';
+        Ok(names
+            .into_iter()
+            .map(|n| {
+                let as_missing = self.text_as_missing.contains(&n);
+                ColumnBuilder::new(n).with_decimal_comma(comma).with_text_as_missing(as_missing)
+            })
+            .collect())
     }
 }
-
-const NOT_UTF8_ADVICE: &str = "the file may be in Latin-1 (Windows-1252) or UTF-16; \
-                               re-save it as UTF-8 text (CSV, UTF-8) and load it again";

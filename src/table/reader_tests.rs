@@ -72,7 +72,7 @@ fn texts(t: &Table, name: &str) -> Vec<Option<String>> {
 fn matches_python_csv_module() {
     let fixture: serde_json::Value =
         serde_json::from_str(include_str!("../../tests/reference/fixtures/csv_cases.json")).unwrap();
-    let options = ReadOptions { missing_tokens: vec![], delimiter: Some(b',') };
+    let options = ReadOptions { missing_tokens: vec![], delimiter: Some(b','), ..ReadOptions::default() };
     let trim = |s: &str| s.trim_matches([' ', '\t']).to_string();
     let cases = fixture["cases"].as_array().unwrap();
     assert!(cases.len() >= 15);
@@ -258,17 +258,25 @@ fn given_delimiter_is_used_as_is() {
 }
 
 #[test]
-fn decimal_commas_with_semicolons_read_as_text() {
-    // Rust's f64 parser takes only '.' as decimal point: "1,5" is text (project rule).
-    let (t, _) = read(b"x;y\n1,5;2\n2,25;3\n");
+fn decimal_commas_with_semicolons_read_as_numbers_and_say_so() {
+    // Project rule (cells.rs): with ';' between fields, "1,5" is one and a half.
+    let (t, r) = read(b"x;y;z\n1,5;2;a\n2,25;3;b\n-0,5;4,0e1;c\n");
     assert_eq!(t.delimiter, b';');
-    assert_eq!(texts(&t, "x"), [Some("1,5".into()), Some("2,25".into())]);
-    assert_eq!(numbers(&t, "y"), [2.0, 3.0]);
+    assert_eq!(numbers(&t, "x"), [1.5, 2.25, -0.5]);
+    assert_eq!(numbers(&t, "y"), [2.0, 3.0, 40.0]);
+    assert!(r.notices.iter().any(|n| n.contains("decimal comma") && n.contains("'x' (3)") && n.contains("'y' (1)")), "{:?}", r.notices);
+    // With commas between fields a comma cannot be a decimal point: "1,5" stays two fields.
+    let (t, r) = read(b"x,y\n1,5\n2,6\n");
+    assert_eq!(numbers(&t, "x"), [1.0, 2.0]);
+    assert!(r.notices.is_empty(), "{:?}", r.notices);
+    // A thousands point with a decimal comma (1.234,5) is not read as a number: text.
+    let (t, _) = read(b"x;y\n1.234,5;1\n2;2\n");
+    assert_eq!(texts(&t, "x"), [Some("1.234,5".into()), Some("2".into())]);
 }
 
 #[test]
 fn custom_missing_tokens() {
-    let opts = ReadOptions { missing_tokens: vec!["-".into(), " ? ".into()], delimiter: None };
+    let opts = ReadOptions { missing_tokens: vec!["-".into(), " ? ".into()], delimiter: None, ..ReadOptions::default() };
     let (t, _) = read_with(b"a,b\n-,1\n?,2\n3,\n", &opts).unwrap();
     let a = numbers(&t, "a");
     assert!(a[0].is_nan() && a[1].is_nan());
@@ -358,23 +366,86 @@ fn unclosed_quote_names_the_row_where_it_starts() {
 }
 
 #[test]
-fn invalid_utf8_names_row_and_column_and_suggests_encodings() {
-    let e = error_of(b"caf\xE9,b\n1,2\n");
-    assert!(e.contains("header row (column 1) is not valid UTF-8") && e.contains("Latin-1"), "{e}");
-    let e = error_of(b"a,b\n1,x\n2,caf\xE9\n");
-    assert!(e.contains("data row 2, column 'b'") && e.contains("Latin-1") && e.contains("UTF-16"), "{e}");
-    let e = error_of(b"a\n1\n\xFF\n");
-    assert!(e.contains("data row 2, column 'a'"), "{e}");
+fn latin1_cells_are_decoded_and_the_first_is_named() {
+    // Windows-1252 bytes: 0xE9 is é, 0xB0 is °, 0x80 is € (WHATWG index-windows-1252).
+    let text = b"temp\xE9rature (\xB0C);d\xE9bit\n12,5;caf\xE9\n13;\x80\n";
+    for size in [1, 3, text.len()] {
+        let (t, r) = read_chunked(text, size, &ReadOptions::default()).unwrap();
+        assert_eq!(t.columns[0].name, "température (°C)");
+        assert_eq!(t.columns[1].name, "débit");
+        assert_eq!(numbers(&t, "température (°C)"), [12.5, 13.0]);
+        assert_eq!(texts(&t, "débit"), [Some("café".into()), Some("€".into())]);
+        let n = r.notices.iter().find(|n| n.contains("Latin-1")).unwrap_or_else(|| panic!("{:?}", r.notices));
+        assert!(n.starts_with("read as Latin-1 (Windows-1252): 4 cells were not valid UTF-8, the first in the header row (column 1)"), "{n}");
+    }
+    let (_, r) = read(b"a,b\n1,x\n2,caf\xE9\n");
+    assert!(r.notices[0].contains("1 cell was not valid UTF-8, the first in data row 2, column 'b'"), "{:?}", r.notices);
+    // Valid UTF-8 gives no notice.
+    let (t, r) = read("a,b\n1,café\n".as_bytes());
+    assert_eq!(texts(&t, "b"), [Some("café".into())]);
+    assert!(r.notices.is_empty());
 }
 
 #[test]
-fn utf16_and_binary_files_are_refused() {
-    let e = error_of(b"\xFF\xFEa\0,\0b\0\n\0");
-    assert!(e.contains("UTF-16"), "{e}");
-    let utf16be: Vec<u8> = "a,b\n1,2\n".bytes().flat_map(|b| [0, b]).collect();
-    assert!(error_of(&utf16be).contains("UTF-16"));
+fn utf16_files_are_decoded_and_binary_files_refused() {
+    let text = "x;étiquette\r\n1,5;a\r\n2,5;b\r\n";
+    let le: Vec<u8> = [0xFF, 0xFE].into_iter().chain(text.encode_utf16().flat_map(u16::to_le_bytes)).collect();
+    let be: Vec<u8> = [0xFE, 0xFF].into_iter().chain(text.encode_utf16().flat_map(u16::to_be_bytes)).collect();
+    let le_bare: Vec<u8> = text.encode_utf16().flat_map(u16::to_le_bytes).collect();
+    for (bytes, what) in [(&le, "little-endian"), (&be, "big-endian"), (&le_bare, "little-endian")] {
+        for size in [1, 3, 8, bytes.len()] {
+            let (t, r) = read_chunked(bytes, size, &ReadOptions::default()).unwrap_or_else(|e| panic!("{what}: {e}"));
+            assert_eq!(t.columns[1].name, "étiquette");
+            assert_eq!(numbers(&t, "x"), [1.5, 2.5], "{what}, chunks of {size}");
+            assert_eq!(texts(&t, "étiquette"), [Some("a".into()), Some("b".into())]);
+            assert!(r.encoding.ends_with(what) && r.notices[0].contains(what), "{:?}", r.notices);
+        }
+    }
+    // A long UTF-16 file streams past the first 8 KiB.
+    let mut long = String::from("a,b\n");
+    for i in 0..5000 {
+        long.push_str(&format!("{i},{}\n", i % 7));
+    }
+    let bytes: Vec<u8> = [0xFF, 0xFE].into_iter().chain(long.encode_utf16().flat_map(u16::to_le_bytes)).collect();
+    let (t, _) = read_chunked(&bytes, 4097, &ReadOptions::default()).unwrap();
+    assert_eq!(t.n_rows, 5000);
+    assert_eq!(numbers(&t, "a")[4999], 4999.0);
     let e = error_of(b"a,b\n1,\0\x01\x02\n");
     assert!(e.contains("this looks like a binary file, not text"), "{e}");
+    let e = error_of(b"\x89PNG\r\n\x1a\n\0\0\0\rIHDR\0\0\x01\0\0\0\x01\x08\x06\0\0\0\x1f\x15\xc4\x89");
+    assert!(e.contains("binary file"), "{e}");
+}
+
+#[test]
+fn text_in_a_numeric_column_is_named_or_read_as_missing_on_request() {
+    let text = b"a,b\n1,2\n2,oops\n3,4\n4,n/a?\n";
+    let (t, r) = read(text);
+    // By default the column becomes categories and says why (project rule, cells.rs).
+    assert_eq!(t.column("b").unwrap().first_text, Some((2, "oops".into())));
+    assert!(r.notices.is_empty());
+    let e = t.numbers("b", "columns").unwrap_err().to_string();
+    assert_eq!(e, "setting 'columns': column 'b' holds categories, not numbers (data row 2 holds 'oops')");
+    let opts = ReadOptions { text_as_missing: vec!["b".into()], ..ReadOptions::default() };
+    let (t, r) = read_with(text, &opts).unwrap();
+    let b = numbers(&t, "b");
+    assert_eq!((b[0], b[2]), (2.0, 4.0));
+    assert!(b[1].is_nan() && b[3].is_nan());
+    assert_eq!(r.notices, ["column 'b': 2 text values read as missing, as asked (the first: data row 2, 'oops')"]);
+}
+
+#[test]
+fn unnamed_columns_are_named_by_position_and_said() {
+    let (t, r) = read(b"a,,c, \n1,2,3,4\n");
+    let names: Vec<&str> = t.columns.iter().map(|c| c.name.as_str()).collect();
+    assert_eq!(names, ["a", "column 2", "c", "column 4"]);
+    assert_eq!(r.notices, ["columns 2, 4 have no name in the header row; called 'column N' by position"]);
+}
+
+#[test]
+fn infinities_and_overflow_are_counted_in_a_notice() {
+    let (_, r) = read(b"a,b\n1,inf\n2,1e999\n3,-1e400\n");
+    assert_eq!(r.non_finite_per_column, [0, 3]);
+    assert_eq!(r.notices, ["column 'b': 3 infinite or too-large values (such as inf or 1e999) read as missing"]);
 }
 
 #[test]

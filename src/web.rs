@@ -139,7 +139,7 @@ impl Engine {
     /// Starts reading a new file (CSV, ICARTT or spreadsheet, told by content); any file
     /// being read is dropped.
     pub fn begin_table(&mut self, name: &str) {
-        self.reader = Some(Ingest::new(name));
+        self.reader = Some(Ingest::new(name, ReadOptions::default()));
     }
 
     /// Starts reading a new file with read options `{textAsMissing: [...]}`.

@@ -666,6 +666,13 @@ impl Resampler {
         &self.lens
     }
 
+    /// Takes the intervals of `s`'s covers over the same lens values, so a sweep can try
+    /// other covers without recomputing the points or the lens.
+    pub fn set_cover(&mut self, s: &Settings) {
+        self.axis = cover::axis(&self.lens, &s.cover);
+        self.axis2 = self.lens2.as_ref().map(|v| cover::axis(v, second_cover(s)));
+    }
+
     /// The nerve of the points `draws` (indices into `0..len()`, repeats allowed) under the
     /// clustering of `s` and the original's intervals, and each node's mean (first) lens
     /// value. Node members are positions in `draws`, not table rows. `s` must share the

@@ -12,9 +12,10 @@ use wasm_bindgen::prelude::*;
 
 use crate::campaign::{Campaign, Plan};
 use crate::engine::{NodeStat, Workbench};
+use crate::shape::{self, Bootstrap, Comparing, Grid, Sweeping};
 use crate::settings::Settings;
 use crate::table::ingest::Ingest;
-use crate::table::ReadOptions;
+use crate::table::{ReadOptions, TableReader};
 
 /// Panics become one `console.error` line with the message and place, instead of an
 /// anonymous "unreachable" trap (written here rather than pulling in a crate for it).
@@ -126,6 +127,13 @@ pub struct Engine {
     encoding: &'static str,
     /// Graphs with more nodes than this are not laid out until asked again with 0 (no limit).
     node_limit: usize,
+    /// The second table of a comparison, and its reader.
+    bench_b: Workbench,
+    reader_b: Option<TableReader>,
+    /// Step-wise jobs of the shape panel (see the functions at the end).
+    boot: Option<Bootstrap>,
+    sweeping: Option<Sweeping>,
+    comparing: Option<Comparing>,
 }
 
 #[wasm_bindgen]
@@ -133,7 +141,19 @@ impl Engine {
     #[wasm_bindgen(constructor)]
     pub fn new() -> Engine {
         install_panic_message();
-        Engine { bench: Workbench::new(), reader: None, notices: Vec::new(), encoding: "UTF-8", node_limit: 0, campaign: Campaign::new() }
+        Engine {
+            bench: Workbench::new(),
+            reader: None,
+            notices: Vec::new(),
+            encoding: "UTF-8",
+            node_limit: 0,
+            bench_b: Workbench::new(),
+            reader_b: None,
+            boot: None,
+            sweeping: None,
+            comparing: None,
+            campaign: Campaign::new(),
+        }
     }
 
     /// Starts reading a new file (CSV, ICARTT or spreadsheet, told by content); any file
@@ -417,6 +437,224 @@ impl Engine {
     }
 }
 
+/// The shape panel's surface: the diagram of the current graph, and the bootstrap, the
+/// sweep and the comparison run a few draws (or cells) per call, so the worker can read
+/// its messages (a cancel) between calls. Each job is `*_begin` (returns the number of
+/// steps in all), `*_step(k)` (returns the number done), `*_finish` (the result), and
+/// `*_drop` (cancel). Logic lives in [`crate::shape`].
+#[wasm_bindgen]
+impl Engine {
+    /// The extended persistence diagram of the last graph: `{features: [{kind, birth,
+    /// death, birthNode, deathNode, persistence, nodes}]}`, `nodes` being the nodes that
+    /// carry the feature ([`shape::support`]); `null` before the first run.
+    pub fn diagram(&self) -> Result<JsValue, JsValue> {
+        let Some(b) = self.bench.last() else { return Ok(JsValue::NULL) };
+        let edges: Vec<(u32, u32)> = b.nerve.edges.iter().map(|e| (e.a, e.b)).collect();
+        let d = shape::extended_persistence(&b.node_lens, &edges);
+        let nodes = shape::supports(&b.node_lens, &edges, &d);
+        to_js(&DiagramOut { features: d.features.iter().zip(nodes).map(|(f, nodes)| FeatureOut::new(f, Some(nodes), None)).collect() })
+    }
+
+    pub fn bootstrap_begin(&mut self, settings: JsValue, draws: usize, alpha: f64, seed: f64) -> Result<usize, JsValue> {
+        let s = settings_from_js(&settings)?;
+        let table = self.bench.table().ok_or_else(|| fail("no table is loaded yet; open a CSV file first"))?;
+        let b = Bootstrap::new(table, &s, draws, alpha, seed_of(seed)?).map_err(fail)?;
+        self.boot = Some(b);
+        Ok(draws)
+    }
+
+    pub fn bootstrap_step(&mut self, k: usize) -> Result<usize, JsValue> {
+        Ok(self.boot.as_mut().ok_or_else(|| fail("internal: bootstrap_step without bootstrap_begin"))?.step(k))
+    }
+
+    /// `{alpha, draws, threshold, distances, features: [{kind, birth, death, birthNode,
+    /// deathNode, persistence, significant}]}`.
+    pub fn bootstrap_finish(&mut self) -> Result<JsValue, JsValue> {
+        let c = self.boot.take().ok_or_else(|| fail("internal: bootstrap_finish without bootstrap_begin"))?.finish();
+        to_js(&ConfidenceOut::new(&c))
+    }
+
+    pub fn bootstrap_drop(&mut self) {
+        self.boot = None;
+    }
+
+    /// Settings suggested by the parameter rule, with its values, changes and warnings.
+    pub fn suggest(&self, settings: JsValue, seed: f64) -> Result<JsValue, JsValue> {
+        let s = settings_from_js(&settings)?;
+        let table = self.bench.table().ok_or_else(|| fail("no table is loaded yet; open a CSV file first"))?;
+        to_js(&shape::suggest(table, &s, seed_of(seed)?).map_err(fail)?)
+    }
+
+    /// `grid` is `{intervals: [..], overlaps: [..], eps: [..]}`; `draws` 0 skips significance.
+    pub fn sweep_begin(&mut self, settings: JsValue, grid: JsValue, draws: usize, alpha: f64, seed: f64) -> Result<usize, JsValue> {
+        let s = settings_from_js(&settings)?;
+        let text: String = js_sys::JSON::stringify(&grid).map_err(|_| fail("sweep grid: cannot be written as JSON"))?.into();
+        let grid: Grid = serde_json::from_str(&text).map_err(|e| fail(format!("sweep grid: {e}")))?;
+        let table = self.bench.table().ok_or_else(|| fail("no table is loaded yet; open a CSV file first"))?;
+        let sw = Sweeping::new(table, &s, &grid, draws, alpha, seed_of(seed)?).map_err(fail)?;
+        let total = sw.total();
+        self.sweeping = Some(sw);
+        Ok(total)
+    }
+
+    pub fn sweep_step(&mut self, k: usize) -> Result<usize, JsValue> {
+        self.sweeping.as_mut().ok_or_else(|| fail("internal: sweep_step without sweep_begin"))?.step(k).map_err(fail)
+    }
+
+    /// The cells, in order: `[{intervals, overlap, eps, nodes, components, loops,
+    /// significant, significantLoops, threshold}]`.
+    pub fn sweep_finish(&mut self) -> Result<JsValue, JsValue> {
+        to_js(&self.sweeping.take().ok_or_else(|| fail("internal: sweep_finish without sweep_begin"))?.finish().map_err(fail)?)
+    }
+
+    pub fn sweep_drop(&mut self) {
+        self.sweeping = None;
+    }
+
+    /// The second table of a comparison, read like the first.
+    pub fn begin_table_b(&mut self, name: &str) {
+        self.reader_b = Some(TableReader::new(name, ReadOptions::default()));
+    }
+
+    pub fn push_chunk_b(&mut self, chunk: &[u8]) -> Result<(), JsValue> {
+        self.reader_b.as_mut().ok_or_else(|| fail("internal: push_chunk_b before begin_table_b"))?.push(chunk).map_err(fail)
+    }
+
+    pub fn finish_table_b(&mut self) -> Result<JsValue, JsValue> {
+        let table = self.reader_b.take().ok_or_else(|| fail("internal: finish_table_b before begin_table_b"))?.finish().map_err(fail)?;
+        self.comparing = None;
+        self.bench_b.set_table(table);
+        let t = self.bench_b.table().expect("just set");
+        to_js(&TableInfo { name: &t.name, rows: t.n_rows, columns: t.summaries(&[]), notices: &[], encoding: "UTF-8" })
+    }
+
+    /// The second table made from the first by columns standing in for others
+    /// ([`shape::swap`]): `pairs` is `[[standsIn, forColumn], ..]`; the derived columns of
+    /// `settings` are left out (the second table's run makes its own).
+    pub fn table_b_from_columns(&mut self, pairs: JsValue, settings: JsValue) -> Result<JsValue, JsValue> {
+        let s = settings_from_js(&settings)?;
+        let text: String = js_sys::JSON::stringify(&pairs).map_err(|_| fail("column swap: cannot be written as JSON"))?.into();
+        let pairs: Vec<(String, String)> = serde_json::from_str(&text).map_err(|e| fail(format!("column swap: {e}")))?;
+        let a = self.bench.table().ok_or_else(|| fail("no table is loaded yet; open a CSV file first"))?;
+        let words: Vec<String> = pairs.iter().map(|(from, to)| format!("{to} ← {from}")).collect();
+        let name = format!("{} ({})", a.name, words.join(", "));
+        let leave_out: Vec<String> = s.derived.iter().map(|d| d.name.clone()).collect();
+        let table = shape::swap::swapped(a, &pairs, &leave_out, &name).map_err(fail)?;
+        self.comparing = None;
+        self.bench_b.set_table(table);
+        let t = self.bench_b.table().expect("just set");
+        to_js(&TableInfo { name: &t.name, rows: t.n_rows, columns: t.summaries(&[]), notices: &[], encoding: "UTF-8" })
+    }
+
+    /// Builds the second table's graph with `settings`; returns its summary.
+    pub fn run_b(&mut self, settings: JsValue) -> Result<JsValue, JsValue> {
+        let s = settings_from_js(&settings)?;
+        if self.bench_b.table().is_none() {
+            return Err(fail("no second table is loaded yet; open a second CSV file to compare with"));
+        }
+        to_js(&self.bench_b.run(&s, &mut |_: &str, _: f64| {}).map_err(|e| fail(format!("second table: {e}")))?)
+    }
+
+    /// The second table's last graph, as [`Engine::graph`] gives the first's.
+    pub fn graph_b(&self) -> JsValue {
+        graph_arrays(self.bench_b.last())
+    }
+
+    /// Starts the comparison of the two tables' graphs under `settings` (both must have
+    /// been built with them: [`Engine::run`], [`Engine::run_b`]); returns 2 × `draws`.
+    pub fn compare_begin(&mut self, settings: JsValue, draws: usize, alpha: f64, seed: f64) -> Result<usize, JsValue> {
+        let s = settings_from_js(&settings)?;
+        let a = self.bench.table().ok_or_else(|| fail("no table is loaded yet; open a CSV file first"))?;
+        let b = self.bench_b.table().ok_or_else(|| fail("no second table is loaded yet; open a second CSV file to compare with"))?;
+        let c = Comparing::new(a, b, &s, draws, alpha, seed_of(seed)?).map_err(fail)?;
+        let total = c.total();
+        self.comparing = Some(c);
+        Ok(total)
+    }
+
+    pub fn compare_step(&mut self, k: usize) -> Result<usize, JsValue> {
+        Ok(self.comparing.as_mut().ok_or_else(|| fail("internal: compare_step without compare_begin"))?.step(k))
+    }
+
+    /// `{distance, threshold, alpha, differ, a, b}`, `a` and `b` as from `bootstrap_finish`.
+    pub fn compare_finish(&mut self) -> Result<JsValue, JsValue> {
+        let c = self.comparing.take().ok_or_else(|| fail("internal: compare_finish without compare_begin"))?.finish();
+        to_js(&ComparisonOut { distance: c.distance, threshold: c.threshold, alpha: c.alpha, differ: c.differ, a: ConfidenceOut::new(&c.a), b: ConfidenceOut::new(&c.b) })
+    }
+
+    pub fn compare_drop(&mut self) {
+        self.comparing = None;
+    }
+}
+
+/// Seeds cross as JS numbers: whole, 0 to 2^53.
+fn seed_of(x: f64) -> Result<u64, JsValue> {
+    if x.is_finite() && x >= 0.0 && x.fract() == 0.0 && x <= 9_007_199_254_740_992.0 {
+        Ok(x as u64)
+    } else {
+        Err(fail(format!("seed: {x} is not a whole number from 0 to 2^53")))
+    }
+}
+
+#[derive(Serialize)]
+#[serde(rename_all = "camelCase")]
+struct FeatureOut {
+    kind: shape::Kind,
+    birth: f64,
+    death: f64,
+    birth_node: u32,
+    death_node: u32,
+    persistence: f64,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    nodes: Option<Vec<u32>>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    significant: Option<bool>,
+}
+
+impl FeatureOut {
+    fn new(f: &shape::Feature, nodes: Option<Vec<u32>>, significant: Option<bool>) -> FeatureOut {
+        FeatureOut { kind: f.kind, birth: f.birth, death: f.death, birth_node: f.birth_node, death_node: f.death_node, persistence: f.persistence(), nodes, significant }
+    }
+}
+
+#[derive(Serialize)]
+struct DiagramOut {
+    features: Vec<FeatureOut>,
+}
+
+#[derive(Serialize)]
+#[serde(rename_all = "camelCase")]
+struct ConfidenceOut {
+    alpha: f64,
+    draws: usize,
+    threshold: f64,
+    distances: Vec<f64>,
+    features: Vec<FeatureOut>,
+}
+
+impl ConfidenceOut {
+    fn new(c: &shape::Confidence) -> ConfidenceOut {
+        ConfidenceOut {
+            alpha: c.alpha,
+            draws: c.distances.len(),
+            threshold: c.threshold,
+            distances: c.distances.clone(),
+            features: c.diagram.features.iter().zip(&c.significant).map(|(f, &s)| FeatureOut::new(f, None, Some(s))).collect(),
+        }
+    }
+}
+
+#[derive(Serialize)]
+#[serde(rename_all = "camelCase")]
+struct ComparisonOut {
+    distance: f64,
+    threshold: f64,
+    alpha: f64,
+    differ: bool,
+    a: ConfidenceOut,
+    b: ConfidenceOut,
+}
+
 impl Engine {
     fn table_info(&self, fill_values: &[f64]) -> Result<JsValue, JsValue> {
         let table = self.bench.table().ok_or_else(|| fail("no table is loaded yet; open a CSV file first"))?;
@@ -428,6 +666,27 @@ impl Engine {
             encoding: self.encoding,
         })
     }
+}
+
+/// A graph as typed arrays, as [`Engine::graph`] gives them, for [`Engine::graph_b`].
+fn graph_arrays(build: Option<&crate::engine::Build>) -> JsValue {
+    let Some(build) = build else { return JsValue::NULL };
+    let nodes = &build.nerve.nodes;
+    let edges = &build.nerve.edges;
+    let sizes: Vec<u32> = nodes.iter().map(|n| n.members.len() as u32).collect();
+    let elements: Vec<u32> = nodes.iter().map(|n| n.element as u32).collect();
+    let a: Vec<u32> = edges.iter().map(|e| e.a).collect();
+    let b: Vec<u32> = edges.iter().map(|e| e.b).collect();
+    let shared: Vec<u32> = edges.iter().map(|e| e.shared).collect();
+    let positions: Vec<f64> = build.layout.iter().flat_map(|p| [p[0], p[1]]).collect();
+    let out = Object::new();
+    set(&out, "nodeSizes", &Uint32Array::from(&sizes[..]).into());
+    set(&out, "nodeElements", &Uint32Array::from(&elements[..]).into());
+    set(&out, "edgeA", &Uint32Array::from(&a[..]).into());
+    set(&out, "edgeB", &Uint32Array::from(&b[..]).into());
+    set(&out, "edgeShared", &Uint32Array::from(&shared[..]).into());
+    set(&out, "positions", &Float64Array::from(&positions[..]).into());
+    out.into()
 }
 
 impl Default for Engine {

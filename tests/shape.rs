@@ -463,3 +463,73 @@ fn time_bootstrap_100_on_the_demo() {
     let sg = suggest(&table, &s, 1).unwrap();
     eprintln!("suggest {:?}: delta {:.4}, intervals {}, changes {:?}, warnings {:?}", t0.elapsed(), sg.delta, sg.settings.cover.intervals, sg.changes, sg.warnings);
 }
+
+// ---------------------------------------------------------------------------------------
+// Step-wise versions (for the page's worker, which must see a cancel between draws):
+// the same arguments give exactly the one-shot results, whatever the step size.
+
+#[test]
+fn stepwise_bootstrap_equals_one_shot() {
+    use nervure::shape::Bootstrap;
+    let t = circle(1, 200);
+    let s = settings();
+    let once = bootstrap(&t, &s, 12, 0.1, 9, &mut go).unwrap();
+    for k in [1, 5, 12, 100] {
+        let mut b = Bootstrap::new(&t, &s, 12, 0.1, 9).unwrap();
+        assert_eq!(b.diagram(), &once.diagram);
+        let mut seen = vec![b.done()];
+        while !b.is_finished() {
+            seen.push(b.step(k));
+        }
+        assert_eq!(*seen.last().unwrap(), 12);
+        assert!(seen.windows(2).all(|w| w[1] > w[0] && w[1] - w[0] <= k), "step {k}: {seen:?}");
+        assert_eq!(b.finish(), once, "step size {k}");
+    }
+    // finish() before the last step runs the rest.
+    let mut b = Bootstrap::new(&t, &s, 12, 0.1, 9).unwrap();
+    b.step(3);
+    assert_eq!(b.finish(), once);
+    // A different seed draws differently (the check above can fail).
+    assert_ne!(Bootstrap::new(&t, &s, 12, 0.1, 10).unwrap().finish().distances, once.distances);
+    assert!(Bootstrap::new(&t, &s, 0, 0.1, 9).unwrap_err().to_string().contains("draw"));
+}
+
+#[test]
+fn stepwise_comparison_equals_one_shot() {
+    use nervure::shape::Comparing;
+    let s = settings();
+    let (a, b) = (circle(3, 200), segment(4, 200));
+    let once = compare(&a, &b, &s, 8, 0.05, 7, &mut go).unwrap();
+    let mut c = Comparing::new(&a, &b, &s, 8, 0.05, 7).unwrap();
+    assert_eq!(c.total(), 16);
+    let mut steps = 0;
+    while c.done() < c.total() {
+        c.step(3);
+        steps += 1;
+    }
+    assert_eq!(steps, 6); // ceil(16 / 3)
+    assert_eq!(c.finish(), once);
+}
+
+#[test]
+fn stepwise_sweep_equals_one_shot() {
+    use nervure::shape::Sweeping;
+    let t = circle(6, 300);
+    let mut bench = Workbench::new();
+    bench.set_table(t.clone());
+    let grid = Grid { intervals: vec![4, 6], overlaps: vec![0.2, 0.4], eps: vec![0.35, 0.2] };
+    let once = sweep(&mut bench, &settings(), &grid, 4, 0.1, 3, &mut go).unwrap();
+    let mut sw = Sweeping::new(&t, &settings(), &grid, 4, 0.1, 3).unwrap();
+    assert_eq!(sw.total(), 8);
+    assert_eq!(sw.step(3).unwrap(), 3);
+    assert_eq!(sw.cells(), &once[..3]);
+    assert_eq!(sw.finish().unwrap(), once);
+    // Each cell's threshold is the bootstrap of that cell's own settings (its cover too).
+    for c in &once {
+        let s = nervure::shape::sweep::cell_settings(&settings(), c.intervals, c.overlap, c.eps);
+        assert_eq!(c.threshold, Some(bootstrap(&t, &s, 4, 0.1, 3, &mut go).unwrap().threshold), "{c:?}");
+        assert_eq!(c.nodes, nervure::build(&t, &s).unwrap().summary.nodes, "{c:?}");
+    }
+    let bad = Grid { intervals: vec![], overlaps: vec![0.2], eps: vec![] };
+    assert!(Sweeping::new(&t, &settings(), &bad, 0, 0.1, 3).is_err());
+}

@@ -65,12 +65,14 @@ const engine = (function () {
       const msg = event.data;
       const w = waiting.get(msg.id);
       if (!w) return;
-      if (msg.type === "progress") { if (w.onProgress) w.onProgress(msg.stage, msg.fraction); return; }
+      if (msg.type === "progress") { if (w.onProgress) w.onProgress(msg.stage, msg.fraction, msg); return; }
       waiting.delete(msg.id);
       if (msg.type === "result") w.resolve(msg.value);
       else {
         if (msg.fatal) restart();
-        w.reject(new Error(msg.message));
+        const err = new Error(msg.message);
+        err.cancelled = !!msg.cancelled;
+        w.reject(err);
       }
     };
     worker.onerror = function (event) {
@@ -107,12 +109,22 @@ const engine = (function () {
     });
   }
 
-  return { request, start, cancel };
+  /** A step-wise job (worker.js): {done: Promise, cancel()}; a cancelled job rejects
+   *  with an error whose `cancelled` is true. */
+  function job(payload, onProgress) {
+    const id = nextId;
+    const done = request("job", payload, onProgress);
+    return { done, cancel: function () { if (worker) worker.postMessage({ type: "cancel", target: id }); } };
+  }
+
+  return { request, start, cancel, job };
 })();
 
 function onEngineLost() {
-  // A fresh engine holds no table: recovery.js reads it again and keeps the graph shown.
+  // A fresh engine holds no table: recovery.js reads it again and keeps the graph shown;
+  // step-wise jobs of the shape panel died with the old engine.
   recoverEngine();
+  shapePanel.tableChanged();
 }
 
 /* ---------------------------------------------------------------- loading */
@@ -186,6 +198,7 @@ async function loadTable(source, ask) {
   state.colour = { column: defaultColourColumn(), stat: "mean", values: null, min: NaN, max: NaN };
   view.setGraph(null);
   renderAll();
+  shapePanel.tableChanged();
   await buildNow();
   return state.table;
 }
@@ -264,6 +277,7 @@ async function build(seq, nodeLimit) {
   const card = byId("colour-block");
   view.insetTop = card.hidden ? 0 : card.offsetTop + card.offsetHeight;
   view.setGraph(out.graph, false);
+  shapePanel.graphChanged();
   if (typeof afterBuild === "function") await afterBuild(out);
   return out.summary;
 }
@@ -758,6 +772,11 @@ window.nervure = Object.freeze({
   cancel: function () { return cancelWork(); },
   /** Hooks for the recovery tests (recovery.js). */
   test: recoveryTestHooks,
+});
+
+const shapePanel = createShapePanel({
+  request: engine.request, job: engine.job, view, applySettings, buildNow,
+  settings: () => state.settings, graph: () => state.graph, table: () => state.table, summary: () => state.summary,
 });
 
 wire();

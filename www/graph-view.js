@@ -19,6 +19,7 @@ function GraphView(canvas, callbacks) {
   this.callbacks = callbacks;
   this.graph = null;
   this.fills = null;
+  this.highlight = null;    // Set of node indices marked on top (a loop or branch), or null
   this.selected = null;      // the node whose ring is strongest (the last one picked)
   this.selection = new Set(); // every selected node
   this.lit = null;            // Uint8Array per node: nodes lit from elsewhere (the scatter)
@@ -50,6 +51,7 @@ GraphView.prototype.setGraph = function (graph, keepView) {
   this.lit = null;
   this.cursor = null;
   this.hovered = null;
+  this.highlight = null;
   this._sizeDiscs();
   // Draw big discs first so small ones stay visible on top of them.
   const n = graph ? graph.nodeSizes.length : 0;
@@ -59,6 +61,34 @@ GraphView.prototype.setGraph = function (graph, keepView) {
   this.order = order;
   if (!keepView) this.fit();
   this.requestDraw();
+};
+
+/** Marks a set of nodes (and the edges among them) on top of the drawing; null clears. */
+GraphView.prototype.setHighlight = function (nodes) {
+  this.highlight = nodes && nodes.length ? new Set(nodes) : null;
+  this.requestDraw();
+};
+
+GraphView.prototype._drawHighlight = function (ctx) {
+  const g = this.graph, p = g.positions, s = this.view.scale, ox = this.view.x, oy = this.view.y, h = this.highlight;
+  ctx.strokeStyle = "#d0501f";
+  ctx.lineWidth = 5;
+  for (let e = 0; e < g.edgeA.length; e++) {
+    const a = g.edgeA[e], b = g.edgeB[e];
+    if (!h.has(a) || !h.has(b)) continue;
+    ctx.beginPath();
+    ctx.moveTo(p[2 * a] * s + ox, p[2 * a + 1] * s + oy);
+    ctx.lineTo(p[2 * b] * s + ox, p[2 * b + 1] * s + oy);
+    ctx.stroke();
+  }
+  ctx.lineWidth = 3;
+  for (const i of h) {
+    if (i >= this.radii.length) continue;
+    const q = this.toScreen(i);
+    ctx.beginPath();
+    ctx.arc(q.x, q.y, this.radii[i] + 2.5, 0, 2 * Math.PI);
+    ctx.stroke();
+  }
 };
 
 GraphView.prototype.setFills = function (fills) {
@@ -216,6 +246,8 @@ GraphView.prototype.draw = function () {
     ctx.strokeStyle = "rgba(255, 255, 255, 0.9)";
     ctx.stroke();
   }
+
+  if (this.highlight) this._drawHighlight(ctx);
 
   // Lit, hover, selection and keyboard-cursor rings on top.
   const rings = [];

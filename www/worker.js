@@ -12,14 +12,24 @@
  *               {id, type: "detail", node}
  *               {id, type: "summaries", fillValues}
  *               {id, type: "check", settings}
+ *               {id, type: "diagram"}
+ *               {id, type: "suggest", settings, seed}
+ *               {id, type: "loadB", file | text, name}     the second table of a comparison
+ *               {id, type: "swapB", pairs, settings}        second table = first with columns swapped
+ *               {id, type: "runB", settings}
+ *               {id, type: "job", job: "bootstrap" | "sweep" | "compare", ...arguments}
+ *               {type: "cancel", target}                   stops job `target` between steps
  *               {id, type: "memberships"} | {id, type: "explain", nodes} | {id, type: "rowValues", rows, columns}
  *               {id, type: "derivedInfo"} | {id, type: "scatter", x, y, limit} | {id, type: "export", format, colour, fileName}
  *               (load may carry options: {textAsMissing}; run may carry nodeLimit, and then
  *               answers {confirm: {confirmNodes, limit}} for a graph over the limit;
  *               testExhaustMemory / testCrash / testBusy {ms} exist for the recovery tests)
- * Messages out: {id, type: "progress", stage, fraction}
+ * Messages out: {id, type: "progress", stage, fraction}    (jobs add done, total)
  *               {id, type: "result", value}
- *               {id, type: "error", message, fatal}
+ *               {id, type: "error", message, fatal, cancelled}
+ *
+ * A job runs a few draws (or sweep cells) per engine call and yields to the message queue
+ * between calls, so a cancel arrives while it runs; other requests run between its steps.
  */
 "use strict";
 
@@ -156,6 +166,24 @@ function handle(engine, msg) {
       return { value: engine.column_summaries(new Float64Array(msg.fillValues || [])) };
     case "check":
       return { value: engine.check_settings(msg.settings) };
+    case "diagram":
+      return { value: engine.diagram() };
+    case "suggest":
+      return { value: engine.suggest(msg.settings, msg.seed) };
+    case "loadB": {
+      const second = { begin_table: (n) => engine.begin_table_b(n), push_chunk: (c) => engine.push_chunk_b(c) };
+      if (msg.file) readFileInto(second, msg.file, msg.name, progress);
+      else readTextInto(second, msg.text, msg.name, progress);
+      return { value: engine.finish_table_b() };
+    }
+    case "swapB":
+      return { value: engine.table_b_from_columns(msg.pairs, msg.settings) };
+    case "runB": {
+      const summary = engine.run_b(msg.settings);
+      const g = engine.graph_b();
+      const transfer = g ? [g.nodeSizes.buffer, g.nodeElements.buffer, g.edgeA.buffer, g.edgeB.buffer, g.edgeShared.buffer, g.positions.buffer] : [];
+      return { value: { summary, graph: g }, transfer };
+    }
     case "memberships": {
       const m = engine.memberships();
       return { value: m, transfer: m ? [m.offsets.buffer, m.rows.buffer] : [] };
@@ -193,8 +221,89 @@ let queue = Promise.resolve();
 /** Id of the last run asked for. */
 let latestRun = 0;
 
+/* ---- step-wise jobs ---- */
+
+/** Each job's engine calls: begin returns the number of steps, step(k) the number done. */
+const JOBS = {
+  bootstrap: {
+    begin: (e, m) => e.bootstrap_begin(m.settings, m.draws, m.alpha, m.seed),
+    step: (e, k) => e.bootstrap_step(k), finish: (e) => e.bootstrap_finish(), drop: (e) => e.bootstrap_drop(),
+  },
+  sweep: {
+    begin: (e, m) => e.sweep_begin(m.settings, m.grid, m.draws || 0, m.alpha, m.seed),
+    step: (e, k) => e.sweep_step(k), finish: (e) => e.sweep_finish(), drop: (e) => e.sweep_drop(),
+  },
+  compare: {
+    begin: (e, m) => e.compare_begin(m.settings, m.draws, m.alpha, m.seed),
+    step: (e, k) => e.compare_step(k), finish: (e) => e.compare_finish(), drop: (e) => e.compare_drop(),
+  },
+};
+
+/** Time one step should take: short enough for a cancel to feel immediate. */
+const STEP_TARGET_MS = 60;
+
+/** Ids of jobs asked to stop. */
+const cancelled = new Set();
+
+/** Runs fn(engine) in its turn in the request queue; resolves with its value. */
+function enqueue(fn) {
+  const p = queue.then(async function () { return fn(await ready); });
+  queue = p.then(function () {}, function () {});
+  return p;
+}
+
+/** Resolves after the worker has read the messages waiting for it. */
+function yieldToMessages() {
+  return new Promise(function (resolve) {
+    const ch = new MessageChannel();
+    ch.port1.onmessage = function () { ch.port1.close(); resolve(); };
+    ch.port2.postMessage(0);
+  });
+}
+
+async function runJob(msg) {
+  const job = JOBS[msg.job];
+  const id = msg.id;
+  if (!job) { self.postMessage({ id, type: "error", fatal: false, message: "internal: unknown job '" + msg.job + "'" }); return; }
+  let begun = false;
+  try {
+    const total = await enqueue((e) => job.begin(e, msg));
+    begun = true;
+    let done = 0, k = 1;
+    self.postMessage({ id, type: "progress", stage: msg.job, fraction: 0, done, total });
+    while (done < total) {
+      await yieldToMessages();
+      if (cancelled.has(id)) break;
+      const t0 = performance.now();
+      done = await enqueue((e) => job.step(e, k));
+      const ms = performance.now() - t0;
+      // Next step: about STEP_TARGET_MS of work, at most doubling.
+      k = Math.max(1, Math.min(2 * k, Math.round(k * STEP_TARGET_MS / Math.max(ms, 1))));
+      self.postMessage({ id, type: "progress", stage: msg.job, fraction: done / total, done, total });
+    }
+    if (cancelled.has(id)) {
+      cancelled.delete(id);
+      await enqueue((e) => job.drop(e));
+      self.postMessage({ id, type: "error", fatal: false, cancelled: true, message: "Stopped before the end; nothing was changed." });
+      return;
+    }
+    const value = await enqueue((e) => job.finish(e));
+    self.postMessage({ id, type: "result", value });
+  } catch (e) {
+    cancelled.delete(id);
+    const fatal = e instanceof WebAssembly.RuntimeError;
+    if (begun && !fatal) await enqueue((en) => job.drop(en)).catch(function () {});
+    const message = fatal
+      ? "Internal error in the engine" + (lastPanic ? " (" + lastPanic + ")" : "") + ". The engine was restarted; please report this with the file's shape and your settings."
+      : (e && e.message ? e.message : String(e));
+    self.postMessage({ id, type: "error", fatal, message });
+  }
+}
+
 self.onmessage = function (event) {
   const msg = event.data;
+  if (msg.type === "cancel") { cancelled.add(msg.target); return; }
+  if (msg.type === "job") { runJob(msg); return; }
   if (msg.type === "run") latestRun = msg.id;
   queue = queue.then(async function () {
     let engine;

@@ -58,7 +58,14 @@ fn build() -> Result<(), Failure> {
         .generate_output()
         .map_err(|e| format!("generating the bindings from {}: {e}", wasm_path.display()))?;
     let glue = output.js().to_string();
-    let wasm = output.wasm_mut().emit_wasm();
+    // Function names (the wasm "name" section, about 90 KB) only label stack traces in a
+    // debugger; panics are reported with their message and place without them.
+    let module = output.wasm_mut();
+    module.name = None;
+    for f in module.funcs.iter_mut() {
+        f.name = None;
+    }
+    let wasm = module.emit_wasm();
     let wasm_b64 = base64::engine::general_purpose::STANDARD.encode(&wasm);
 
     // 3. One file.

@@ -23,7 +23,13 @@
 //! the same units for both tables (a column lens, say); a lens fitted to each table (a
 //! principal component) may differ in scale or sign between them.
 //!
+//! [`Bootstrap`] and [`Comparing`] are the same computations one draw at a time, for a
+//! caller that must do other work between draws (the page's worker, which has to see a
+//! cancel message); given the same arguments they give exactly the one-shot results.
+//!
 //! Not here: the diagrams themselves ([`super::persistence`]).
+
+use std::sync::Arc;
 
 use serde::Serialize;
 
@@ -107,14 +113,142 @@ pub fn bootstrap_with(r: &Resampler, settings: &Settings, b: usize, alpha: f64, 
         if !progress(i as f64 / b as f64) {
             return Err(Error::Cancelled);
         }
-        draws.iter_mut().for_each(|d| *d = rng.below(n) as u32);
-        draws.sort_unstable();
-        distances.push(bottleneck(&diagram_of(r, &draws, settings), &diagram));
+        distances.push(one_draw(r, settings, &diagram, &mut rng, &mut draws));
     }
     progress(1.0);
+    Ok(conclude(diagram, distances, alpha))
+}
+
+/// One bootstrap draw: n rows with replacement, the distance of their diagram to `diagram`.
+fn one_draw(r: &Resampler, settings: &Settings, diagram: &Diagram, rng: &mut SplitMix64, draws: &mut [u32]) -> f64 {
+    let n = r.len();
+    draws.iter_mut().for_each(|d| *d = rng.below(n) as u32);
+    draws.sort_unstable();
+    bottleneck(&diagram_of(r, draws, settings), diagram)
+}
+
+fn conclude(diagram: Diagram, distances: Vec<f64>, alpha: f64) -> Confidence {
     let threshold = upper_quantile(&distances, alpha);
     let significant = diagram.features.iter().map(|f| f.to_diagonal() > threshold).collect();
-    Ok(Confidence { diagram, distances, alpha, threshold, significant })
+    Confidence { diagram, distances, alpha, threshold, significant }
+}
+
+/// [`bootstrap`] one draw at a time: [`Bootstrap::step`] runs a few draws and returns;
+/// [`Bootstrap::finish`] gives the [`Confidence`], equal to [`bootstrap`]'s for the same
+/// arguments. Dropping it cancels.
+#[derive(Debug, Clone)]
+pub struct Bootstrap {
+    r: Arc<Resampler>,
+    settings: Settings,
+    total: usize,
+    alpha: f64,
+    diagram: Diagram,
+    rng: SplitMix64,
+    distances: Vec<f64>,
+    draws: Vec<u32>,
+}
+
+impl Bootstrap {
+    pub fn new(table: &Table, settings: &Settings, b: usize, alpha: f64, seed: u64) -> Result<Bootstrap> {
+        check(b, alpha)?;
+        Bootstrap::with_resampler(Arc::new(Resampler::new(table, settings)?), settings, b, alpha, seed)
+    }
+
+    /// On points and lens already computed (shared, not copied).
+    pub fn with_resampler(r: Arc<Resampler>, settings: &Settings, b: usize, alpha: f64, seed: u64) -> Result<Bootstrap> {
+        check(b, alpha)?;
+        settings.validate()?;
+        let n = r.len();
+        if n == 0 {
+            return Err(Error::Data("no row has a value in every chosen column, so there is nothing to resample".into()));
+        }
+        let diagram = diagram_of(&r, &(0..n as u32).collect::<Vec<_>>(), settings);
+        Ok(Bootstrap { settings: settings.clone(), total: b, alpha, diagram, rng: SplitMix64::new(seed), distances: Vec::with_capacity(b), draws: vec![0; n], r })
+    }
+
+    /// Runs up to `k` more draws; returns how many are done in all.
+    pub fn step(&mut self, k: usize) -> usize {
+        for _ in 0..k.min(self.total - self.distances.len()) {
+            let d = one_draw(&self.r, &self.settings, &self.diagram, &mut self.rng, &mut self.draws);
+            self.distances.push(d);
+        }
+        self.distances.len()
+    }
+
+    pub fn done(&self) -> usize {
+        self.distances.len()
+    }
+
+    pub fn total(&self) -> usize {
+        self.total
+    }
+
+    pub fn is_finished(&self) -> bool {
+        self.distances.len() == self.total
+    }
+
+    /// The diagram of the graph on all rows (known before any draw).
+    pub fn diagram(&self) -> &Diagram {
+        &self.diagram
+    }
+
+    /// Runs the draws still to do, then concludes.
+    pub fn finish(mut self) -> Confidence {
+        self.step(self.total);
+        conclude(self.diagram, self.distances, self.alpha)
+    }
+}
+
+/// Seed of the second table's bootstrap in a comparison, from the first's.
+fn second_seed(seed: u64) -> u64 {
+    seed ^ 0x5DEE_CE66_D1CE_F00D
+}
+
+/// [`compare`] one draw at a time: first table A's draws, then B's. Equal to [`compare`]'s
+/// result for the same arguments.
+#[derive(Debug, Clone)]
+pub struct Comparing {
+    a: Bootstrap,
+    b: Bootstrap,
+    alpha: f64,
+}
+
+impl Comparing {
+    pub fn new(table_a: &Table, table_b: &Table, settings: &Settings, b: usize, alpha: f64, seed: u64) -> Result<Comparing> {
+        check(b, alpha)?;
+        let a = Bootstrap::new(table_a, settings, b, alpha / 2.0, seed)?;
+        let b = Bootstrap::new(table_b, settings, b, alpha / 2.0, second_seed(seed))?;
+        Ok(Comparing { a, b, alpha })
+    }
+
+    /// Runs up to `k` more draws (of A, then of B); returns how many are done in all.
+    pub fn step(&mut self, k: usize) -> usize {
+        let before = self.a.done();
+        self.a.step(k);
+        let left = k - (self.a.done() - before);
+        self.b.step(left);
+        self.done()
+    }
+
+    pub fn done(&self) -> usize {
+        self.a.done() + self.b.done()
+    }
+
+    /// Draws in all: B for each table.
+    pub fn total(&self) -> usize {
+        self.a.total() + self.b.total()
+    }
+
+    pub fn finish(self) -> Comparison {
+        let (ca, cb) = (self.a.finish(), self.b.finish());
+        conclude_comparison(ca, cb, self.alpha)
+    }
+}
+
+fn conclude_comparison(ca: Confidence, cb: Confidence, alpha: f64) -> Comparison {
+    let distance = bottleneck(&ca.diagram, &cb.diagram);
+    let threshold = ca.threshold + cb.threshold;
+    Comparison { distance, threshold, alpha, differ: distance > threshold, a: ca, b: cb }
 }
 
 /// The diagram of the graph on the points `draws`.
@@ -145,10 +279,8 @@ pub fn compare(
 ) -> Result<Comparison> {
     check(b, alpha)?;
     let ca = bootstrap(table_a, settings, b, alpha / 2.0, seed, &mut |x| progress(x / 2.0))?;
-    let cb = bootstrap(table_b, settings, b, alpha / 2.0, seed ^ 0x5DEE_CE66_D1CE_F00D, &mut |x| progress(0.5 + x / 2.0))?;
-    let distance = bottleneck(&ca.diagram, &cb.diagram);
-    let threshold = ca.threshold + cb.threshold;
-    Ok(Comparison { distance, threshold, alpha, differ: distance > threshold, a: ca, b: cb })
+    let cb = bootstrap(table_b, settings, b, alpha / 2.0, second_seed(seed), &mut |x| progress(0.5 + x / 2.0))?;
+    Ok(conclude_comparison(ca, cb, alpha))
 }
 
 #[cfg(test)]

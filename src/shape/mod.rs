@@ -3,9 +3,10 @@
 //! diagram ([`persistence`]), distances between diagrams ([`bottleneck`]), bootstrap
 //! confidence for each feature and comparisons of two data sets ([`confidence`]),
 //! settings suggested from the data ([`suggest`]) and sweeps over a grid of settings
-//! ([`sweep`]). The method follows Carrière, Michel, Oudot, "Statistical analysis and
-//! parameter selection for Mapper", JMLR 19, 2018, and Cohen-Steiner, Edelsbrunner,
-//! Harer, "Extending persistence using Poincaré and Lefschetz duality", 2009.
+//! ([`sweep`]), the nodes that carry each feature ([`support`]) and second tables made by
+//! swapping columns ([`swap`]). The method follows Carrière, Michel, Oudot, "Statistical
+//! analysis and parameter selection for Mapper", JMLR 19, 2018, and Cohen-Steiner,
+//! Edelsbrunner, Harer, "Extending persistence using Poincaré and Lefschetz duality", 2009.
 //!
 //! Not here: building graphs ([`crate::engine`]) or drawing anything.
 
@@ -14,9 +15,12 @@ pub mod bottleneck;
 pub mod confidence;
 pub mod suggest;
 pub mod sweep;
+pub mod support;
+pub mod swap;
 
 pub use bottleneck::{bottleneck, bottleneck_points};
-pub use confidence::{bootstrap, compare, Comparison, Confidence};
+pub use confidence::{bootstrap, compare, Bootstrap, Comparing, Comparison, Confidence};
 pub use persistence::{extended_persistence, Diagram, Feature, Kind};
 pub use suggest::{suggest, Suggestion};
-pub use sweep::{sweep, Cell, Grid};
+pub use sweep::{sweep, Cell, Grid, Sweeping};
+pub use support::supports;

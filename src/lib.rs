@@ -16,6 +16,8 @@ pub mod error;
 pub mod settings;
 pub mod table;
 pub mod timecol;
+pub mod align;
+pub mod campaign;
 pub mod derive;
 pub mod missing;
 pub mod points;

@@ -10,9 +10,11 @@ use js_sys::{Array, Float64Array, Function, Int32Array, Object, Reflect, Uint32A
 use serde::Serialize;
 use wasm_bindgen::prelude::*;
 
+use crate::campaign::{Campaign, Plan};
 use crate::engine::{NodeStat, Workbench};
 use crate::shape::{self, Bootstrap, Comparing, Grid, Sweeping};
 use crate::settings::Settings;
+use crate::table::ingest::Ingest;
 use crate::table::{ReadOptions, TableReader};
 
 /// Panics become one `console.error` line with the message and place, instead of an
@@ -118,7 +120,9 @@ struct PageReadOptions {
 #[wasm_bindgen]
 pub struct Engine {
     bench: Workbench,
-    reader: Option<TableReader>,
+    reader: Option<Ingest>,
+    /// The files loaded, kept one by one (see [`crate::campaign`]).
+    campaign: Campaign,
     notices: Vec<String>,
     encoding: &'static str,
     /// Graphs with more nodes than this are not laid out until asked again with 0 (no limit).
@@ -148,12 +152,14 @@ impl Engine {
             boot: None,
             sweeping: None,
             comparing: None,
+            campaign: Campaign::new(),
         }
     }
 
-    /// Starts reading a new file; any table being read is dropped.
+    /// Starts reading a new file (CSV, ICARTT or spreadsheet, told by content); any file
+    /// being read is dropped.
     pub fn begin_table(&mut self, name: &str) {
-        self.reader = Some(TableReader::new(name, ReadOptions::default()));
+        self.reader = Some(Ingest::new(name, ReadOptions::default()));
     }
 
     /// Starts reading a new file with read options `{textAsMissing: [...]}`.
@@ -163,7 +169,7 @@ impl Engine {
         } else {
             serde_wasm_bindgen::from_value(options).map_err(|e| fail(format!("internal: read options: {e}")))?
         };
-        self.reader = Some(TableReader::new(name, ReadOptions { text_as_missing: page.text_as_missing, ..ReadOptions::default() }));
+        self.reader = Some(Ingest::new(name, ReadOptions { text_as_missing: page.text_as_missing, ..ReadOptions::default() }));
         Ok(())
     }
 
@@ -193,16 +199,74 @@ impl Engine {
         reader.push(chunk).map_err(fail)
     }
 
-    /// Ends the file; the table replaces the previous one. Returns `{name, rows, columns}`.
+    /// Ends the file; it replaces every file loaded before. Returns `{name, rows, columns}`.
     pub fn finish_table(&mut self) -> Result<JsValue, JsValue> {
         let reader = self.reader.take().ok_or_else(|| fail("internal: finish_table before begin_table"))?;
-        let (table, report) = reader.finish_with_report().map_err(fail)?;
+        let part = reader.finish(None).map_err(fail)?;
         // A table the page cannot start from is refused before it replaces the one shown.
-        crate::auto::auto_settings(&table).map_err(fail)?;
-        self.notices = report.notices;
-        self.encoding = report.encoding;
+        crate::auto::auto_settings(&part.table).map_err(fail)?;
+        self.notices = part.note.notes.clone();
+        self.encoding = part.note.encoding;
+        self.campaign.clear();
+        self.campaign.add(part);
+        self.assemble()
+    }
+
+    /// Ends the file and adds it to the files loaded (the table is made by `assemble`).
+    pub fn finish_file(&mut self) -> Result<(), JsValue> {
+        let reader = self.reader.take().ok_or_else(|| fail("internal: finish_file before begin_table"))?;
+        let part = reader.finish(None).map_err(fail)?;
+        // Each file's notices are in its report in the file list.
+        self.notices.clear();
+        self.encoding = part.note.encoding;
+        self.campaign.add(part);
+        Ok(())
+    }
+
+    /// Drops every file loaded.
+    pub fn clear_files(&mut self) {
+        self.campaign.clear();
+    }
+
+    /// Removes one loaded file (call `assemble` after).
+    pub fn remove_file(&mut self, name: &str) -> Result<(), JsValue> {
+        self.campaign.remove(name).map_err(fail)
+    }
+
+    /// Reads another sheet of a loaded spreadsheet (call `assemble` after).
+    pub fn choose_sheet(&mut self, name: &str, sheet: &str) -> Result<(), JsValue> {
+        self.campaign.choose_sheet(name, sheet).map_err(fail)
+    }
+
+    /// Sets the alignment plan `{measurement, model, align}`, or clears it with `null`
+    /// (call `assemble` after).
+    pub fn set_plan(&mut self, plan: JsValue) -> Result<(), JsValue> {
+        let plan: Option<Plan> = if plan.is_null() || plan.is_undefined() {
+            None
+        } else {
+            let text: String = js_sys::JSON::stringify(&plan).map_err(|_| fail("the plan cannot be written as JSON"))?.into();
+            Some(serde_json::from_str(&text).map_err(|e| fail(format!("setting 'plan': {e}")))?)
+        };
+        self.campaign.set_plan(plan).map_err(fail)
+    }
+
+    /// Makes the table from the files loaded (merged, or aligned by the plan); it replaces
+    /// the previous table. Returns `{name, rows, columns}`.
+    pub fn assemble(&mut self) -> Result<JsValue, JsValue> {
+        let table = self.campaign.assemble().map_err(fail)?;
         self.bench.set_table(table);
         self.table_info(&[])
+    }
+
+    /// The file list: `{files: [report], plan, alignment, differences}`.
+    pub fn files(&self) -> Result<JsValue, JsValue> {
+        to_js(&self.campaign.info())
+    }
+
+    /// Column summaries of the named files merged (all when the list is empty).
+    pub fn file_columns(&self, names: JsValue) -> Result<JsValue, JsValue> {
+        let names: Vec<String> = serde_wasm_bindgen::from_value(names).map_err(|e| fail(format!("file names: {e}")))?;
+        to_js(&self.campaign.columns_of(&names).map_err(fail)?)
     }
 
     /// Column summaries with `fill_values` counted as missing: `{name, rows, columns}`.

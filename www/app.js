@@ -45,6 +45,7 @@ const state = {
   builds: 0,               // graphs built since the page opened
   lensMemory: {},          // parameters of lens kinds not in use, so switching back restores them
   clusteringMemory: {},
+  files: null,             // the file list from the engine: {files, plan, alignment, differences} (files.js)
   builtSettings: null,     // the settings of the graph on screen (recovery.js puts them back)
   nodeLimit: NODE_LIMIT,   // graphs over this many nodes wait for the user's yes (recovery.js)
 };
@@ -167,8 +168,8 @@ let loadSeq = 0;
 
 /** Reads a table (a File, or text with a name), then builds its first graph with the
  *  engine's automatic settings. Resolves with the table's description. */
-async function loadTable(source) {
-  const tooBig = sizeRefusal(source);
+async function loadTable(source, ask) {
+  const tooBig = source ? sizeRefusal(source) : null;
   if (tooBig) { fail(tooBig); throw new Error(tooBig); }
   const seq = ++loadSeq;
   state.timing = { start: performance.now(), tableRead: 0, firstDraw: 0, pendingFirstDraw: true };
@@ -180,16 +181,17 @@ async function loadTable(source) {
   renderAll();
   let loaded;
   try {
-    loaded = await engine.request("load", source, progressHandler(false));
+    loaded = await (ask ? ask(progressHandler(false)) : engine.request("load", source, progressHandler(false)));
   } catch (e) {
     if (seq === loadSeq) fail(e.message);
     throw e;
   }
   if (seq !== loadSeq) throw new Error("another file was opened meanwhile");
-  rememberSource(source);
+  if (source) rememberSource(source);
   state.timing.tableRead = performance.now();
   state.table = loaded.table;
   state.settings = loaded.settings;
+  state.files = loaded.files || null;
   state.restored = null;
   if (typeof restoreSettingsFor === "function") await restoreSettingsFor(loaded);
   state.summary = null;
@@ -437,6 +439,7 @@ function onFormChange() {
 
 function renderAll() {
   renderData();
+  renderFiles();
   renderNotices();
   renderColumns();
   renderSettings();
@@ -485,6 +488,7 @@ function renderColumns() {
     const derived = derivedNames().has(c.name);
     const kind = el("span", "kind", derived ? "derived number" : c.kind === "number" ? "number" : "category");
     if (c.kind !== "number" && c.levels !== null && c.levels !== undefined) kind.textContent += " · " + plural(c.levels, "value", "values");
+    if (c.unit) kind.textContent += " · " + c.unit;
     tdName.append(kind);
     tdName.title = c.name + (c.kind === "number" ? " (numbers)" : " (text values)");
     if (c.firstText) tdName.title += "; read as text because data row " + c.firstText.row + " holds “" + c.firstText.text + "”";
@@ -661,8 +665,9 @@ function wire() {
   wireRecovery();
   const input = byId("file-input");
   input.addEventListener("change", function () {
-    const file = input.files && input.files[0];
-    if (file) loadFile(file).catch(function () { /* shown on the page */ });
+    const files = Array.from(input.files || []);
+    if (files.length > 1) loadFiles(files, false).catch(function () { /* shown on the page */ });
+    else if (files[0]) loadFile(files[0]).catch(function () { /* shown on the page */ });
     input.value = "";
   });
 
@@ -683,8 +688,9 @@ function wire() {
     ev.preventDefault();
     depth = 0;
     zone.classList.remove("over");
-    const file = ev.dataTransfer && ev.dataTransfer.files && ev.dataTransfer.files[0];
-    if (file) loadFile(file).catch(function () { /* shown on the page */ });
+    const files = Array.from((ev.dataTransfer && ev.dataTransfer.files) || []);
+    if (files.length > 1) loadFiles(files, false).catch(function () { /* shown on the page */ });
+    else if (files[0]) loadFile(files[0]).catch(function () { /* shown on the page */ });
   });
   zone.addEventListener("keydown", function (ev) {
     if (ev.key === "Enter" || ev.key === " ") { ev.preventDefault(); input.click(); }
@@ -767,6 +773,10 @@ window.nervure = Object.freeze({
   pool: function (options) { return engine.request("pool", options || {}); },
   /** The message shown on the page, or null. */
   message: function () { return state.message; },
+  /** The file list (reports, alignment plan and report, differences offered), or null. */
+  files: function () { return state.files ? JSON.parse(JSON.stringify(state.files)) : null; },
+  /** Milliseconds the last many-files load and the last alignment took (read, merge or align). */
+  fileTimings: function () { return Object.assign({}, state.fileTimings || {}); },
   /** How the last table was read: the reader's notices (decoding, decimal commas...). */
   notices: function () { return state.table && state.table.notices ? state.table.notices.slice() : []; },
   /** Stops the build or read under way (the engine restarts; the graph shown stays). */

@@ -5,6 +5,8 @@
  * (`self.NERVURE_WASM_GZIP_BASE64`, gzipped) in front of this file.
  *
  * Messages in:  {id, type: "load", file | text, name}
+ *               {id, type: "load", files: [File], add}      several files (added to the list when add)
+ *               {id, type: "files", op: "remove" | "sheet" | "plan" | "columns", name, sheet, plan, names}
  *               {id, type: "run", settings, colour: {column, stat} | null}
  *               {id, type: "colour", column, stat}
  *               {id, type: "detail", node}
@@ -216,20 +218,45 @@ function graphMessage(engine) {
   return { value: g, transfer };
 }
 
+/** The table just made, its first settings and the file list. */
+function tableMessage(engine) {
+  const settings = engine.auto_settings();
+  // The column list counts the automatic fill values as missing, as the build will.
+  const fill = (settings.missing && settings.missing.fillValues) || [];
+  const table = engine.column_summaries(new Float64Array(fill));
+  return { table, settings, files: engine.files() };
+}
+
 async function handle(engine, msg) {
   const id = msg.id;
   const progress = progressPoster(id);
   switch (msg.type) {
     case "load": {
       readOptions = msg.options || null;
-      if (msg.file) readFileInto(engine, msg.file, msg.name, progress);
-      else readTextInto(engine, msg.text, msg.name, progress);
-      engine.finish_table();
-      const settings = engine.auto_settings();
-      // The column list counts the automatic fill values as missing, as the build will.
-      const fill = (settings.missing && settings.missing.fillValues) || [];
-      const table = engine.column_summaries(new Float64Array(fill));
-      return { value: { table, settings } };
+      if (msg.files) {
+        if (!msg.add) engine.clear_files();
+        msg.files.forEach(function (file, i) {
+          const n = msg.files.length;
+          const perFile = function (stage, fraction) { progress(stage, (i + fraction) / n); };
+          readFileInto(engine, file, file.name, perFile);
+          engine.finish_file();
+        });
+        engine.assemble();
+      } else {
+        if (msg.file) readFileInto(engine, msg.file, msg.name, progress);
+        else readTextInto(engine, msg.text, msg.name, progress);
+        engine.finish_table();
+      }
+      return { value: tableMessage(engine) };
+    }
+    case "files": {
+      if (msg.op === "columns") return { value: engine.file_columns(msg.names || []) };
+      if (msg.op === "remove") engine.remove_file(msg.name);
+      else if (msg.op === "sheet") engine.choose_sheet(msg.name, msg.sheet);
+      else if (msg.op === "plan") engine.set_plan(msg.plan === undefined ? null : msg.plan);
+      else throw new Error("internal: unknown file operation '" + msg.op + "'");
+      engine.assemble();
+      return { value: tableMessage(engine) };
     }
     case "run": {
       // A newer run is already waiting: skip this one, its settings are out of date.

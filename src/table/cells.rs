@@ -340,7 +340,7 @@ impl ColumnBuilder {
                 ColumnData::Category { codes, levels }
             }
         };
-        Column { name: self.name, data, first_text: self.first_text }
+        Column { name: self.name, data, first_text: self.first_text, unit: None }
     }
 }
 

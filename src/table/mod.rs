@@ -8,7 +8,11 @@
 
 mod cells;
 mod encoding;
+pub mod icartt;
+pub mod ingest;
+pub mod merge;
 mod reader;
+pub mod sheet;
 mod sniff;
 #[cfg(test)]
 mod reader_tests;
@@ -37,15 +41,23 @@ pub struct Column {
     /// Why a column that began as numbers became a category: the first cell that was not
     /// a number, as (data row counted from 1, the text). `None` for columns typed from the start.
     pub first_text: Option<(usize, String)>,
+    /// Units of the values when the file states them (ICARTT headers), for legends.
+    pub unit: Option<String>,
 }
 
 impl Column {
     pub fn number(name: impl Into<String>, values: Vec<f64>) -> Column {
-        Column { name: name.into(), data: ColumnData::Number(values), first_text: None }
+        Column { name: name.into(), data: ColumnData::Number(values), first_text: None, unit: None }
     }
 
     pub fn category(name: impl Into<String>, codes: Vec<u32>, levels: Vec<String>) -> Column {
-        Column { name: name.into(), data: ColumnData::Category { codes, levels }, first_text: None }
+        Column { name: name.into(), data: ColumnData::Category { codes, levels }, first_text: None, unit: None }
+    }
+
+    /// The same column with its units stated.
+    pub fn with_unit(mut self, unit: Option<String>) -> Column {
+        self.unit = unit;
+        self
     }
 
     pub fn len(&self) -> usize {
@@ -91,6 +103,7 @@ impl Column {
                     mean: (n > 0).then(|| sum / n as f64),
                     levels: None,
                     first_text: None,
+                    unit: self.unit.clone(),
                 }
             }
             ColumnData::Category { codes, levels } => ColumnSummary {
@@ -102,6 +115,7 @@ impl Column {
                 mean: None,
                 levels: Some(levels.len()),
                 first_text: self.first_text.as_ref().map(|(r, t)| FirstText { row: *r, text: t.clone() }),
+                unit: self.unit.clone(),
             },
         }
     }
@@ -120,6 +134,9 @@ pub struct ColumnSummary {
     /// Number of distinct values of a category column.
     pub levels: Option<usize>,
     pub first_text: Option<FirstText>,
+    /// Units stated by the file (ICARTT), absent when none were.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub unit: Option<String>,
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize)]

@@ -21,6 +21,7 @@ import importlib.metadata
 import io
 import json
 import os
+import re
 import sys
 from datetime import datetime, timedelta, timezone
 import warnings
@@ -529,6 +530,107 @@ def quantiles_fixture():
     })
 
 
+def align_fixture():
+    """Nearest-in-time matching per group (pandas.merge_asof) and linear interpolation in
+    time per group (numpy.interp with left=right=NaN: missing outside the model's range)."""
+    import pandas as pd
+
+    def vec(a):
+        return [float(x) for x in a]
+
+    rng = np.random.default_rng(41)
+    # Integer times so that exact matches, equal distances (ties) and equal model times occur.
+    left_t = np.sort(rng.integers(0, 120, size=80)).astype(float)
+    left_site = rng.choice(["a", "b", "c"], size=80)
+    right_t = (rng.integers(0, 30, size=40) * 4).astype(float)
+    right_site = rng.choice(["a", "b"], size=40)
+    right_v = np.round(rng.normal(10.0, 3.0, size=40), 6)
+    order = np.argsort(right_t, kind="stable")
+    right_t, right_site, right_v = right_t[order], right_site[order], right_v[order]
+    left = pd.DataFrame({"t": left_t, "site": left_site})
+    right = pd.DataFrame({"t": right_t, "site": right_site, "ridx": np.arange(40), "v": right_v})
+    nearest = []
+    for tol in [None, 3.0, 0.0, 1.5]:
+        kw = {} if tol is None else {"tolerance": tol}
+        for by in [True, False]:
+            m = pd.merge_asof(left, right.drop(columns=[] if by else ["site"]), on="t", by="site" if by else None,
+                              direction="nearest", **kw)
+            nearest.append({
+                "tolerance": tol,
+                "by": by,
+                "ridx": [None if np.isnan(x) else int(x) for x in m["ridx"].to_numpy(dtype=float)],
+            })
+    linear = []
+    # Per site, model rows with distinct times (numpy.interp needs increasing xp).
+    for site in ["a", "b"]:
+        sel = right[right["site"] == site].drop_duplicates("t", keep="first")
+        lsel = left[left["site"] == site]
+        y = np.interp(lsel["t"].to_numpy(), sel["t"].to_numpy(), sel["v"].to_numpy(), left=np.nan, right=np.nan)
+        y_edge = np.interp(lsel["t"].to_numpy(), sel["t"].to_numpy(), sel["v"].to_numpy())
+        linear.append({"site": site, "xp": vec(sel["t"].to_numpy()), "fp": vec(sel["v"].to_numpy()),
+                       "x": vec(lsel["t"].to_numpy()), "y": [None if np.isnan(v) else float(v) for v in y],
+                       "yEdge": vec(y_edge)})
+    write("align.json", {
+        "source": (f"pandas {pd.__version__}: pandas.merge_asof(left, right, on='t', by='site' or none, "
+                   f"direction='nearest', tolerance=...) (ridx: the matched right row); {lib('numpy')}: "
+                   "numpy.interp(x, xp, fp, left=nan, right=nan) per site, and without left/right (yEdge, "
+                   "numpy's edge repetition); times drawn with numpy.random.default_rng(41)"),
+        "left": {"t": vec(left_t), "site": [str(x) for x in left_site]},
+        "right": {"t": vec(right_t), "site": [str(x) for x in right_site], "v": vec(right_v)},
+        "nearest": nearest,
+        "linear": linear,
+    })
+
+
+def xlsx_fixture():
+    """A small workbook written by openpyxl (numbers, text, an empty cell, date-times, a
+    second sheet), and the values written, for the spreadsheet reader's test."""
+    import zipfile
+    import openpyxl
+    wb = openpyxl.Workbook()
+    ws = wb.active
+    ws.title = "stations"
+    header = ["when", "station", "water_temp_c", "flow"]
+    data = [
+        [datetime(2024, 7, 15, 8, 30, 0), "up", 18.25, 3],
+        [datetime(2024, 7, 15, 9, 0, 0), "up", 18.5, None],
+        [datetime(2024, 7, 16, 0, 0, 0), "down", -0.125, 12],
+        [datetime(1999, 12, 31, 23, 59, 59), "down", 1e-3, 7],
+    ]
+    ws.append(header)
+    for r in data:
+        ws.append(r)
+    ws2 = wb.create_sheet("notes")
+    ws2.append(["k", "v"])
+    ws2.append(["a", 1.5])
+    wb.properties.created = datetime(2024, 1, 1)
+    wb.properties.modified = datetime(2024, 1, 1)
+    buf = io.BytesIO()
+    wb.save(buf)
+    # Rewrite the archive with fixed entry times so the file is the same on every run.
+    src = zipfile.ZipFile(io.BytesIO(buf.getvalue()))
+    path = os.path.join(OUT, "sheet.xlsx")
+    with zipfile.ZipFile(path, "w", zipfile.ZIP_DEFLATED) as out:
+        for info in src.infolist():
+            fixed = zipfile.ZipInfo(info.filename, date_time=(2024, 1, 1, 0, 0, 0))
+            fixed.compress_type = zipfile.ZIP_DEFLATED
+            body = src.read(info.filename)
+            if info.filename == "docProps/core.xml":
+                # openpyxl stamps the save time as "modified"; fix it too.
+                body = re.sub(rb"(<dcterms:modified[^>]*>)[^<]*", rb"\g<1>2024-01-01T00:00:00Z", body)
+            out.writestr(fixed, body)
+    write("sheet.json", {
+        "source": f"openpyxl {openpyxl.__version__}: Workbook(), ws.append(rows), wb.save(); sheet.xlsx holds these values",
+        "sheets": ["stations", "notes"],
+        "header": header,
+        "when_iso": [r[0].isoformat() for r in data],
+        "when_seconds": [r[0].replace(tzinfo=timezone.utc).timestamp() for r in data],
+        "station": [r[1] for r in data],
+        "water_temp_c": [r[2] for r in data],
+        "flow": [r[3] for r in data],
+    })
+
+
 def main():
     os.makedirs(OUT, exist_ok=True)
     x, target, names, columns = iris()
@@ -546,6 +648,8 @@ def main():
     times_fixture()
     ks_fixture()
     bottleneck_fixture()
+    align_fixture()
+    xlsx_fixture()
     neighbours_fixture(iris_z)
     quantiles_fixture()
 

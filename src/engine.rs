@@ -354,6 +354,19 @@ impl Workbench {
 
     /// Every stage up to the clusters, each re-used when its part of the settings is unchanged.
     fn cluster_stages(&mut self, s: &Settings, progress: &mut dyn FnMut(&str, f64)) -> Result<()> {
+        self.prepare(s, progress)?;
+        let pts = &self.points.as_ref().expect("prepared").1;
+        let cov = &self.cover.as_ref().expect("prepared").1;
+        let kk = cluster_key(s);
+        if self.clustered.as_ref().map(|(k, _)| k) != Some(&kk) {
+            self.clustered = Some((kk, cluster_elements(pts, cov, &s.clustering, progress)));
+        }
+        Ok(())
+    }
+
+    /// Points, lens and cover for `s`, each re-used when its part of the settings is
+    /// unchanged (settings validated and derived columns synced by the caller).
+    fn prepare(&mut self, s: &Settings, progress: &mut dyn FnMut(&str, f64)) -> Result<()> {
         let table = self.table.as_ref().ok_or_else(|| Error::Input("no table is loaded yet: open a CSV file first".into()))?;
         let pk = PointsKey::of(s);
         if self.points.as_ref().map(|(k, _)| k) != Some(&pk) {
@@ -375,12 +388,73 @@ impl Workbench {
             self.cover = Some((ck, make_cover(lens, s)));
             self.clustered = None;
         }
-        let cov = &self.cover.as_ref().expect("just set").1;
-        let kk = cluster_key(s);
-        if self.clustered.as_ref().map(|(k, _)| k) != Some(&kk) {
-            self.clustered = Some((kk, cluster_elements(pts, cov, &s.clustering, progress)));
-        }
         Ok(())
+    }
+
+    /// The first half of [`Workbench::run`] for callers that cluster the cover elements
+    /// themselves (the page's pool of workers): every stage up to the cover, re-using the
+    /// cache. Returns the number of cover elements to cluster, 0 when nothing needs
+    /// clustering (the graph or the clusters for `s` are cached: call
+    /// [`Workbench::run`], which then does no clustering). Read each element's points with
+    /// [`Workbench::element_points`], then call [`Workbench::run_with_labels`].
+    pub fn prepare_elements(&mut self, s: &Settings, progress: &mut dyn FnMut(&str, f64)) -> Result<usize> {
+        s.validate()?;
+        self.sync_derived(s)?;
+        if let Some(b) = &self.last {
+            if graph_key(&b.settings) == graph_key(s) {
+                return Ok(0);
+            }
+        }
+        self.prepare(s, progress)?;
+        if self.clustered.as_ref().map(|(k, _)| k) == Some(&cluster_key(s)) {
+            return Ok(0);
+        }
+        Ok(self.cover.as_ref().expect("prepared").1.elements.len())
+    }
+
+    /// Cover element `e`'s points after [`Workbench::prepare_elements`]: row-major, one
+    /// row per member (in the element's order), [`Workbench::point_dim`] values a row.
+    pub fn element_points(&self, e: usize) -> Result<Vec<f64>> {
+        let (pts, cov) = match (&self.points, &self.cover) {
+            (Some((_, p)), Some((_, c))) => (p, c),
+            _ => return Err(Error::Data("internal: element points asked before the cover was made".into())),
+        };
+        let members = cov.elements.get(e).ok_or_else(|| Error::Data(format!("internal: there is no cover element {e}")))?;
+        Ok(element_buffer(pts, members))
+    }
+
+    /// Number of points in each cover element of the last prepared cover.
+    pub fn element_sizes(&self) -> Vec<usize> {
+        self.cover.as_ref().map_or(Vec::new(), |(_, c)| c.elements.iter().map(|e| e.len()).collect())
+    }
+
+    /// Number of values in each point row (the chosen columns), after a prepare.
+    pub fn point_dim(&self) -> usize {
+        self.points.as_ref().map_or(0, |(_, p)| p.data.ncols())
+    }
+
+    /// The second half: takes `labels[e]`, the clustering of cover element `e`'s points (as
+    /// [`crate::cluster::cluster`] returns it) made elsewhere, as the clusters of `s`; a
+    /// following [`Workbench::run`] (or [`Workbench::node_count`]) then does no clustering.
+    pub fn set_element_labels(&mut self, s: &Settings, labels: Vec<cluster::Labels>) -> Result<()> {
+        s.validate()?;
+        self.sync_derived(s)?;
+        self.prepare(s, &mut |_: &str, _: f64| {})?;
+        let pts = &self.points.as_ref().expect("prepared").1;
+        let cov = &self.cover.as_ref().expect("prepared").1;
+        if labels.len() != cov.elements.len() || labels.iter().zip(&cov.elements).any(|(l, m)| l.len() != m.len()) {
+            return Err(Error::Data("internal: the clusters given do not match the cover's elements".into()));
+        }
+        let groups = cov.elements.iter().zip(labels).map(|(members, l)| groups_from_labels(members, &l)).collect();
+        self.clustered = Some((cluster_key(s), clustered_from(pts, groups, &mut |_: &str, _: f64| {})));
+        Ok(())
+    }
+
+    /// [`Workbench::set_element_labels`], then [`Workbench::run`]: the same result as
+    /// `run` alone when the labels are the same.
+    pub fn run_with_labels(&mut self, s: &Settings, labels: Vec<cluster::Labels>, progress: &mut dyn FnMut(&str, f64)) -> Result<Summary> {
+        self.set_element_labels(s, labels)?;
+        self.run(s, progress)
     }
 
     /// One value per node of the last build: for a numeric column the statistic over the
@@ -721,6 +795,11 @@ fn lens_values(table: &Table, pts: &Points, s: &Settings) -> Result<Lenses> {
 
 fn cluster_elements(pts: &Points, cov: &Cover, method: &Clustering, progress: &mut dyn FnMut(&str, f64)) -> Clustered {
     let per_element = cluster_all(pts, cov, method, progress);
+    clustered_from(pts, per_element, progress)
+}
+
+/// Nodes from every element's clusters (lists of point indices), in element order.
+fn clustered_from(pts: &Points, per_element: Vec<Vec<Vec<u32>>>, progress: &mut dyn FnMut(&str, f64)) -> Clustered {
     let mut in_node = vec![false; pts.rows.len()];
     let mut nodes = Vec::new();
     for (e, groups) in per_element.into_iter().enumerate() {
@@ -741,16 +820,26 @@ pub fn cluster_element(pts: &Points, members: &[u32], method: &Clustering) -> Ve
     if members.is_empty() {
         return Vec::new();
     }
+    let labels = cluster::cluster(&element_buffer(pts, members), pts.data.ncols(), method);
+    groups_from_labels(members, &labels)
+}
+
+/// The points of `members`, row-major, in that order.
+fn element_buffer(pts: &Points, members: &[u32]) -> Vec<f64> {
     let d = pts.data.ncols();
     let flat = pts.data.as_slice().expect("points are row-major and contiguous");
     let mut buf = Vec::with_capacity(members.len() * d);
     for &p in members {
         buf.extend_from_slice(&flat[p as usize * d..(p as usize + 1) * d]);
     }
-    let labels = cluster::cluster(&buf, d, method);
+    buf
+}
+
+/// One list of point indices per cluster (labels numbered as [`cluster::cluster`] does).
+fn groups_from_labels(members: &[u32], labels: &cluster::Labels) -> Vec<Vec<u32>> {
     let k = labels.iter().flatten().map(|&c| c as usize + 1).max().unwrap_or(0);
     let mut groups: Vec<Vec<u32>> = vec![Vec::new(); k];
-    for (&p, l) in members.iter().zip(&labels) {
+    for (&p, l) in members.iter().zip(labels) {
         if let Some(c) = l {
             groups[*c as usize].push(p);
         }

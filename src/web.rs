@@ -6,7 +6,7 @@
 //! [`crate::engine::Workbench`] and is tested natively; errors carry the engine's own
 //! message unchanged, because that message is what the page shows.
 
-use js_sys::{Float64Array, Function, Object, Reflect, Uint32Array};
+use js_sys::{Array, Float64Array, Function, Int32Array, Object, Reflect, Uint32Array};
 use serde::Serialize;
 use wasm_bindgen::prelude::*;
 
@@ -302,6 +302,43 @@ impl Engine {
         }
         let summary = self.bench.run(&settings, &mut report).map_err(fail)?;
         to_js(&summary)
+    }
+
+    /// Points, lens and cover for `settings` (cached stages re-used); returns how many cover
+    /// elements a pool of workers should cluster, 0 when nothing needs clustering (then
+    /// call `run`).
+    pub fn prepare_elements(&mut self, settings: JsValue, progress: &Function) -> Result<usize, JsValue> {
+        let settings = settings_from_js(&settings)?;
+        let mut report = |stage: &str, fraction: f64| {
+            let _ = progress.call2(&JsValue::NULL, &JsValue::from_str(stage), &JsValue::from_f64(fraction));
+        };
+        self.bench.prepare_elements(&settings, &mut report).map_err(fail)
+    }
+
+    /// Cover element `e`'s points, row-major, `point_dim()` values a row.
+    pub fn element_points(&self, e: usize) -> Result<Float64Array, JsValue> {
+        Ok(Float64Array::from(&self.bench.element_points(e).map_err(fail)?[..]))
+    }
+
+    /// Number of points in each cover element, after `prepare_elements`.
+    pub fn element_sizes(&self) -> Uint32Array {
+        let sizes: Vec<u32> = self.bench.element_sizes().iter().map(|&k| k as u32).collect();
+        Uint32Array::from(&sizes[..])
+    }
+
+    pub fn point_dim(&self) -> usize {
+        self.bench.point_dim()
+    }
+
+    /// Takes one `Int32Array` of labels per cover element (as `cluster_points` returns
+    /// them) as the clusters of `settings`; `run` then does no clustering.
+    pub fn set_element_labels(&mut self, settings: JsValue, labels: Array) -> Result<(), JsValue> {
+        let settings = settings_from_js(&settings)?;
+        let labels: Vec<crate::cluster::Labels> = labels
+            .iter()
+            .map(|l| Int32Array::from(l).to_vec().into_iter().map(|x| (x >= 0).then_some(x as u32)).collect())
+            .collect();
+        self.bench.set_element_labels(&settings, labels).map_err(fail)
     }
 
     /// The last graph as typed arrays: `{nodeSizes, nodeElements, edgeA, edgeB, edgeShared,
@@ -653,6 +690,22 @@ struct ComparisonOut {
     differ: bool,
     a: ConfidenceOut,
     b: ConfidenceOut,
+}
+
+/// Clusters one cover element's points (row-major, `dim` values a row) with the
+/// `clustering` part of a settings document; one label per point, -1 for noise. Used by
+/// the page's helper workers, which hold no table.
+#[wasm_bindgen]
+pub fn cluster_points(points: &[f64], dim: usize, clustering: &JsValue) -> Result<Int32Array, JsValue> {
+    install_panic_message();
+    let text: String = js_sys::JSON::stringify(clustering).map_err(|_| fail("setting 'clustering': cannot be written as JSON"))?.into();
+    let method: crate::settings::Clustering = serde_json::from_str(&text).map_err(|e| fail(format!("setting 'clustering': {e}")))?;
+    if dim == 0 || points.len() % dim != 0 {
+        return Err(fail(format!("internal: {} values do not make rows of {dim}", points.len())));
+    }
+    let labels = crate::cluster::cluster(points, dim, &method);
+    let out: Vec<i32> = labels.iter().map(|l| l.map_or(-1, |c| c as i32)).collect();
+    Ok(Int32Array::from(&out[..]))
 }
 
 impl Engine {

@@ -9,9 +9,10 @@
 /* HOOK(node statistics): the engine will offer median, spread and the share of rows above a
  * threshold besides the mean; add them here as [stat, words] and the colour card shows a
  * choice (the worker passes `stat` to Engine.node_values unchanged). */
-const COLOUR_STATS = [["mean", "Mean"]];
+const COLOUR_STATS = [["mean", "Mean"], ["median", "Median"], ["spread", "Spread"], ["shareAbove", "Share above"]];
 
 function statWords(stat) {
+  if (stat && stat.kind) stat = stat.kind;
   const hit = COLOUR_STATS.find((s) => s[0] === stat);
   return hit ? hit[1] : stat;
 }
@@ -61,6 +62,8 @@ const engine = (function () {
     const url = URL.createObjectURL(new Blob([source], { type: "text/javascript" }));
     worker = new Worker(url);
     URL.revokeObjectURL(url);
+    // The worker starts its clustering helpers from the same script.
+    worker.postMessage({ type: "helper-source", source });
     worker.onmessage = function (event) {
       const msg = event.data;
       const w = waiting.get(msg.id);
@@ -255,7 +258,7 @@ async function build(seq, nodeLimit) {
   renderChrome();
   let out;
   try {
-    out = await engine.request("run", { settings, nodeLimit, colour: state.colour.column ? { column: state.colour.column, stat: state.colour.stat } : null }, progressHandler(true));
+    out = await engine.request("run", { settings, nodeLimit, colour: state.colour.column ? colourRequest() : null }, progressHandler(true));
   } catch (e) {
     if (seq !== buildSeq) return latestBuild;
     fail(e.message);
@@ -290,6 +293,7 @@ async function afterBuild() {
   writeFragment();
   recordRun();
   renderChrome();
+  await refreshLensHistogram();
   // HOOK(lens histogram): when the engine offers it, fetch the lens histogram here and draw
   // it with the cover's intervals under the Cover fields of the settings form.
   if (state.tab === "scatter") { renderScatterControls(); refreshScatter(); }
@@ -308,23 +312,22 @@ function applyColour(colour) {
   state.colour.values = colour.values;
   state.colour.min = lo === Infinity ? NaN : lo;
   state.colour.max = hi === -Infinity ? NaN : hi;
-  const span = hi - lo;
+  const scale = colourScale(state.colour.min, state.colour.max);
+  state.colour.min = scale.lo;
+  state.colour.max = scale.hi;
   const fills = new Array(colour.values.length);
-  for (let i = 0; i < fills.length; i++) {
-    const v = colour.values[i];
-    fills[i] = colourAt(Number.isFinite(v) ? (span > 0 ? (v - lo) / span : 0.5) : NaN);
-  }
+  for (let i = 0; i < fills.length; i++) fills[i] = scale.fill(colour.values[i]);
   view.setFills(fills);
 }
 
 async function setColourColumn(column) {
-  const known = numericColumns().indexOf(column) >= 0;
+  const known = column === LENS_COLOUR || numericColumns().indexOf(column) >= 0;
   if (!known) throw new Error("cannot colour by '" + column + "': it is not a numeric column of this table");
   state.colour.column = column;
   renderColourControls();
   if (!state.graph) return;
   try {
-    const colour = await engine.request("colour", { column, stat: state.colour.stat });
+    const colour = await engine.request("colour", colourRequest());
     if (state.colour.column !== column) return;
     applyColour(colour);
     renderLegend();
@@ -391,8 +394,10 @@ function settingsFromForm() {
   else if (kind === "column") s.lens = { kind, column: byId("s-lens-column").value };
   else if (kind === "density") s.lens = { kind, bandwidth: byId("s-bandwidth").value.trim() === "" ? null : Number(byId("s-bandwidth").value) };
   else if (kind === "eccentricity") s.lens = { kind, norm: byId("s-norm").value };
+  else s.lens = hookLensFromForm(kind, s.lens);
 
   s.cover = { intervals: intValue("s-intervals"), overlap: Number(byId("s-overlap").value) };
+  hookCoverFromForm(s);
 
   const ck = byId("s-clustering").value;
   if (s.clustering.kind !== ck) {
@@ -414,6 +419,7 @@ function defaultLens(kind) {
   if (kind === "principal") return { kind, component: 1 };
   if (kind === "column") return { kind, column: numericColumns()[0] || "" };
   if (kind === "density") return { kind, bandwidth: null };
+  if (hookDefaultLens(kind)) return hookDefaultLens(kind);
   return { kind: "eccentricity", norm: "rms" };
 }
 
@@ -520,6 +526,7 @@ function renderSettings() {
   if (s.lens.kind === "density") put("s-bandwidth", s.lens.bandwidth === null || s.lens.bandwidth === undefined ? "" : s.lens.bandwidth);
   if (s.lens.kind === "eccentricity") put("s-norm", s.lens.norm || "rms");
   for (const e of document.querySelectorAll("[data-lens]")) e.hidden = e.dataset.lens !== s.lens.kind;
+  hookRenderSettings(s, put);
 
   put("s-intervals", s.cover.intervals);
   put("s-overlap", s.cover.overlap);
@@ -576,6 +583,7 @@ function renderColourControls() {
   block.hidden = false;
   const numeric = numericColumns();
   setOptions(byId("colour-select"), numeric.map((n) => [n, n]), state.colour.column);
+  hookColourControls();
 }
 
 function renderLegend() {
@@ -583,10 +591,10 @@ function renderLegend() {
   const has = state.colour.values && state.graph;
   legend.hidden = !has;
   if (!has) return;
-  byId("legend-title").textContent = statWords(state.colour.stat) + " of " + state.colour.column + unitSuffix(state.colour.column) + " in each node";
+  byId("legend-title").textContent = colourTitle() + unitNote(state.colour.column);
   byId("legend-min").textContent = formatNumber(state.colour.min);
   byId("legend-max").textContent = formatNumber(state.colour.max);
-  byId("legend-bar").style.backgroundImage = cividisGradient();
+  byId("legend-bar").style.backgroundImage = legendGradient();
 }
 
 function renderProgress() {
@@ -628,7 +636,7 @@ const view = new GraphView(byId("graph-canvas"), {
     tooltip.style.left = "0px";   // measure at full width
     tooltip.textContent = "";
     tooltip.append(el("strong", null, "Node " + i), el("span", null, plural(state.graph.nodeSizes[i], "row", "rows")));
-    if (state.colour.values) tooltip.append(el("span", null, "mean " + state.colour.column + ": " + formatNumber(state.colour.values[i])));
+    if (state.colour.values) tooltip.append(el("span", null, colourShort() + ": " + formatNumber(state.colour.values[i])));
     const wrap = byId("canvas-wrap").getBoundingClientRect();
     const left = Math.min(x + 16, wrap.width - tooltip.offsetWidth - 8);
     const top = y + 16 + tooltip.offsetHeight > wrap.height ? y - tooltip.offsetHeight - 12 : y + 16;
@@ -705,6 +713,7 @@ function wire() {
   wireScatter();
   wireHistory();
   wireKeys();
+  wireHooks();
 }
 
 /* ---------------------------------------------------------------- scripting hook */
@@ -760,6 +769,8 @@ window.nervure = Object.freeze({
   },
   /** What the page is doing: {phase, builds, pending} (pending: a rebuild is scheduled). */
   status: function () { return { phase: state.phase, builds: state.builds, pending: rerunTimer !== null, recovering: recovery.recovering }; },
+  /** Sets the worker's pool of clustering helpers: {helpers (0: none), minPoints}. */
+  pool: function (options) { return engine.request("pool", options || {}); },
   /** The message shown on the page, or null. */
   message: function () { return state.message; },
   /** The file list (reports, alignment plan and report, differences offered), or null. */
@@ -770,6 +781,8 @@ window.nervure = Object.freeze({
   notices: function () { return state.table && state.table.notices ? state.table.notices.slice() : []; },
   /** Stops the build or read under way (the engine restarts; the graph shown stays). */
   cancel: function () { return cancelWork(); },
+  /** The last lens histograms [first filter, second filter or null] (hooks.js). */
+  lensHistograms: function () { return lensHistogramInfo(); },
   /** Hooks for the recovery tests (recovery.js). */
   test: recoveryTestHooks,
 });

@@ -55,7 +55,7 @@ async function exportText(format) {
   if (!state.graph) throw new Error("no graph has been built yet");
   if (format === "svg") return graphSvg();
   if (!EXPORTS[format]) throw new Error("unknown export '" + format + "'");
-  return engine.request("export", { format, colour: state.colour.values ? state.colour.column : "", fileName: state.table.name });
+  return engine.request("export", { format, colour: state.colour.values && state.colour.column !== LENS_COLOUR ? state.colour.column : "", fileName: state.table.name });
 }
 
 async function exportFile(format) {
@@ -114,11 +114,11 @@ function graphSvg() {
   }
   out.push("</g>");
   if (state.colour.values) {
-    const title = statWords(state.colour.stat) + " of " + state.colour.column + " in each node";
+    const title = colourTitle();
     const lw = Math.max(240, Math.min(420, 14 + 7.4 * title.length));
     const x = w - lw - 12, y = 12;
     out.push('<defs><linearGradient id="legend-map" x1="0" x2="1" y1="0" y2="0">');
-    for (let k = 0; k <= 16; k++) out.push('<stop offset="' + (k / 16).toFixed(4) + '" stop-color="' + colourAt(k / 16).replace(/ /g, "") + '"/>');
+    for (let k = 0; k <= 16; k++) out.push('<stop offset="' + (k / 16).toFixed(4) + '" stop-color="' + legendColourAt(k / 16).replace(/ /g, "") + '"/>');
     out.push("</linearGradient></defs>");
     out.push('<g class="legend"><rect x="' + n2(x) + '" y="' + y + '" width="' + n2(lw) + '" height="62" rx="8" fill="#fffdf8" fill-opacity="0.94" stroke="#dcd7cd"/>');
     out.push('<text x="' + n2(x + 12) + '" y="' + (y + 22) + '" font-size="13" fill="#56616b">' + xmlEscape(title) + "</text>");

@@ -2,7 +2,7 @@
  * engine and posts results back; it decides nothing about what the page shows.
  *
  * The builder puts the wasm-bindgen glue (global `wasm_bindgen`) and the engine's bytes
- * (`self.NERVURE_WASM_BASE64`) in front of this file.
+ * (`self.NERVURE_WASM_GZIP_BASE64`, gzipped) in front of this file.
  *
  * Messages in:  {id, type: "load", file | text, name}
  *               {id, type: "load", files: [File], add}      several files (added to the list when add)
@@ -19,6 +19,8 @@
  *               {id, type: "runB", settings}
  *               {id, type: "job", job: "bootstrap" | "sweep" | "compare", ...arguments}
  *               {type: "cancel", target}                   stops job `target` between steps
+ *               {id, type: "pool", helpers, minPoints}   size of the pool (0: cluster here)
+ *               {id, type: "cluster", points, dim, clustering}   (to a helper: one element)
  *               {id, type: "memberships"} | {id, type: "explain", nodes} | {id, type: "rowValues", rows, columns}
  *               {id, type: "derivedInfo"} | {id, type: "scatter", x, y, limit} | {id, type: "export", format, colour, fileName}
  *               (load may carry options: {textAsMissing}; run may carry nodeLimit, and then
@@ -32,6 +34,16 @@
  * between calls, so a cancel arrives while it runs; other requests run between its steps.
  */
 "use strict";
+
+/* Two roles, one script. The page's worker (the main one) reads the file and computes
+ * points, lens and cover; the cover elements are then clustered by a pool of helper
+ * workers started from this same script (one per core the browser reports), each with
+ * its own engine: the main worker sends each helper one element's points as a
+ * transferable Float64Array, the helper answers with the labels (Int32Array), and the
+ * main worker builds the graph from them (engine.run_with_labels). A helper holds no
+ * table. The result is the same as clustering in one worker (tests/element_pool.rs and
+ * tests/browser/pool.test.mjs check it).
+ */
 
 /** Bytes read from a file per engine call. */
 const SLICE_BYTES = 4 * 1024 * 1024;
@@ -51,9 +63,16 @@ function decodeBase64(text) {
   return bytes;
 }
 
+/** Inflates gzipped bytes with the browser's own DecompressionStream (no request made). */
+async function gunzip(bytes) {
+  const stream = new Blob([bytes]).stream().pipeThrough(new DecompressionStream("gzip"));
+  return new Uint8Array(await new Response(stream).arrayBuffer());
+}
+
 const ready = (async function () {
-  await wasm_bindgen({ module_or_path: decodeBase64(self.NERVURE_WASM_BASE64) });
-  self.NERVURE_WASM_BASE64 = null;
+  const wasm = await gunzip(decodeBase64(self.NERVURE_WASM_GZIP_BASE64));
+  await wasm_bindgen({ module_or_path: wasm });
+  self.NERVURE_WASM_GZIP_BASE64 = null;
   return new wasm_bindgen.Engine();
 })();
 
@@ -95,6 +114,103 @@ function readTextInto(engine, text, name, progress) {
   progress("reading", 1);
 }
 
+/* ---------------------------------------------------------------- pool */
+
+const pool = {
+  helpers: Math.max(1, Math.min(8, (self.navigator && navigator.hardwareConcurrency) || 2)),
+  /** Below this many element points in all, clustering stays in this worker. */
+  minPoints: 20000,
+  workers: null,
+  nextId: 1,
+  /** This script's text, from the page (a blob: URL made here can start workers). */
+  source: null,
+  url: null,
+  /** Elements clustered by helpers since this worker started (for tests). */
+  elementsOnPool: 0,
+};
+
+function startHelpers() {
+  if (pool.workers && pool.workers.length === pool.helpers) return pool.workers;
+  if (pool.workers) pool.workers.forEach((h) => h.worker.terminate());
+  pool.workers = [];
+  for (let i = 0; i < pool.helpers; i++) {
+    if (!pool.url) pool.url = URL.createObjectURL(new Blob([pool.source], { type: "text/javascript" }));
+    const worker = new Worker(pool.url);
+    const helper = { worker, waiting: new Map() };
+    worker.onmessage = function (event) {
+      const m = event.data;
+      if (m.type === "progress") return;
+      const w = helper.waiting.get(m.id);
+      if (!w) return;
+      helper.waiting.delete(m.id);
+      if (m.type === "result") w.resolve(m.value);
+      else w.reject(new Error(m.message));
+    };
+    worker.onerror = function (event) {
+      event.preventDefault();
+      for (const w of helper.waiting.values()) w.reject(new Error("a clustering helper stopped" + (event.message ? " (" + event.message + ")" : "")));
+      helper.waiting.clear();
+      pool.workers = null;
+    };
+    pool.workers.push(helper);
+  }
+  return pool.workers;
+}
+
+function askHelper(helper, payload, transfer) {
+  const id = pool.nextId++;
+  return new Promise(function (resolve, reject) {
+    helper.waiting.set(id, { resolve, reject });
+    helper.worker.postMessage(Object.assign({ id }, payload), transfer);
+  });
+}
+
+/** Whether this run's elements go to the pool: helpers allowed, workers available here,
+ *  and enough points to be worth the copies. */
+function usePool(engine, count) {
+  if (pool.helpers < 1 || count < 2 || typeof Worker === "undefined" || !pool.source) return false;
+  const sizes = engine.element_sizes();
+  let total = 0;
+  for (let i = 0; i < sizes.length; i++) total += sizes[i];
+  return total >= pool.minPoints;
+}
+
+/** Clusters every cover element on the pool, largest first; resolves with one Int32Array
+ *  of labels per element, in element order. */
+async function clusterOnPool(engine, settings, count, progress) {
+  const helpers = startHelpers();
+  const dim = engine.point_dim();
+  const sizes = engine.element_sizes();
+  const order = Array.from({ length: count }, (_, i) => i).sort((a, b) => sizes[b] - sizes[a] || a - b);
+  let total = 0;
+  for (let i = 0; i < count; i++) total += sizes[i];
+  const labels = new Array(count);
+  let next = 0, done = 0;
+  progress("clusters", 0);
+  async function drive(helper) {
+    while (next < order.length) {
+      const e = order[next++];
+      const points = engine.element_points(e);
+      labels[e] = await askHelper(helper, { type: "cluster", points, dim, clustering: settings.clustering }, [points.buffer]);
+      done += sizes[e];
+      pool.elementsOnPool++;
+      progress("clusters", done / Math.max(1, total));
+    }
+  }
+  await Promise.all(helpers.map(drive));
+  return labels;
+}
+
+/** A build: on the pool when it is worth it, else in this worker. */
+async function runBuild(engine, settings, progress) {
+  const count = engine.prepare_elements(settings, progress);
+  if (count > 0 && usePool(engine, count)) {
+    const labels = await clusterOnPool(engine, settings, count, progress);
+    engine.set_element_labels(settings, labels);
+  }
+  return engine.run(settings, progress);
+}
+
 function graphMessage(engine) {
   const g = engine.graph();
   if (!g) return { value: null, transfer: [] };
@@ -111,7 +227,7 @@ function tableMessage(engine) {
   return { table, settings, files: engine.files() };
 }
 
-function handle(engine, msg) {
+async function handle(engine, msg) {
   const id = msg.id;
   const progress = progressPoster(id);
   switch (msg.type) {
@@ -146,20 +262,22 @@ function handle(engine, msg) {
       // A newer run is already waiting: skip this one, its settings are out of date.
       if (msg.id !== latestRun) return { value: { superseded: true } };
       engine.set_node_limit(msg.nodeLimit || 0);
-      const summary = engine.run(msg.settings, progress);
+      const summary = await runBuild(engine, msg.settings, progress);
       if (summary && summary.confirmNodes !== undefined) return { value: { confirm: summary } };
       const graph = graphMessage(engine);
       let colour = null;
       if (msg.colour && msg.colour.column) {
-        colour = { column: msg.colour.column, values: engine.node_values(msg.colour.column, msg.colour.stat || "mean") };
+        colour = { column: msg.colour.column, values: msg.colour.lens ? engine.node_lens_values(0) : engine.node_values(msg.colour.column, msg.colour.stat || "mean") };
         graph.transfer.push(colour.values.buffer);
       }
       return { value: { summary, graph: graph.value, colour }, transfer: graph.transfer };
     }
     case "colour": {
-      const values = engine.node_values(msg.column, msg.stat || "mean");
+      const values = msg.lens ? engine.node_lens_values(0) : engine.node_values(msg.column, msg.stat || "mean");
       return { value: { column: msg.column, values }, transfer: [values.buffer] };
     }
+    case "lensHistogram":
+      return { value: engine.lens_histogram(msg.bins, msg.axis || 0) };
     case "detail":
       return { value: engine.node_detail(msg.node) };
     case "summaries":
@@ -171,7 +289,7 @@ function handle(engine, msg) {
     case "suggest":
       return { value: engine.suggest(msg.settings, msg.seed) };
     case "loadB": {
-      const second = { begin_table: (n) => engine.begin_table_b(n), push_chunk: (c) => engine.push_chunk_b(c) };
+      const second = { begin_table_with: (n) => engine.begin_table_b(n), push_chunk: (c) => engine.push_chunk_b(c) };
       if (msg.file) readFileInto(second, msg.file, msg.name, progress);
       else readTextInto(second, msg.text, msg.name, progress);
       return { value: engine.finish_table_b() };
@@ -183,6 +301,14 @@ function handle(engine, msg) {
       const g = engine.graph_b();
       const transfer = g ? [g.nodeSizes.buffer, g.nodeElements.buffer, g.edgeA.buffer, g.edgeB.buffer, g.edgeShared.buffer, g.positions.buffer] : [];
       return { value: { summary, graph: g }, transfer };
+    }
+    case "pool":
+      if (typeof msg.helpers === "number") pool.helpers = Math.max(0, Math.min(16, msg.helpers | 0));
+      if (typeof msg.minPoints === "number") pool.minPoints = msg.minPoints;
+      return { value: { helpers: pool.helpers, minPoints: pool.minPoints, elementsOnPool: pool.elementsOnPool } };
+    case "cluster": {
+      const labels = wasm_bindgen.cluster_points(msg.points, msg.dim, msg.clustering);
+      return { value: labels, transfer: [labels.buffer] };
     }
     case "memberships": {
       const m = engine.memberships();
@@ -304,6 +430,10 @@ self.onmessage = function (event) {
   const msg = event.data;
   if (msg.type === "cancel") { cancelled.add(msg.target); return; }
   if (msg.type === "job") { runJob(msg); return; }
+  if (msg.type === "helper-source") {
+    pool.source = msg.source;
+    return;
+  }
   if (msg.type === "run") latestRun = msg.id;
   queue = queue.then(async function () {
     let engine;
@@ -315,7 +445,7 @@ self.onmessage = function (event) {
     }
     try {
       lastPanic = null;
-      const out = handle(engine, msg);
+      const out = await handle(engine, msg);
       self.postMessage({ id: msg.id, type: "result", value: out.value }, out.transfer || []);
     } catch (e) {
       // A trap (RuntimeError) means the engine panicked: its state is lost.

@@ -66,7 +66,11 @@ fn build() -> Result<(), Failure> {
         f.name = None;
     }
     let wasm = module.emit_wasm();
-    let wasm_b64 = base64::engine::general_purpose::STANDARD.encode(&wasm);
+    // Gzipped, then base64: the worker inflates it with the browser's DecompressionStream.
+    let mut gz = flate2::write::GzEncoder::new(Vec::new(), flate2::Compression::best());
+    std::io::Write::write_all(&mut gz, &wasm).map_err(|e| format!("compressing the wasm: {e}"))?;
+    let wasm_gz = gz.finish().map_err(|e| format!("compressing the wasm: {e}"))?;
+    let wasm_b64 = base64::engine::general_purpose::STANDARD.encode(&wasm_gz);
 
     // 3. One file.
     let www = root.join("www");
@@ -75,7 +79,7 @@ fn build() -> Result<(), Failure> {
     let worker_js = read(&www.join("worker.js"))?;
 
     let worker_source = format!(
-        "{glue}\n;\n/* The engine, compiled to WebAssembly, as base64. */\nself.NERVURE_WASM_BASE64 = \"{wasm_b64}\";\n{worker_js}"
+        "{glue}\n;\n/* The engine, compiled to WebAssembly, gzipped, as base64. */\nself.NERVURE_WASM_GZIP_BASE64 = \"{wasm_b64}\";\n{worker_js}"
     );
 
     let scripts_list = marker_argument(&html, "scripts")?;
@@ -122,11 +126,12 @@ fn build() -> Result<(), Failure> {
     fs::write(&out, &page).map_err(|e| format!("cannot write {}: {e}", out.display()))?;
 
     println!(
-        "{}: {} bytes ({:.2} MB; wasm {} bytes, glue {} bytes, demo {} bytes)",
+        "{}: {} bytes ({:.2} MB; wasm {} bytes, {} gzipped; glue {} bytes, demo {} bytes)",
         out.display(),
         page.len(),
         page.len() as f64 / (1024.0 * 1024.0),
         wasm.len(),
+        wasm_gz.len(),
         glue.len(),
         demo.as_ref().map_or(0, |d| d.len())
     );

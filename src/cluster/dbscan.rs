@@ -18,20 +18,59 @@
 //! point is from memory of its source, the fixtures check it). Cluster numbers here are
 //! in order of each cluster's lowest row, which may differ from scikit-learn's.
 //!
-//! Cost: one counting query per point (stopped as soon as `min_points` is reached) and
-//! one full radius query per core point; memory O(m). No m × m matrix.
+//! How it is computed (the result is the definition's; only the work differs). All work
+//! is on the shared k-d tree, in tree order (the tree's own copy of the points, f64), with
+//! box bounds: if the nearest corner of a box is farther than eps from a point (or from
+//! another box) no pair can be within eps, and if the farthest corners are within eps
+//! every pair is. Both bounds hold in floating point too, because a squared distance is
+//! a sum of rounded, monotone operations taken in the same order as for a pair of points.
+//! 1. Core points: a leaf whose box diagonal is <= eps and that holds `min_points` points
+//!    is all core without a query; otherwise each point counts its own leaf first (often
+//!    enough in dense data), then queries the tree, stopping at `min_points`.
+//! 2. Clusters grow one at a time from seeds in row order. The core points of one leaf
+//!    that the growing cluster holds are expanded together: their bounding box meets the
+//!    tree box against box, and each candidate is checked against the box, then against
+//!    the batch's points. Every node counts the points it still has without a cluster,
+//!    so finished subtrees are skipped at once.
+//!
+//! Memory O(m); no m × m matrix.
 //!
 //! Not here: choosing eps (see the automatic settings), other metrics, weights.
 
-use super::kdtree::KdTree;
+use super::kdtree::{KdTree, LEAF_SIZE};
 use super::Labels;
 
 fn dist2(a: &[f64], b: &[f64]) -> f64 {
     a.iter().zip(b).map(|(x, y)| (x - y) * (x - y)).sum()
 }
 
-fn dist(a: &[f64], b: &[f64]) -> f64 {
-    dist2(a, b).sqrt()
+/// No cluster (yet).
+const NONE: u32 = u32::MAX;
+
+/// Squared distances between the nearest and the farthest corners of two boxes.
+fn box_box2(a: (&[f64], &[f64]), b: (&[f64], &[f64])) -> (f64, f64) {
+    let (mut near, mut far) = (0.0, 0.0);
+    for k in 0..a.0.len() {
+        let g = if b.0[k] > a.1[k] { b.0[k] - a.1[k] } else if a.0[k] > b.1[k] { a.0[k] - b.1[k] } else { 0.0 };
+        near += g * g;
+        let f = (b.1[k] - a.0[k]).max(a.1[k] - b.0[k]);
+        far += f * f;
+    }
+    (near, far)
+}
+
+/// Whether a point is within squared distance `r2` of a box (nearest corner), stopping
+/// as soon as the partial sum exceeds it.
+fn point_box_near(q: &[f64], b: (&[f64], &[f64]), r2: f64) -> bool {
+    let mut near = 0.0;
+    for k in 0..q.len() {
+        let g = if b.0[k] > q[k] { b.0[k] - q[k] } else if q[k] > b.1[k] { q[k] - b.1[k] } else { continue };
+        near += g * g;
+        if near > r2 {
+            return false;
+        }
+    }
+    true
 }
 
 /// DBSCAN labels for the rows of `points` (row-major, `dim` columns).
@@ -39,89 +78,203 @@ pub fn dbscan(points: &[f64], dim: usize, eps: f64, min_points: usize) -> Labels
     if dim == 0 || points.is_empty() {
         return Vec::new();
     }
-    let m = points.len() / dim;
     let tree = KdTree::new(points, dim);
-    let row = |i: usize| &points[i * dim..(i + 1) * dim];
+    let m = tree.len();
+    let w = Work { tree: &tree, data: tree.tree_points(), dim, eps2: eps * eps };
+    let leaves: Vec<usize> = tree.leaves().map(|(n, _)| n).collect();
 
-    // A leaf whose box fits inside an eps-ball around any of its points and that holds at
-    // least `min_points` points makes every one of them a core point with no query.
-    let mut core = vec![false; m];
-    let mut settled = vec![false; m];
-    for (leaf, diag2) in tree.leaves() {
-        let rows = tree.rows_in(leaf);
-        if rows.len() >= min_points && diag2 <= eps * eps {
-            for &r in rows {
-                core[r as usize] = true;
-                settled[r as usize] = true;
-            }
-        }
-    }
-    for i in 0..m {
-        if !settled[i] {
-            core[i] = tree.count_within(row(i), eps, min_points) >= min_points;
-        }
-    }
-
+    let core = w.core_points(&leaves, min_points);
+    let labels_pos = w.expand(&core);
     let mut labels: Labels = vec![None; m];
-    // Two devices keep the expansion cheap in dense data without changing its result
-    // (which points a cluster takes does not depend on the order its core points are
-    // expanded in; clusters still grow one at a time, seeds in row order):
-    // - labelled points are taken out of `open`, so queries skip finished subtrees;
-    // - the core points of one k-d tree leaf are expanded together: one query with the
-    //   radius grown by the batch's spread finds the candidates, and each candidate is
-    //   then checked against the batch's points.
-    let mut open = tree.unvisited();
-    let mut expanded = vec![false; m];
-    let mut stack: Vec<usize> = Vec::new();
-    let mut batch: Vec<usize> = Vec::new();
-    let mut found: Vec<usize> = Vec::new();
-    let mut centre = vec![0.0; dim];
-    let eps2 = eps * eps;
-    let mut next = 0u32;
-    for seed in 0..m {
-        if !core[seed] || labels[seed].is_some() {
-            continue;
-        }
-        let c = next;
-        next += 1;
-        labels[seed] = Some(c);
-        open.take(seed);
-        stack.push(seed);
-        while let Some(p) = stack.pop() {
-            if expanded[p] {
-                continue;
-            }
-            batch.clear();
-            for &r in tree.rows_in(open.leaf_of(p)) {
-                let r = r as usize;
-                if core[r] && !expanded[r] && labels[r] == Some(c) {
-                    expanded[r] = true;
-                    batch.push(r);
-                }
-            }
-            centre.iter_mut().for_each(|v| *v = 0.0);
-            for &b in &batch {
-                centre.iter_mut().zip(row(b)).for_each(|(v, x)| *v += x);
-            }
-            centre.iter_mut().for_each(|v| *v /= batch.len() as f64);
-            let spread = batch.iter().map(|&b| dist(&centre, row(b))).fold(0.0, f64::max);
-            found.clear();
-            tree.visit_unvisited_within(&centre, eps + spread * (1.0 + 1e-12), &open, &mut |q| {
-                if labels[q].is_none() && batch.iter().any(|&b| dist2(row(b), row(q)) <= eps2) {
-                    labels[q] = Some(c);
-                    found.push(q);
-                }
-            });
-            for &q in &found {
-                open.take(q);
-                if core[q] {
-                    stack.push(q);
-                }
-            }
+    for (pos, &c) in labels_pos.iter().enumerate() {
+        if c != NONE {
+            labels[tree.row_at(pos)] = Some(c);
         }
     }
     super::renumber(&mut labels);
     labels
+}
+
+struct Work<'a> {
+    tree: &'a KdTree,
+    data: &'a [f64],
+    dim: usize,
+    eps2: f64,
+}
+
+impl Work<'_> {
+    fn point(&self, pos: usize) -> &[f64] {
+        &self.data[pos * self.dim..(pos + 1) * self.dim]
+    }
+
+    /// Whether each point (by tree position) has at least `min_points` points within eps,
+    /// itself included.
+    fn core_points(&self, leaves: &[usize], min_points: usize) -> Vec<bool> {
+        let tree = self.tree;
+        let mut core = vec![false; tree.len()];
+        let mut stack: Vec<usize> = Vec::new();
+        for &leaf in leaves {
+            let (range, _) = tree.node(leaf);
+            let lb = tree.node_box(leaf);
+            // A box against itself: the farthest-corner distance is its diagonal.
+            if range.len() >= min_points && box_box2(lb, lb).1 <= self.eps2 {
+                core[range].iter_mut().for_each(|c| *c = true);
+                continue;
+            }
+            for p in range.clone() {
+                let q = self.point(p);
+                // Its own leaf first: in dense data that is often enough.
+                let mut count = range.clone().filter(|&r| dist2(q, self.point(r)) <= self.eps2).count();
+                if count < min_points {
+                    count = 0;
+                    stack.clear();
+                    stack.push(0);
+                    'search: while let Some(node) = stack.pop() {
+                        let (nr, children) = tree.node(node);
+                        if !point_box_near(q, tree.node_box(node), self.eps2) {
+                            continue;
+                        }
+                        if let Some(c) = children {
+                            stack.extend([c + 1, c]);
+                            continue;
+                        } else {
+                            for r in nr {
+                                if dist2(q, self.point(r)) <= self.eps2 {
+                                    count += 1;
+                                }
+                            }
+                        }
+                        if count >= min_points {
+                            break 'search;
+                        }
+                    }
+                }
+                core[p] = count >= min_points;
+            }
+        }
+        core
+    }
+
+    /// Grows the clusters one at a time from seeds in row order: a cluster takes every
+    /// point within eps of its core points, continuing from each core point it takes.
+    /// Returns each point's cluster (by tree position), numbered in growing order, or
+    /// [`NONE`].
+    ///
+    /// Two devices keep it cheap without changing the result (which points a cluster
+    /// takes does not depend on the order its core points are expanded in): the core
+    /// points of one leaf are expanded together, meeting nodes by box against box; and
+    /// every node counts the points it still has without a cluster, so finished subtrees
+    /// are skipped at once.
+    fn expand(&self, core: &[bool]) -> Vec<u32> {
+        let tree = self.tree;
+        let (m, nodes, dim) = (tree.len(), tree.node_count(), self.dim);
+        let mut open = vec![0u32; nodes];
+        let mut parent = vec![0u32; nodes];
+        let mut leaf_of = vec![0u32; m];
+        for n in 0..nodes {
+            let (range, children) = tree.node(n);
+            open[n] = range.len() as u32;
+            match children {
+                Some(c) => {
+                    parent[c] = n as u32;
+                    parent[c + 1] = n as u32;
+                }
+                None => range.for_each(|p| leaf_of[p] = n as u32),
+            }
+        }
+        let mut pos_of_row = vec![0u32; m];
+        for pos in 0..m {
+            pos_of_row[tree.row_at(pos)] = pos as u32;
+        }
+        let take = |open: &mut [u32], pos: usize| {
+            let mut n = leaf_of[pos] as usize;
+            loop {
+                open[n] -= 1;
+                if n == 0 {
+                    break;
+                }
+                n = parent[n] as usize;
+            }
+        };
+        let mut label = vec![NONE; m];
+        let mut expanded = vec![false; m];
+        let mut stack: Vec<usize> = Vec::new();
+        let mut batch: Vec<usize> = Vec::with_capacity(LEAF_SIZE);
+        let mut found: Vec<usize> = Vec::new();
+        let mut nodes_todo: Vec<usize> = Vec::new();
+        let (mut lo, mut hi) = (vec![0.0; dim], vec![0.0; dim]);
+        let mut next = 0u32;
+        for row in 0..m {
+            let seed = pos_of_row[row] as usize;
+            if !core[seed] || label[seed] != NONE {
+                continue;
+            }
+            let c = next;
+            next += 1;
+            label[seed] = c;
+            take(&mut open, seed);
+            stack.push(seed);
+            while let Some(p) = stack.pop() {
+                if expanded[p] {
+                    continue;
+                }
+                let leaf = leaf_of[p] as usize;
+                batch.clear();
+                for r in tree.node(leaf).0 {
+                    if core[r] && !expanded[r] && label[r] == c {
+                        expanded[r] = true;
+                        batch.push(r);
+                    }
+                }
+                lo.copy_from_slice(self.point(batch[0]));
+                hi.copy_from_slice(self.point(batch[0]));
+                for &b in &batch[1..] {
+                    for (k, &v) in self.point(b).iter().enumerate() {
+                        lo[k] = lo[k].min(v);
+                        hi[k] = hi[k].max(v);
+                    }
+                }
+                let bb = (&lo[..], &hi[..]);
+                found.clear();
+                nodes_todo.clear();
+                nodes_todo.push(0);
+                while let Some(n) = nodes_todo.pop() {
+                    if open[n] == 0 {
+                        continue;
+                    }
+                    let (near, far) = box_box2(bb, tree.node_box(n));
+                    if near > self.eps2 {
+                        continue;
+                    }
+                    let (range, children) = tree.node(n);
+                    if far <= self.eps2 {
+                        // Every point of the node is within eps of every batch point.
+                        found.extend(range.filter(|&q| label[q] == NONE));
+                    } else if let Some(ch) = children {
+                        nodes_todo.extend([ch + 1, ch]);
+                    } else {
+                        for q in range {
+                            if label[q] != NONE {
+                                continue;
+                            }
+                            let x = self.point(q);
+                            if point_box_near(x, bb, self.eps2) && batch.iter().any(|&b| dist2(self.point(b), x) <= self.eps2) {
+                                found.push(q);
+                            }
+                        }
+                    }
+                }
+                for &q in &found {
+                    label[q] = c;
+                    take(&mut open, q);
+                    if core[q] {
+                        stack.push(q);
+                    }
+                }
+            }
+        }
+        label
+    }
 }
 
 #[cfg(test)]
@@ -251,6 +404,28 @@ mod tests {
                 assert_eq!(got, want, "dim {dim}, eps {eps}, min_points {min_points}");
             }
         }
+    }
+
+    /// Timing on points from a file of raw f64 values (row-major), e.g. one cover element
+    /// written out by a script: `NERVURE_DBSCAN_POINTS=FILE NERVURE_DBSCAN_DIM=6
+    /// cargo test --release --lib dbscan::tests::timing_file -- --ignored --nocapture`.
+    #[test]
+    #[ignore]
+    fn timing_file() {
+        let Ok(path) = std::env::var("NERVURE_DBSCAN_POINTS") else { return };
+        let dim: usize = std::env::var("NERVURE_DBSCAN_DIM").map_or(6, |d| d.parse().unwrap());
+        let eps: f64 = std::env::var("NERVURE_DBSCAN_EPS").map_or(0.3, |d| d.parse().unwrap());
+        let min_points: usize = std::env::var("NERVURE_DBSCAN_MIN").map_or(10, |d| d.parse().unwrap());
+        let bytes = std::fs::read(path).unwrap();
+        let pts: Vec<f64> = bytes.chunks_exact(8).map(|c| f64::from_le_bytes(c.try_into().unwrap())).collect();
+        let t = std::time::Instant::now();
+        let tree = KdTree::new(&pts, dim);
+        println!("{} points; tree {:.3} s", tree.len(), t.elapsed().as_secs_f64());
+        let t = std::time::Instant::now();
+        let labels = dbscan(&pts, dim, eps, min_points);
+        let k = labels.iter().flatten().max().map_or(0, |&c| c + 1);
+        let noise = labels.iter().filter(|l| l.is_none()).count();
+        println!("dbscan {:.3} s: {k} clusters, {noise} noise", t.elapsed().as_secs_f64());
     }
 
     #[test]

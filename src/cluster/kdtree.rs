@@ -76,31 +76,29 @@ impl KdTree {
 
         let mut perm: Vec<u32> = (0..m as u32).collect();
         let mut nodes = vec![Node { start: 0, end: m as u32, children: 0 }];
-        let mut bounds: Vec<f64> = Vec::new();
+        // While splitting, each node keeps a loose box: its parent's box cut at the split
+        // value (enough to choose the widest axis). Tight boxes are made afterwards, bottom
+        // up, from the leaves' points: O(m d) in all instead of a scan per level.
+        let mut loose: Vec<f64> = Vec::with_capacity(4 * dim * (m / LEAF_SIZE + 1));
+        loose.extend(std::iter::repeat(f64::INFINITY).take(dim));
+        loose.extend(std::iter::repeat(f64::NEG_INFINITY).take(dim));
+        for row in points.chunks_exact(dim) {
+            for (k, &v) in row.iter().enumerate() {
+                loose[k] = loose[k].min(v);
+                loose[dim + k] = loose[dim + k].max(v);
+            }
+        }
         // Nodes are finished in creation order, so node `i` is processed at step `i`.
         let mut i = 0;
         while i < nodes.len() {
             let Node { start, end, .. } = nodes[i];
             let (s, e) = (start as usize, end as usize);
-            let base = bounds.len();
-            bounds.extend(std::iter::repeat(f64::INFINITY).take(dim));
-            bounds.extend(std::iter::repeat(f64::NEG_INFINITY).take(dim));
-            for &r in &perm[s..e] {
-                let row = &points[r as usize * dim..(r as usize + 1) * dim];
-                for (k, &v) in row.iter().enumerate() {
-                    if v < bounds[base + k] {
-                        bounds[base + k] = v;
-                    }
-                    if v > bounds[base + dim + k] {
-                        bounds[base + dim + k] = v;
-                    }
-                }
-            }
             if e - s > LEAF_SIZE {
+                let base = 2 * dim * i;
                 let axis = (0..dim)
                     .max_by(|&a, &b| {
-                        let wa = bounds[base + dim + a] - bounds[base + a];
-                        let wb = bounds[base + dim + b] - bounds[base + b];
+                        let wa = loose[base + dim + a] - loose[base + a];
+                        let wb = loose[base + dim + b] - loose[base + b];
                         wa.total_cmp(&wb)
                     })
                     .unwrap_or(0);
@@ -108,12 +106,44 @@ impl KdTree {
                 perm[s..e].select_nth_unstable_by(mid - s, |&a, &b| {
                     points[a as usize * dim + axis].total_cmp(&points[b as usize * dim + axis])
                 });
+                let split = points[perm[mid] as usize * dim + axis];
                 let children = nodes.len() as u32;
                 nodes[i].children = children;
                 nodes.push(Node { start, end: mid as u32, children: 0 });
                 nodes.push(Node { start: mid as u32, end, children: 0 });
+                let parent: Vec<f64> = loose[base..base + 2 * dim].to_vec();
+                loose.extend_from_slice(&parent);
+                loose[base + 2 * dim * (children as usize - i) + dim + axis] = split;
+                loose.extend_from_slice(&parent);
+                loose[base + 2 * dim * (children as usize + 1 - i) + axis] = split;
             }
             i += 1;
+        }
+        drop(loose);
+        let mut bounds = vec![0.0; 2 * dim * nodes.len()];
+        for n in (0..nodes.len()).rev() {
+            let node = nodes[n];
+            let (lohi, rest) = bounds[2 * dim * n..].split_at_mut(2 * dim);
+            let (lo, hi) = lohi.split_at_mut(dim);
+            lo.fill(f64::INFINITY);
+            hi.fill(f64::NEG_INFINITY);
+            if node.children == 0 {
+                for &r in &perm[node.start as usize..node.end as usize] {
+                    let row = &points[r as usize * dim..(r as usize + 1) * dim];
+                    for k in 0..dim {
+                        lo[k] = lo[k].min(row[k]);
+                        hi[k] = hi[k].max(row[k]);
+                    }
+                }
+            } else {
+                // Children come after their parent.
+                let off = 2 * dim * (node.children as usize - n - 1);
+                let (l, r) = rest[off..off + 4 * dim].split_at(2 * dim);
+                for k in 0..dim {
+                    lo[k] = l[k].min(r[k]);
+                    hi[k] = l[dim + k].max(r[dim + k]);
+                }
+            }
         }
 
         let mut data = Vec::with_capacity(points.len());
@@ -348,111 +378,38 @@ impl KdTree {
         }
     }
 
-    /// The caller's row numbers of the points in node `n` (a leaf from [`Unvisited::leaf_of`]).
+    /// The caller's row numbers of the points in node `n`.
     pub fn rows_in(&self, n: usize) -> &[u32] {
         let node = self.nodes[n];
         &self.index[node.start as usize..node.end as usize]
+    }
+
+    /// Node `n`'s range of tree positions and its left child (`None` for a leaf; the
+    /// right child is the left one plus 1). Node 0 is the root; children come after
+    /// their parent.
+    pub fn node(&self, n: usize) -> (std::ops::Range<usize>, Option<usize>) {
+        let node = self.nodes[n];
+        (node.start as usize..node.end as usize, (node.children != 0).then_some(node.children as usize))
+    }
+
+    /// Node `n`'s tight box: `dim` lower bounds and `dim` upper bounds.
+    pub fn node_box(&self, n: usize) -> (&[f64], &[f64]) {
+        self.bounds[2 * self.dim * n..2 * self.dim * (n + 1)].split_at(self.dim)
+    }
+
+    /// The points in tree order, row-major (`point_at(pos)` is a row of it).
+    pub fn tree_points(&self) -> &[f64] {
+        &self.data
     }
 
     /// Every leaf's node number with the squared length of its box's diagonal (an upper
     /// bound on the squared distance between any two of its points).
     pub fn leaves(&self) -> impl Iterator<Item = (usize, f64)> + '_ {
         self.nodes.iter().enumerate().filter(|(_, n)| n.children == 0).map(move |(i, _)| {
-            let b = &self.bounds[2 * self.dim * i..2 * self.dim * (i + 1)];
-            let (lo, hi) = b.split_at(self.dim);
+            let (lo, hi) = self.node_box(i);
             (i, lo.iter().zip(hi).map(|(a, c)| (c - a) * (c - a)).sum())
         })
     }
-
-    /// A fresh [`Unvisited`] set holding every point, for [`KdTree::visit_unvisited_within`].
-    pub fn unvisited(&self) -> Unvisited {
-        let count: Vec<u32> = self.nodes.iter().map(|n| n.end - n.start).collect();
-        let mut parent = vec![0u32; self.nodes.len()];
-        let mut leaf = vec![0u32; self.len()];
-        for (i, n) in self.nodes.iter().enumerate() {
-            if n.children == 0 {
-                for pos in n.start..n.end {
-                    leaf[pos as usize] = i as u32;
-                }
-            } else {
-                parent[n.children as usize] = i as u32;
-                parent[n.children as usize + 1] = i as u32;
-            }
-        }
-        let mut pos_of_row = vec![0u32; self.len()];
-        for (pos, &row) in self.index.iter().enumerate() {
-            pos_of_row[row as usize] = pos as u32;
-        }
-        Unvisited { count, parent, leaf, pos_of_row }
-    }
-
-    /// Like [`KdTree::for_each_within`], but skips every subtree whose points have all been
-    /// taken out of `set`. Points still in `set` are all reported; points already taken out
-    /// may be reported too (the caller checks its own marks), which keeps leaves simple.
-    /// This is what makes region growing (DBSCAN's expansion) cheap in dense data: a
-    /// region, once labelled, is pruned at the top of the tree.
-    pub fn visit_unvisited_within(&self, q: &[f64], r: f64, set: &Unvisited, f: &mut impl FnMut(usize)) {
-        if !self.is_empty() && r >= 0.0 {
-            self.unvisited_rec(0, q, r * r, set, f);
-        }
-    }
-
-    fn unvisited_rec(&self, n: usize, q: &[f64], r2: f64, set: &Unvisited, f: &mut impl FnMut(usize)) {
-        if set.count[n] == 0 {
-            return;
-        }
-        let node = self.nodes[n];
-        let (near, far) = self.box_dist2(n, q);
-        if near > r2 {
-            return;
-        }
-        let (s, e) = (node.start as usize, node.end as usize);
-        let whole = set.count[n] as usize == e - s;
-        if far <= r2 && (whole || node.children == 0) {
-            self.index[s..e].iter().for_each(|&row| f(row as usize));
-        } else if node.children == 0 {
-            for pos in s..e {
-                if dist2(q, self.point_at(pos)) <= r2 {
-                    f(self.index[pos] as usize);
-                }
-            }
-        } else {
-            let c = node.children as usize;
-            self.unvisited_rec(c, q, r2, set, f);
-            self.unvisited_rec(c + 1, q, r2, set, f);
-        }
-    }
-}
-
-/// Which points of a [`KdTree`] have not yet been taken out, counted per node so that
-/// queries can skip finished subtrees. Take each point out at most once.
-#[derive(Debug, Clone)]
-pub struct Unvisited {
-    count: Vec<u32>,
-    parent: Vec<u32>,
-    leaf: Vec<u32>,
-    pos_of_row: Vec<u32>,
-}
-
-impl Unvisited {
-    /// The leaf (node number) that holds the point with the caller's row number `row`.
-    pub fn leaf_of(&self, row: usize) -> usize {
-        self.leaf[self.pos_of_row[row] as usize] as usize
-    }
-
-    /// Takes the point with the caller's row number `row` out of the set.
-    pub fn take(&mut self, row: usize) {
-        let mut n = self.leaf[self.pos_of_row[row] as usize] as usize;
-        loop {
-            debug_assert!(self.count[n] > 0, "a point was taken out twice");
-            self.count[n] -= 1;
-            if n == 0 {
-                break;
-            }
-            n = self.parent[n] as usize;
-        }
-    }
-
 }
 
 #[cfg(test)]

@@ -1,0 +1,72 @@
+#!/usr/bin/env bash
+# The benchmark (slow; not part of tests/run.sh):
+#
+#   bash tests/bench.sh [--rows N] [--no-page] [--no-script] [--script-timeout S]
+#
+# 1. generates the demo data at N rows (default 1,500,000) under ~/.cache/nervure-bench;
+# 2. runs the native engine (--timings) with tests/bench/settings.json;
+# 3. runs the scripting pipeline tests/bench/pipeline.py (pandas, scikit-learn, NumPy,
+#    NetworkX; exact versions in tests/bench/requirements.txt, in a venv under
+#    ~/.cache/nervure-bench/venv) on the same data and settings, and compares the node
+#    memberships with tests/bench/compare.py (core rows exactly; border rows only where
+#    they are contested, counted);
+# 4. runs the page in headless Chromium (tests/bench/page.mjs; needs dist/nervure.html);
+# and prints one table. `uptime` is printed with it: the numbers depend on the load.
+set -euo pipefail
+here="$(cd "$(dirname "$0")" && pwd)"
+root="$(dirname "$here")"
+rows=1500000
+page=1
+script=1
+script_timeout=900
+while [ $# -gt 0 ]; do
+  case "$1" in
+    --rows) rows="$2"; shift 2 ;;
+    --no-page) page=0; shift ;;
+    --no-script) script=0; shift ;;
+    --script-timeout) script_timeout="$2"; shift 2 ;;
+    *) echo "usage: bash tests/bench.sh [--rows N] [--no-page] [--no-script] [--script-timeout S]" >&2; exit 2 ;;
+  esac
+done
+cache="${NERVURE_BENCH_DIR:-$HOME/.cache/nervure-bench}"
+mkdir -p "$cache"
+data="$cache/demo-$rows.csv"
+settings="$here/bench/settings.json"
+[ -s "$data" ] || python3 "$root/demo/make_demo.py" --rows "$rows" --out "$data" >&2
+
+export CARGO_TARGET_DIR="${CARGO_TARGET_DIR:-$HOME/.cache/nervure-target}"
+(cd "$root" && cargo build --release --bin nervure >&2)
+cli="$CARGO_TARGET_DIR/release/nervure"
+out="$cache/run-$rows"
+mkdir -p "$out"
+
+echo "load: $(uptime)" >&2
+"$cli" "$data" --settings "$settings" --timings --out "$out/engine-graph.json" 2> "$out/engine-timings.json" >/dev/null
+/usr/bin/time -f "%e %U" -o "$out/engine-time.txt" "$cli" "$data" --settings "$settings" >/dev/null 2>&1 || true
+
+if [ "$script" = 1 ]; then
+  venv="$cache/venv"
+  if [ ! -x "$venv/bin/python" ]; then
+    python3 -m venv "$venv"
+    "$venv/bin/pip" install --quiet -r "$here/bench/requirements.txt"
+  fi
+  # The scripting pipeline may need far more memory than the engine (neighbourhood lists):
+  # it is stopped after $script_timeout s or at 8 GB, and then reported as not finished.
+  if ( ulimit -v 8000000; timeout "$script_timeout" "$venv/bin/python" "$here/bench/pipeline.py" "$data" "$settings" --out "$out/script-nodes.json" > "$out/script-timings.json" 2> "$out/script-stderr.txt" ); then
+    "$venv/bin/python" "$here/bench/compare.py" "$out/engine-graph.json" "$out/script-nodes.json" "$data" "$settings" > "$out/compare.json" || true
+  else
+    echo '{"unfinished": true}' > "$out/script-timings.json"
+    echo '{"skipped": "the scripting pipeline did not finish"}' > "$out/compare.json"
+  fi
+else
+  echo '{"skipped": true}' > "$out/script-timings.json"
+  echo '{"skipped": true}' > "$out/compare.json"
+fi
+
+if [ "$page" = 1 ]; then
+  node "$here/bench/page.mjs" "$data" "$settings" > "$out/page.json" || echo '{"failed": true}' > "$out/page.json"
+else
+  echo '{"skipped": true}' > "$out/page.json"
+fi
+
+python3 "$here/bench/table.py" "$rows" "$out" "$script_timeout" "$(uptime)"

@@ -1,0 +1,65 @@
+"""Prints the benchmark's one table from the JSON files tests/bench.sh wrote.
+
+    python3 table.py ROWS OUT_DIR SCRIPT_TIMEOUT UPTIME
+"""
+import json
+import os
+import sys
+
+rows, out, timeout, uptime = sys.argv[1], sys.argv[2], float(sys.argv[3]), sys.argv[4]
+
+
+def load(name):
+    try:
+        with open(os.path.join(out, name)) as f:
+            return json.loads(f.read().strip().splitlines()[-1])
+    except (OSError, ValueError, IndexError):
+        return {}
+
+
+eng = load("engine-timings.json")
+script = load("script-timings.json")
+page = load("page.json")
+cmp = load("compare.json")
+
+
+def s(v):
+    return "-" if v is None else f"{v:.2f}"
+
+
+def mb(v):
+    return "-" if not v else f"{v / 2**20:.0f} MB"
+
+
+e_total = eng.get("total")
+lines = []
+head = ["runner", "rows", "read s", "filter s", "cover+clusters s", "graph s", "layout s", "total s", "peak memory", "speed vs script"]
+lines.append(head)
+st = script.get("times", {})
+s_total = st.get("total")
+ratio = f"{s_total / e_total:.1f}x" if s_total and e_total else (f">= {timeout / e_total:.0f}x (script stopped at {timeout:.0f} s)" if script.get("unfinished") and e_total else "-")
+lines.append(["engine (native)", rows, s(eng.get("read")), s((eng.get("points") or 0) + (eng.get("lens") or 0)), s((eng.get("cover") or 0) + (eng.get("clusters") or 0)), s(eng.get("graph")), s(eng.get("layout")), s(e_total), mb(eng.get("peakMemoryBytes")), ratio])
+if st:
+    lines.append(["script (pandas+sklearn+networkx)", rows, s(st.get("read")), s(st.get("filter")), s(st.get("clusters")), s(st.get("graph")), "-", s(s_total), "-", "1.0x"])
+elif script.get("unfinished"):
+    lines.append(["script (pandas+sklearn+networkx)", rows, "-", "-", "-", "-", "-", f"> {timeout:.0f}", "-", "1.0x"])
+if page and not page.get("skipped") and not page.get("failed"):
+    build = page.get("benchmarkBuildMs")
+    read = page.get("readMs")
+    total = (read or 0) / 1000 + (build or 0) / 1000
+    pr = f"{s_total / total:.1f}x" if s_total else "-"
+    lines.append(["page (headless Chromium, wasm)", rows, s(read / 1000 if read else None), "(in build)", "(in build)", "(in build)", "(in build)", s(total) + f" (build {s(build / 1000 if build else None)})", mb(page.get("peakRendererBytes")), pr])
+widths = [max(len(str(r[i])) for r in lines) for i in range(len(head))]
+print(f"load: {uptime.strip()}")
+for r in lines:
+    print(" | ".join(str(c).ljust(w) for c, w in zip(r, widths)))
+if page and not page.get("skipped") and not page.get("failed"):
+    print(f"page: file input to first graph (automatic settings) {page.get('firstGraphAutoMs')} ms; re-colour {page.get('recolourMs'):.0f} ms; "
+          f"overlap change {page.get('overlapChangeMs'):.0f} ms; main-thread tasks over 100 ms: {page.get('tasksOver100ms')} (longest {page.get('longestTaskMs'):.0f} ms)")
+if cmp:
+    if cmp.get("skipped"):
+        print(f"memberships: not compared ({cmp['skipped']})")
+    else:
+        print(f"memberships: {'same' if cmp.get('ok') else 'DIFFERENT'}; core rows {cmp.get('coreRows')}, border rows {cmp.get('borderRows')}, "
+              f"contested border rows {cmp.get('contestedBorderRows')}, border rows in another cluster {cmp.get('borderRowsInOtherCluster')}"
+              + ("; " + "; ".join(cmp.get("problems", [])) if cmp.get("problems") else ""))

@@ -135,3 +135,12 @@ fn xlsx_written_by_openpyxl_reads_back_the_same_values() {
     assert!(e.contains("stations, notes"), "{e}");
     assert_ne!(codes[0], MISSING_CODE);
 }
+
+#[test]
+fn opendocument_sheets_are_refused_with_what_to_do() {
+    let bytes = std::fs::read(format!("{}/tests/reference/fixtures/sheet.xlsx", env!("CARGO_MANIFEST_DIR"))).unwrap();
+    let e = sheet::read("campaign.ods", &bytes, None).unwrap_err().to_string();
+    assert!(e.contains("campaign.ods") && e.contains(".xlsx or CSV"), "{e}");
+    let e = sheet::read("broken.xlsx", b"PK\x03\x04 not really a zip", None).unwrap_err().to_string();
+    assert!(e.contains("broken.xlsx") && e.contains("export the sheet as CSV"), "{e}");
+}

@@ -32,6 +32,12 @@ function changeFiles(op, payload) {
   });
 }
 
+/** " (units: ppbv)" for the legend of a column whose file stated its units, else "". */
+function unitNote(name) {
+  const c = state.table && state.table.columns.find((x) => x.name === name);
+  return c && c.unit ? " (units: " + c.unit + ")" : "";
+}
+
 /** " (unit)" for a column whose file stated its units, else "". */
 function unitSuffix(name) {
   const c = state.table && state.table.columns.find((x) => x.name === name);

@@ -32,7 +32,7 @@ pub const SOURCE_COLUMN: &str = "source_file";
 #[derive(Debug, Clone, PartialEq, Serialize, Default)]
 #[serde(rename_all = "camelCase")]
 pub struct ReadNote {
-    /// "csv", "icartt", "xlsx" or "ods".
+    /// "csv", "icartt" or "xlsx".
     pub format: String,
     /// Rows of the file that did not become table rows.
     pub rows_left_out: usize,

@@ -591,7 +591,7 @@ function renderLegend() {
   const has = state.colour.values && state.graph;
   legend.hidden = !has;
   if (!has) return;
-  byId("legend-title").textContent = colourTitle();
+  byId("legend-title").textContent = colourTitle() + unitNote(state.colour.column);
   byId("legend-min").textContent = formatNumber(state.colour.min);
   byId("legend-max").textContent = formatNumber(state.colour.max);
   byId("legend-bar").style.backgroundImage = legendGradient();

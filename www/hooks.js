@@ -116,8 +116,8 @@ function colourTitle() {
   const c = state.colour;
   if (c.column === LENS_COLOUR) return "Mean filter value in each node";
   const st = c.stat;
-  if (st && st.kind === "shareAbove") return "Share of rows with " + c.column + unitSuffix(c.column) + " above " + formatNumber(st.threshold) + ", in each node";
-  return statWords(st) + " of " + c.column + unitSuffix(c.column) + " in each node";
+  if (st && st.kind === "shareAbove") return "Share of rows with " + c.column + " above " + formatNumber(st.threshold) + ", in each node";
+  return statWords(st) + " of " + c.column + " in each node";
 }
 
 /** The tooltip's words for one node's value. */

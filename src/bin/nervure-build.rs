@@ -33,7 +33,9 @@ fn main() -> ExitCode {
 }
 
 fn build() -> Result<(), Failure> {
-    let root = PathBuf::from(env!("CARGO_MANIFEST_DIR"));
+    // The checkout to build: `cargo run` sets CARGO_MANIFEST_DIR at run time. Never the
+    // compile-time value: a cached build of this binary may come from another clone.
+    let root = std::env::var_os("CARGO_MANIFEST_DIR").map(PathBuf::from).unwrap_or(std::env::current_dir()?);
     let target_dir = env::var_os("CARGO_TARGET_DIR").map(PathBuf::from).unwrap_or_else(|| root.join("target"));
 
     // 1. The engine, compiled for the browser.

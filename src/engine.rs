@@ -66,6 +66,9 @@ pub struct Summary {
     pub edges: usize,
     pub components: usize,
     pub loops: usize,
+    /// Loops of the nerve once the triangles where three nodes share rows are filled
+    /// ([`Nerve::filled_loops`]); equal to `loops` unless three cover elements meet.
+    pub filled_loops: usize,
     /// Rows that took part but fell in no node (DBSCAN noise in every element they are in).
     pub noise_rows: usize,
     /// Cover elements that held at least one row.
@@ -920,6 +923,7 @@ fn assemble(table: &Table, pts: &Points, lens: &Lenses, cov: &Cover, c: &Cluster
         edges: nerve.edges.len(),
         components,
         loops,
+        filled_loops: nerve.filled_loops(s.edges.min_shared),
         noise_rows: c.noise_rows,
         elements: cov.elements.iter().filter(|e| !e.is_empty()).count(),
         left_out_by_column: pts.left_out_by_column.clone(),

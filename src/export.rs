@@ -6,8 +6,12 @@
 //! - GraphML, the open standard (<http://graphml.graphdrawing.org/>, namespace
 //!   `http://graphml.graphdrawing.org/xmlns`): undirected graph; node ids `n0, n1, ...` in
 //!   node order; node attributes `size` (int), `element` (int, the cover element), `lens`
-//!   (double, the mean lens value) and, when given, the current colour column's node
-//!   values (double, named after the column; no value written for a node without one);
+//!   (double, the mean lens value) and, when given, the colouring shown on the page
+//!   ([`colour_attributes`]): for a number column its node statistic (double, named after
+//!   the column for the mean, `column (median)`, `column (spread)` or `column (share
+//!   above T)` otherwise), for a category column the most common level (string, named
+//!   after the column) and its share (double, `column (share)`); no value is written for
+//!   a node without one;
 //!   edge attribute `shared` (int, rows the two nodes share); graph attribute `settings`
 //!   (string, the settings JSON that rebuilds the graph). Checked with NetworkX's reader.
 //! - Memberships CSV: header `data_row,node`, then one line per (row, node) membership,
@@ -22,7 +26,53 @@ use std::fmt::Write as _;
 
 use serde_json::json;
 
-use crate::engine::Build;
+use crate::engine::{Build, NodeStat, Workbench};
+use crate::error::Result;
+use crate::table::ColumnData;
+
+/// One node attribute of a GraphML export: a name and one value per node (`NaN` or `None`
+/// for a node without one).
+#[derive(Debug, Clone, PartialEq)]
+pub struct NodeAttribute {
+    pub name: String,
+    pub values: AttributeValues,
+}
+
+#[derive(Debug, Clone, PartialEq)]
+pub enum AttributeValues {
+    Double(Vec<f64>),
+    Text(Vec<Option<String>>),
+}
+
+/// The attributes that carry the page's colouring of the last graph by `column` with
+/// `stat` (see the module doc for their names). The values are exactly those the page
+/// colours by ([`Workbench::node_values`]).
+pub fn colour_attributes(bench: &Workbench, column: &str, stat: NodeStat) -> Result<Vec<NodeAttribute>> {
+    let values = bench.node_values(column, stat)?;
+    let levels = match bench.table().and_then(|t| t.column(column)).map(|c| &c.data) {
+        Some(ColumnData::Category { levels, .. }) => Some(levels.clone()),
+        _ => None,
+    };
+    Ok(match levels {
+        Some(levels) => {
+            let codes = bench.node_categories(column)?;
+            let names = codes.iter().map(|&c| levels.get(c as usize).cloned()).collect();
+            vec![
+                NodeAttribute { name: column.to_string(), values: AttributeValues::Text(names) },
+                NodeAttribute { name: format!("{column} (share)"), values: AttributeValues::Double(values) },
+            ]
+        }
+        None => {
+            let name = match stat {
+                NodeStat::Mean => column.to_string(),
+                NodeStat::Median => format!("{column} (median)"),
+                NodeStat::Spread => format!("{column} (spread)"),
+                NodeStat::ShareAbove { threshold } => format!("{column} (share above {threshold})"),
+            };
+            vec![NodeAttribute { name, values: AttributeValues::Double(values) }]
+        }
+    })
+}
 
 pub fn graph_json(b: &Build) -> String {
     let nodes: Vec<_> = b
@@ -72,8 +122,9 @@ pub fn xml_escape(text: &str) -> String {
     out
 }
 
-/// The graph as GraphML. `colour`: the page's current colour column and one value per node.
-pub fn graphml(b: &Build, colour: Option<(&str, &[f64])>) -> String {
+/// The graph as GraphML, with `extra` node attributes (the colouring, see
+/// [`colour_attributes`]) after the fixed ones.
+pub fn graphml(b: &Build, extra: &[NodeAttribute]) -> String {
     let mut x = String::new();
     x.push_str("<?xml version=\"1.0\" encoding=\"UTF-8\"?>\n");
     x.push_str("<graphml xmlns=\"http://graphml.graphdrawing.org/xmlns\" xmlns:xsi=\"http://www.w3.org/2001/XMLSchema-instance\" xsi:schemaLocation=\"http://graphml.graphdrawing.org/xmlns http://graphml.graphdrawing.org/xmlns/1.0/graphml.xsd\">\n");
@@ -81,8 +132,12 @@ pub fn graphml(b: &Build, colour: Option<(&str, &[f64])>) -> String {
     x.push_str("  <key id=\"size\" for=\"node\" attr.name=\"size\" attr.type=\"int\"/>\n");
     x.push_str("  <key id=\"element\" for=\"node\" attr.name=\"element\" attr.type=\"int\"/>\n");
     x.push_str("  <key id=\"lens\" for=\"node\" attr.name=\"lens\" attr.type=\"double\"/>\n");
-    if let Some((name, _)) = colour {
-        let _ = writeln!(x, "  <key id=\"colour\" for=\"node\" attr.name=\"{}\" attr.type=\"double\"/>", xml_escape(name));
+    for (k, a) in extra.iter().enumerate() {
+        let ty = match a.values {
+            AttributeValues::Double(_) => "double",
+            AttributeValues::Text(_) => "string",
+        };
+        let _ = writeln!(x, "  <key id=\"colour{k}\" for=\"node\" attr.name=\"{}\" attr.type=\"{ty}\"/>", xml_escape(&a.name));
     }
     x.push_str("  <key id=\"shared\" for=\"edge\" attr.name=\"shared\" attr.type=\"int\"/>\n");
     x.push_str("  <graph id=\"G\" edgedefault=\"undirected\">\n");
@@ -96,9 +151,18 @@ pub fn graphml(b: &Build, colour: Option<(&str, &[f64])>) -> String {
             n.element,
             b.node_lens[i]
         );
-        if let Some((_, v)) = colour {
-            if let Some(c) = v.get(i).filter(|c| c.is_finite()) {
-                let _ = write!(x, "<data key=\"colour\">{c:?}</data>");
+        for (k, a) in extra.iter().enumerate() {
+            match &a.values {
+                AttributeValues::Double(v) => {
+                    if let Some(c) = v.get(i).filter(|c| c.is_finite()) {
+                        let _ = write!(x, "<data key=\"colour{k}\">{c:?}</data>");
+                    }
+                }
+                AttributeValues::Text(v) => {
+                    if let Some(Some(t)) = v.get(i) {
+                        let _ = write!(x, "<data key=\"colour{k}\">{}</data>", xml_escape(t));
+                    }
+                }
             }
         }
         x.push_str("</node>\n");
@@ -134,6 +198,14 @@ pub fn report(b: &Build, file_name: &str) -> String {
         let _ = writeln!(t, "  '{c}' had no value in {k} rows");
     }
     let _ = writeln!(t, "Nodes: {}, edges: {}, connected components: {}, independent loops: {}", s.nodes, s.edges, s.components, s.loops);
+    if s.filled_loops != s.loops {
+        let _ = writeln!(
+            t,
+            "Loops once the triangles where three nodes share rows are filled: {} (the other {} run round such triangles)",
+            s.filled_loops,
+            s.loops - s.filled_loops
+        );
+    }
     let _ = writeln!(t, "Cover elements holding rows: {}; rows in no node (noise): {}", s.elements, s.noise_rows);
     let _ = writeln!(t, "Lens range: {} to {}", b.lens_range.0, b.lens_range.1);
     let _ = writeln!(t, "\nSettings (load this to rebuild the same graph):\n{}\n", b.settings.to_json());
@@ -185,11 +257,11 @@ mod tests {
     fn graphml_counts_and_escaping_natively() {
         let b = small_build();
         let colour: Vec<f64> = (0..b.nerve.nodes.len()).map(|i| if i == 0 { f64::NAN } else { i as f64 }).collect();
-        let g = graphml(&b, Some((NAME, &colour)));
+        let g = graphml(&b, &[NodeAttribute { name: NAME.into(), values: AttributeValues::Double(colour) }]);
         assert!(b.nerve.nodes.len() >= 4 && !b.nerve.edges.is_empty());
         assert_eq!(g.matches("<node ").count(), b.nerve.nodes.len());
         assert_eq!(g.matches("<edge ").count(), b.nerve.edges.len());
-        assert_eq!(g.matches("<data key=\"colour\">").count(), b.nerve.nodes.len() - 1, "no value for the NaN node");
+        assert_eq!(g.matches("<data key=\"colour0\">").count(), b.nerve.nodes.len() - 1, "no value for the NaN node");
         assert!(g.contains("attr.name=\"a&amp;b &lt;c&gt; &quot;d&quot; &apos;e&apos;\""));
         // Every '&' starts one of the five predefined entities; no raw '<' outside tags.
         for (i, _) in g.match_indices('&') {
@@ -207,7 +279,7 @@ mod tests {
         let dir = std::env::temp_dir().join(format!("nervure-graphml-{}", std::process::id()));
         std::fs::create_dir_all(&dir).unwrap();
         let path = dir.join("small.graphml");
-        std::fs::write(&path, graphml(&b, Some((NAME, &colour)))).unwrap();
+        std::fs::write(&path, graphml(&b, &[NodeAttribute { name: NAME.into(), values: AttributeValues::Double(colour) }])).unwrap();
         let python = std::env::var("NERVURE_PYTHON").unwrap_or_else(|_| "python3".into());
         let has_networkx = std::process::Command::new(&python).args(["-c", "import networkx"]).output().is_ok_and(|o| o.status.success());
         if !has_networkx {

@@ -3,6 +3,15 @@
 //! the nerve raised on request), and the counts read off it: connected components and
 //! independent loops (the first Betti number of a graph, E - V + C; common practice).
 //!
+//! The graph is the nerve's 1-skeleton. Where three nodes share rows the nerve also has a
+//! triangle, and a loop of the graph that runs round such a triangle is not a loop of the
+//! nerve. That happens whenever three cover elements meet: in a 1-D cover with overlap
+//! above one half, and at the corners of a 2-D cover. [`Nerve::filled_loops`] counts the
+//! loops that remain once those triangles are filled: the first Betti number of the
+//! nerve's 2-skeleton over Z/2, b1 = E - V + C - rank(boundary of the triangles)
+//! (standard simplicial homology; the rank by column reduction over Z/2 as in Edelsbrunner,
+//! Letscher, Zomorodian 2002). The page shows both numbers where they differ.
+//!
 //! Node statistics over table columns live in [`crate::engine`]; this module knows rows
 //! only as numbers.
 
@@ -87,6 +96,71 @@ impl Nerve {
         counts(self.nodes.len(), &pairs)
     }
 
+    /// Triangles of the nerve: triples of nodes `a < b < c`, pairwise joined by edges, that
+    /// share at least `min_shared` rows all three (the same minimum as for edges), sorted.
+    /// Nodes of one cover element hold disjoint rows, so the three come from three elements.
+    pub fn triangles(&self, min_shared: usize) -> Vec<[u32; 3]> {
+        let n = self.nodes.len();
+        let mut adj: Vec<Vec<u32>> = vec![Vec::new(); n];
+        for e in &self.edges {
+            adj[e.a as usize].push(e.b);
+        }
+        let mut out = Vec::new();
+        for e in &self.edges {
+            // Common neighbours above b of a and b: both lists increase (edges are sorted).
+            let (na, nb) = (&adj[e.a as usize], &adj[e.b as usize]);
+            let (mut i, mut j) = (0, 0);
+            while i < na.len() && j < nb.len() {
+                match na[i].cmp(&nb[j]) {
+                    std::cmp::Ordering::Less => i += 1,
+                    std::cmp::Ordering::Greater => j += 1,
+                    std::cmp::Ordering::Equal => {
+                        let c = na[i];
+                        if c > e.b && shares_at_least(&self.nodes[e.a as usize].members, &self.nodes[e.b as usize].members, &self.nodes[c as usize].members, min_shared.max(1)) {
+                            out.push([e.a, e.b, c]);
+                        }
+                        i += 1;
+                        j += 1;
+                    }
+                }
+            }
+        }
+        out.sort_unstable();
+        out
+    }
+
+    /// Loops of the nerve once its triangles (see [`Nerve::triangles`]) are filled: never
+    /// more than the graph's loops of [`Nerve::counts`].
+    pub fn filled_loops(&self, min_shared: usize) -> usize {
+        let (_, loops) = self.counts();
+        let triangles = self.triangles(min_shared);
+        if triangles.is_empty() {
+            return loops;
+        }
+        let edge_index = |a: u32, b: u32| -> u32 {
+            self.edges.binary_search_by_key(&(a, b), |e| (e.a, e.b)).expect("a triangle's sides are edges") as u32
+        };
+        // Column reduction over Z/2: each column is the sorted edge indices of one triangle's
+        // boundary; a column reduced to nothing is a dependency, the others count to the rank.
+        let mut owner: HashMap<u32, Vec<u32>> = HashMap::new();
+        let mut rank = 0;
+        for t in &triangles {
+            let mut col = vec![edge_index(t[0], t[1]), edge_index(t[0], t[2]), edge_index(t[1], t[2])];
+            col.sort_unstable();
+            while let Some(&low) = col.last() {
+                match owner.get(&low) {
+                    Some(other) => col = xor_sorted(&col, other),
+                    None => {
+                        owner.insert(low, col);
+                        rank += 1;
+                        break;
+                    }
+                }
+            }
+        }
+        loops - rank
+    }
+
     /// Component index of every node, numbered in order of each component's first node.
     pub fn component_of(&self) -> Vec<u32> {
         let mut uf = UnionFind::<u32>::new(self.nodes.len());
@@ -110,6 +184,53 @@ impl Nerve {
         }
         d
     }
+}
+
+/// Whether three increasing row lists have at least `k` rows in common.
+fn shares_at_least(a: &[u32], b: &[u32], c: &[u32], k: usize) -> bool {
+    let (mut i, mut j, mut l, mut found) = (0, 0, 0, 0);
+    while i < a.len() && j < b.len() && l < c.len() {
+        let m = a[i].max(b[j]).max(c[l]);
+        if a[i] == m && b[j] == m && c[l] == m {
+            found += 1;
+            if found >= k {
+                return true;
+            }
+            i += 1;
+            j += 1;
+            l += 1;
+        } else {
+            if a[i] < m {
+                i += 1;
+            }
+            if b[j] < m {
+                j += 1;
+            }
+            if c[l] < m {
+                l += 1;
+            }
+        }
+    }
+    false
+}
+
+/// Symmetric difference of two increasing lists (addition of two chains over Z/2).
+fn xor_sorted(a: &[u32], b: &[u32]) -> Vec<u32> {
+    let mut out = Vec::with_capacity(a.len() + b.len());
+    let (mut i, mut j) = (0, 0);
+    while i < a.len() || j < b.len() {
+        if j == b.len() || (i < a.len() && a[i] < b[j]) {
+            out.push(a[i]);
+            i += 1;
+        } else if i == a.len() || b[j] < a[i] {
+            out.push(b[j]);
+            j += 1;
+        } else {
+            i += 1;
+            j += 1;
+        }
+    }
+    out
 }
 
 /// Connected components and cycle rank (E - V + C) of a simple graph given by its edges.
@@ -156,6 +277,37 @@ mod tests {
         // Isolated nodes count as components.
         assert_eq!(counts(4, &[(0, 1)]), (3, 0));
         assert_eq!(counts(0, &[]), (0, 0));
+    }
+
+    #[test]
+    fn filled_triangles_by_hand() {
+        // Three nodes from three elements, pairwise sharing rows. With row 9 in all three the
+        // triangle is filled: the graph has 1 loop, the nerve none. Without it (rows shared
+        // only pairwise) the loop is a loop of the nerve too.
+        let filled = Nerve::new(vec![node(0, &[0, 1, 9]), node(1, &[1, 2, 9]), node(2, &[0, 2, 9])], 10, 1);
+        assert_eq!(filled.counts(), (1, 1));
+        assert_eq!(filled.triangles(1), vec![[0, 1, 2]]);
+        assert_eq!(filled.filled_loops(1), 0);
+        // Raising the minimum to 2 shared rows keeps the edges (each pair shares 2) but
+        // empties the triangle (the three share 1 row).
+        assert_eq!(filled.counts(), Nerve::new(filled.nodes.clone(), 10, 2).counts());
+        assert_eq!(Nerve::new(filled.nodes.clone(), 10, 2).filled_loops(2), 1);
+        let hollow = Nerve::new(vec![node(0, &[0, 1]), node(1, &[1, 2]), node(2, &[0, 2])], 3, 1);
+        assert_eq!(hollow.counts(), (1, 1));
+        assert!(hollow.triangles(1).is_empty());
+        assert_eq!(hollow.filled_loops(1), 1);
+    }
+
+    #[test]
+    fn a_filled_tetrahedron_boundary_has_no_loop() {
+        // Four nodes, every triple sharing a row, no row in all four: the boundary of a
+        // tetrahedron, a sphere (b1 = 0, b2 = 1). The graph K4 has 6 - 4 + 1 = 3 loops; the
+        // four triangles have rank 3 (their sum is zero over Z/2), so 3 - 3 = 0.
+        let nodes = vec![node(0, &[0, 1, 2]), node(1, &[0, 1, 3]), node(2, &[0, 2, 3]), node(3, &[1, 2, 3])];
+        let n = Nerve::new(nodes, 4, 1);
+        assert_eq!(n.counts(), (1, 3));
+        assert_eq!(n.triangles(1).len(), 4);
+        assert_eq!(n.filled_loops(1), 0);
     }
 
     #[test]

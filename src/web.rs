@@ -80,6 +80,13 @@ fn to_js<T: Serialize + ?Sized>(value: &T) -> Result<JsValue, JsValue> {
         .map_err(|e| JsError::new(&format!("internal: cannot pass a result to the page: {e}")).into())
 }
 
+/// A node statistic from the page: a string ("mean", …) or an object (see [`NodeStat`]).
+fn stat_from_js(stat: &JsValue) -> Result<NodeStat, JsValue> {
+    let text: String = js_sys::JSON::stringify(stat).map_err(|_| fail("setting 'stat': cannot be written as JSON"))?.into();
+    let value: serde_json::Value = serde_json::from_str(&text).map_err(fail)?;
+    NodeStat::from_json(&value).map_err(fail)
+}
+
 fn fail(e: impl std::fmt::Display) -> JsValue {
     JsError::new(&e.to_string()).into()
 }
@@ -344,33 +351,14 @@ impl Engine {
     /// The last graph as typed arrays: `{nodeSizes, nodeElements, edgeA, edgeB, edgeShared,
     /// positions}` (positions interleaved x, y), or `null` before the first run.
     pub fn graph(&self) -> JsValue {
-        let Some(build) = self.bench.last() else { return JsValue::NULL };
-        let nodes = &build.nerve.nodes;
-        let edges = &build.nerve.edges;
-        let sizes: Vec<u32> = nodes.iter().map(|n| n.members.len() as u32).collect();
-        let elements: Vec<u32> = nodes.iter().map(|n| n.element as u32).collect();
-        let a: Vec<u32> = edges.iter().map(|e| e.a).collect();
-        let b: Vec<u32> = edges.iter().map(|e| e.b).collect();
-        let shared: Vec<u32> = edges.iter().map(|e| e.shared).collect();
-        let positions: Vec<f64> = build.layout.iter().flat_map(|p| [p[0], p[1]]).collect();
-        let out = Object::new();
-        set(&out, "nodeSizes", &Uint32Array::from(&sizes[..]).into());
-        set(&out, "nodeElements", &Uint32Array::from(&elements[..]).into());
-        set(&out, "edgeA", &Uint32Array::from(&a[..]).into());
-        set(&out, "edgeB", &Uint32Array::from(&b[..]).into());
-        set(&out, "edgeShared", &Uint32Array::from(&shared[..]).into());
-        set(&out, "positions", &Float64Array::from(&positions[..]).into());
-        out.into()
+        graph_arrays(self.bench.last())
     }
 
     /// One value per node of the last graph: `stat` of `column` over its rows. `stat` is
     /// a string ("mean", "median", "spread") or an object such as
     /// `{kind: "shareAbove", threshold: 2.5}` (see [`NodeStat`]).
     pub fn node_values(&self, column: &str, stat: &JsValue) -> Result<Float64Array, JsValue> {
-        let text: String = js_sys::JSON::stringify(stat).map_err(|_| fail("setting 'stat': cannot be written as JSON"))?.into();
-        let value: serde_json::Value = serde_json::from_str(&text).map_err(fail)?;
-        let stat = NodeStat::from_json(&value).map_err(fail)?;
-        let values = self.bench.node_values(column, stat).map_err(fail)?;
+        let values = self.bench.node_values(column, stat_from_js(stat)?).map_err(fail)?;
         Ok(Float64Array::from(&values[..]))
     }
 
@@ -457,15 +445,21 @@ impl Engine {
     }
 
     /// The last graph as text in one of the export formats: "json", "graphml" (with the
-    /// colour column's node values when `colour_column` is not empty), "memberships",
-    /// "report" (naming `file_name`).
-    pub fn export(&self, format: &str, colour_column: &str, file_name: &str) -> Result<String, JsValue> {
+    /// colouring's node values, column `colour_column` and statistic `stat` as for
+    /// `node_values`, when the column is not empty), "memberships", "report" (naming
+    /// `file_name`).
+    pub fn export(&self, format: &str, colour_column: &str, stat: &JsValue, file_name: &str) -> Result<String, JsValue> {
         let build = self.bench.last().ok_or_else(|| fail("no graph has been built yet"))?;
         match format {
             "json" => Ok(crate::export::graph_json(build)),
             "graphml" => {
-                let values = if colour_column.is_empty() { None } else { Some(self.bench.node_values(colour_column, NodeStat::Mean).map_err(fail)?) };
-                Ok(crate::export::graphml(build, values.as_deref().map(|v| (colour_column, v))))
+                let extra = if colour_column.is_empty() {
+                    Vec::new()
+                } else {
+                    let stat = if stat.is_undefined() || stat.is_null() { NodeStat::Mean } else { stat_from_js(stat)? };
+                    crate::export::colour_attributes(&self.bench, colour_column, stat).map_err(fail)?
+                };
+                Ok(crate::export::graphml(build, &extra))
             }
             "memberships" => Ok(crate::export::memberships_csv(build)),
             "report" => Ok(crate::export::report(build, file_name)),

@@ -44,6 +44,7 @@ const state = {
   timing: { start: 0, tableRead: 0, firstDraw: 0, pendingFirstDraw: false },
   builds: 0,               // graphs built since the page opened
   lensMemory: {},          // parameters of lens kinds not in use, so switching back restores them
+  lensMemory2: {},         // the same for the second filter
   clusteringMemory: {},
   files: null,             // the file list from the engine: {files, plan, alignment, differences} (files.js)
   builtSettings: null,     // the settings of the graph on screen (recovery.js puts them back)
@@ -197,6 +198,7 @@ async function loadTable(source, ask) {
   state.summary = null;
   state.graph = null;
   state.lensMemory = {};
+  state.lensMemory2 = {};
   state.clusteringMemory = {};
   state.colour = { column: defaultColourColumn(), stat: "mean", values: null, min: NaN, max: NaN };
   view.setGraph(null);
@@ -559,11 +561,16 @@ function renderSummary() {
     plural(s.nodes, "node", "nodes"),
     plural(s.edges, "edge", "edges"),
     plural(s.components, "component", "components"),
-    plural(s.loops, "loop", "loops"),
+    plural(s.loops, "loop", "loops") + (s.filledLoops !== undefined && s.filledLoops !== s.loops ? " (" + s.filledLoops + " once triangles are filled)" : ""),
   ];
   shape.forEach(function (p, k) {
     if (k > 0) line.append(el("span", "sep", "·"));
-    line.append(el("span", "fact", p));
+    const fact = el("span", "fact", p);
+    if (k === 3 && s.filledLoops !== s.loops) {
+      fact.title = "Where three nodes share rows the graph has a triangle, and a loop round it is counted as a loop of the graph " +
+        "but is not a loop of the nerve. Three cover elements meet when the overlap is above one half or at the corners of a grid of cells.";
+    }
+    line.append(fact);
   });
   const rows = [plural(s.rows, "row used", "rows used"), plural(s.rowsLeftOut, "row left out", "rows left out")];
   if (s.noiseRows > 0) rows.push(plural(s.noiseRows, "row in no cluster", "rows in no cluster"));

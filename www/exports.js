@@ -55,7 +55,8 @@ async function exportText(format) {
   if (!state.graph) throw new Error("no graph has been built yet");
   if (format === "svg") return graphSvg();
   if (!EXPORTS[format]) throw new Error("unknown export '" + format + "'");
-  return engine.request("export", { format, colour: state.colour.values && state.colour.column !== LENS_COLOUR ? state.colour.column : "", fileName: state.table.name });
+  const byColumn = state.colour.values && state.colour.column !== LENS_COLOUR;
+  return engine.request("export", { format, colour: byColumn ? state.colour.column : "", stat: state.colour.stat, fileName: state.table.name });
 }
 
 async function exportFile(format) {

@@ -76,10 +76,15 @@ function hookCoverFromForm(s) {
     return;
   }
   const kind = byId("s2-lens").value;
-  if (s.lens2.kind !== kind) s.lens2 = kind === "principal" ? { kind, component: 2 } : defaultLens(kind);
+  if (s.lens2.kind !== kind) {
+    state.lensMemory2[s.lens2.kind] = s.lens2;
+    s.lens2 = state.lensMemory2[kind] || (kind === "principal" ? { kind, component: 2 } : defaultLens(kind));
+  }
   else if (kind === "principal") s.lens2 = { kind, component: intValue("s2-component") };
   else if (kind === "column") s.lens2 = { kind, column: byId("s2-column").value };
   else if (NEIGHBOUR_LENSES[kind]) s.lens2 = { kind, k: intValue("s2-k") };
+  else if (kind === "density") s.lens2 = { kind, bandwidth: byId("s2-bandwidth").value.trim() === "" ? null : Number(byId("s2-bandwidth").value) };
+  else if (kind === "eccentricity") s.lens2 = { kind, norm: byId("s2-norm").value };
   s.cover2 = { intervals: intValue("s2-intervals"), overlap: Number(byId("s2-overlap").value), kind: byId("s2-cover-kind").value };
 }
 
@@ -96,6 +101,8 @@ function hookRenderSettings(s, put) {
   setOptions(byId("s2-column"), numericColumns().map((n) => [n, n]), l2.kind === "column" ? l2.column : undefined);
   if (l2.kind === "principal") put("s2-component", l2.component);
   if (NEIGHBOUR_LENSES[l2.kind]) put("s2-k", l2.k);
+  if (l2.kind === "density") put("s2-bandwidth", l2.bandwidth === null || l2.bandwidth === undefined ? "" : l2.bandwidth);
+  if (l2.kind === "eccentricity") put("s2-norm", l2.norm || "rms");
   for (const e of document.querySelectorAll("[data-lens2]")) e.hidden = e.dataset.lens2.split(" ").indexOf(l2.kind) < 0;
   put("s2-intervals", c2.intervals);
   put("s2-overlap", c2.overlap);

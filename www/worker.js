@@ -22,7 +22,7 @@
  *               {id, type: "pool", helpers, minPoints}   size of the pool (0: cluster here)
  *               {id, type: "cluster", points, dim, clustering}   (to a helper: one element)
  *               {id, type: "memberships"} | {id, type: "explain", nodes} | {id, type: "rowValues", rows, columns}
- *               {id, type: "derivedInfo"} | {id, type: "scatter", x, y, limit} | {id, type: "export", format, colour, fileName}
+ *               {id, type: "derivedInfo"} | {id, type: "scatter", x, y, limit} | {id, type: "export", format, colour, stat, fileName}
  *               (load may carry options: {textAsMissing}; run may carry nodeLimit, and then
  *               answers {confirm: {confirmNodes, limit}} for a graph over the limit;
  *               testExhaustMemory / testCrash / testBusy {ms} exist for the recovery tests)
@@ -325,7 +325,7 @@ async function handle(engine, msg) {
       return { value: d, transfer: [d.rows.buffer, d.x.buffer, d.y.buffer] };
     }
     case "export":
-      return { value: engine.export(msg.format, msg.colour || "", msg.fileName || "") };
+      return { value: engine.export(msg.format, msg.colour || "", msg.stat || "mean", msg.fileName || "") };
     case "testExhaustMemory":
       return { value: engine.exhaust_memory_for_test() };
     case "testCrash":

@@ -11,12 +11,12 @@
 
 import { test, before, after } from "node:test";
 import assert from "node:assert/strict";
-import { spawnSync } from "node:child_process";
-import { existsSync, mkdirSync, mkdtempSync, rmSync, writeFileSync } from "node:fs";
+import { existsSync, mkdirSync, mkdtempSync, rmSync } from "node:fs";
 import { tmpdir } from "node:os";
 import { dirname, join } from "node:path";
 import { fileURLToPath, pathToFileURL } from "node:url";
 import { chromium } from "playwright-core";
+import { cliSummary } from "./harness.mjs";
 
 const here = dirname(fileURLToPath(import.meta.url));
 const root = join(here, "..", "..");
@@ -40,16 +40,6 @@ after(async () => {
   if (userDataDir) rmSync(userDataDir, { recursive: true, force: true });
 });
 
-function cliSummary(csvPath, settings) {
-  const settingsPath = join(outDir, "engine-surface-settings.json");
-  writeFileSync(settingsPath, JSON.stringify(settings, null, 2));
-  const args = [csvPath, "--settings", settingsPath, "--summary"];
-  const r = process.env.NERVURE_CLI
-    ? spawnSync(process.env.NERVURE_CLI, args, { encoding: "utf8" })
-    : spawnSync("cargo", ["run", "-q", "--release", "--bin", "nervure", "--", ...args], { cwd: root, encoding: "utf8", timeout: 20 * 60 * 1000 });
-  assert.equal(r.status, 0, "the command-line runner failed: " + r.stderr);
-  return JSON.parse(r.stdout);
-}
 
 test("two filters, a balanced cover, median fill, new statistics and the histogram through the worker", async () => {
   const problems = [];

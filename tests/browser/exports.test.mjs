@@ -9,7 +9,7 @@ import assert from "node:assert/strict";
 import { spawnSync } from "node:child_process";
 import { existsSync, readFileSync, writeFileSync } from "node:fs";
 import { join } from "node:path";
-import { circleCsv, outDir, pageUrl, root, usePage, waitForGraph, waitForIdle } from "./harness.mjs";
+import { circleCsv, outDir, pageUrl, root, usePage, waitForGraph, waitForIdle, openCircleIn } from "./harness.mjs";
 
 const ctx = usePage();
 let page;
@@ -21,10 +21,7 @@ const CHOSEN = {
   clustering: { kind: "dbscan", eps: 0.3, minPoints: 4 }, edges: { minShared: 1 }, seed: 3, derived: [],
 };
 
-async function openCircle() {
-  await page.setInputFiles("#file-input", circleCsv);
-  await waitForGraph(page);
-}
+const openCircle = () => openCircleIn(page);
 
 /** Clicks an item of the Export menu and returns the downloaded file's name and bytes. */
 async function exportVia(format) {

@@ -12,7 +12,8 @@
 
 import { before, after, beforeEach, afterEach } from "node:test";
 import assert from "node:assert/strict";
-import { existsSync, mkdirSync, mkdtempSync, rmSync } from "node:fs";
+import { spawnSync } from "node:child_process";
+import { existsSync, mkdirSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from "node:fs";
 import { tmpdir } from "node:os";
 import { dirname, join } from "node:path";
 import { fileURLToPath, pathToFileURL } from "node:url";
@@ -106,4 +107,39 @@ export function uncoveredNode(layout, preferLargest = false) {
   assert.ok(uncovered.length > 0, "every node is hidden under another");
   const target = preferLargest ? uncovered.reduce((a, b) => (layout.sizes[b] > layout.sizes[a] ? b : a)) : uncovered[0];
   return { target, pos, uncovered };
+}
+
+/** Runs the command-line runner (NERVURE_CLI, or `cargo run --release`) with `args`;
+ * fails the test when it fails. */
+export function runCli(args) {
+  const r = process.env.NERVURE_CLI
+    ? spawnSync(process.env.NERVURE_CLI, args, { encoding: "utf8" })
+    : spawnSync("cargo", ["run", "-q", "--release", "--bin", "nervure", "--", ...args], { cwd: root, encoding: "utf8", timeout: 20 * 60 * 1000 });
+  assert.equal(r.status, 0, "the command-line runner failed: " + r.stderr);
+  return r.stdout;
+}
+
+let cliFiles = 0;
+
+/** The summary the command-line runner prints for a file and a settings document. */
+export function cliSummary(csvPath, settings) {
+  mkdirSync(outDir, { recursive: true });
+  const settingsPath = join(outDir, "cli-settings-" + process.pid + "-" + cliFiles++ + ".json");
+  writeFileSync(settingsPath, JSON.stringify(settings, null, 2));
+  return JSON.parse(runCli([csvPath, "--settings", settingsPath, "--summary"]));
+}
+
+/** The automatic settings the command-line runner chooses for a file. */
+export function cliAutoSettings(csvPath) {
+  mkdirSync(outDir, { recursive: true });
+  const path = join(outDir, "cli-auto-settings-" + process.pid + ".json");
+  runCli([csvPath, "--write-settings", path, "--summary"]);
+  return JSON.parse(readFileSync(path, "utf8"));
+}
+
+/** Opens the circle fixture through the file input, as a person picks a file, and waits
+ * for its first graph. */
+export async function openCircleIn(page) {
+  await page.setInputFiles("#file-input", circleCsv);
+  await waitForGraph(page);
 }

@@ -8,26 +8,12 @@
 
 import { test, beforeEach } from "node:test";
 import assert from "node:assert/strict";
-import { spawnSync } from "node:child_process";
-import { writeFileSync } from "node:fs";
-import { join } from "node:path";
-import { root, outDir, circleCsv, usePage, waitForGraph, waitForIdle } from "./harness.mjs";
+import { circleCsv, usePage, waitForGraph, waitForIdle, cliSummary } from "./harness.mjs";
 
 const ctx = usePage();
 let page;
 beforeEach(() => { page = ctx.page; });
 
-/** The summary the command-line runner prints for a file and a settings document. */
-function cliSummary(csvPath, settings) {
-  const settingsPath = join(outDir, "hooks-cli-settings.json");
-  writeFileSync(settingsPath, JSON.stringify(settings, null, 2));
-  const args = [csvPath, "--settings", settingsPath, "--summary"];
-  const r = process.env.NERVURE_CLI
-    ? spawnSync(process.env.NERVURE_CLI, args, { encoding: "utf8" })
-    : spawnSync("cargo", ["run", "-q", "--release", "--bin", "nervure", "--", ...args], { cwd: root, encoding: "utf8", timeout: 20 * 60 * 1000 });
-  assert.equal(r.status, 0, "the command-line runner failed: " + r.stderr);
-  return JSON.parse(r.stdout);
-}
 
 async function openCircle() {
   await page.setInputFiles("#file-input", circleCsv);
@@ -95,6 +81,17 @@ test("a balanced cover and a second filter with its own cover reach the settings
   got = await rebuiltAfter(() => page.selectOption("#s2-column", "angle_deg"));
   assert.deepEqual(got.settings.lens2, { kind: "column", column: "angle_deg" });
   await assertSameAsCli(got);
+  got = await rebuiltAfter(() => page.selectOption("#s2-lens", "density"));
+  assert.ok(await page.isVisible("#s2-bandwidth") && !(await page.isVisible("#s2-norm")));
+  got = await rebuiltAfter(async () => { await page.fill("#s2-bandwidth", "0.5"); await page.dispatchEvent("#s2-bandwidth", "change"); });
+  assert.deepEqual(got.settings.lens2, { kind: "density", bandwidth: 0.5 });
+  await assertSameAsCli(got);
+  got = await rebuiltAfter(() => page.selectOption("#s2-lens", "eccentricity"));
+  got = await rebuiltAfter(() => page.selectOption("#s2-norm", "max"));
+  assert.deepEqual(got.settings.lens2, { kind: "eccentricity", norm: "max" });
+  await assertSameAsCli(got);
+  got = await rebuiltAfter(() => page.selectOption("#s2-lens", "column"));
+  assert.deepEqual(got.settings.lens2, { kind: "column", column: "angle_deg" }, "the column chosen before is kept");
   // The second filter's histogram holds the same rows as the first's.
   const hs = await page.evaluate(() => window.nervure.lensHistograms());
   assert.equal(hs[1].intervals.length, 4);
@@ -120,6 +117,16 @@ test("the colour statistic changes the legend; the share above a threshold stays
   await page.selectOption("#colour-stat", "spread");
   await page.waitForFunction(() => document.getElementById("legend-title").textContent === "Spread of x in each node");
   const spread = await legend();
+  // The GraphML export carries the statistic shown, under its own attribute name, with the
+  // values the legend spans.
+  const spreadValues = (text, name) => {
+    const key = new RegExp('<key id="(colour\\d+)" for="node" attr.name="' + name.replace(/[()]/g, "\\$&") + '" attr.type="double"/>').exec(text);
+    assert.ok(key, "GraphML has a key named " + name);
+    return [...text.matchAll(new RegExp('<data key="' + key[1] + '">([^<]*)</data>', "g"))].map((m) => Number(m[1]));
+  };
+  const sd = spreadValues(await page.evaluate(() => window.nervure.exportText("graphml")), "x (spread)");
+  assert.equal(sd.length, (await page.evaluate(() => window.nervure.layout())).sizes.length);
+  assert.ok(Math.abs(Math.min(...sd) - spread.min) <= 1e-3 * Math.max(1, Math.abs(spread.min)) + 1e-3, "GraphML spread " + Math.min(...sd) + " vs legend " + spread.min);
   // A standard deviation is never negative (definition); node means of x on a circle of
   // radius about 1 around 0 take both signs (by construction of the fixture).
   assert.ok(spread.min >= 0, JSON.stringify(spread));
@@ -131,6 +138,8 @@ test("the colour statistic changes the legend; the share above a threshold stays
   await page.waitForFunction(() => document.getElementById("legend-title").textContent === "Share of rows with x above 0.5, in each node");
   const share = await legend();
   assert.ok(share.min >= 0 && share.max <= 1 && share.max > share.min, JSON.stringify(share));
+  const shares = spreadValues(await page.evaluate(() => window.nervure.exportText("graphml")), "x (share above 0.5)");
+  assert.ok(shares.every((v) => v >= 0 && v <= 1) && shares.some((v) => v > 0), "shares in [0, 1]");
 
   // Colouring by the filter: each node's mean lens value; the statistic does not apply.
   await page.selectOption("#colour-select", { label: "The filter (lens value)" });

@@ -10,37 +10,15 @@
 
 import { test, beforeEach } from "node:test";
 import assert from "node:assert/strict";
-import { spawnSync } from "node:child_process";
-import { copyFileSync, existsSync, mkdirSync, readFileSync, writeFileSync } from "node:fs";
+import { copyFileSync, existsSync, mkdirSync, readFileSync } from "node:fs";
 import { dirname, join } from "node:path";
-import { here, root, outDir, circleCsv, usePage, waitForGraph as waitFor, uncoveredNode } from "./harness.mjs";
+import { here, root, outDir, circleCsv, usePage, waitForGraph as waitFor, uncoveredNode, cliSummary, cliAutoSettings } from "./harness.mjs";
 
 const ctx = usePage();
 let page;
 beforeEach(() => { page = ctx.page; });
 
-/** The summary the command-line runner prints for a file and a settings document. */
-function cliSummary(csvPath, settings) {
-  const settingsPath = join(outDir, "cli-settings.json");
-  writeFileSync(settingsPath, JSON.stringify(settings, null, 2));
-  const args = [csvPath, "--settings", settingsPath, "--summary"];
-  const r = process.env.NERVURE_CLI
-    ? spawnSync(process.env.NERVURE_CLI, args, { encoding: "utf8" })
-    : spawnSync("cargo", ["run", "-q", "--release", "--bin", "nervure", "--", ...args], { cwd: root, encoding: "utf8", timeout: 20 * 60 * 1000 });
-  assert.equal(r.status, 0, "the command-line runner failed: " + r.stderr);
-  return JSON.parse(r.stdout);
-}
 
-/** The automatic settings the command-line runner chooses for a file. */
-function cliAutoSettings(csvPath) {
-  const path = join(outDir, "cli-auto-settings.json");
-  const args = [csvPath, "--write-settings", path, "--summary"];
-  const r = process.env.NERVURE_CLI
-    ? spawnSync(process.env.NERVURE_CLI, args, { encoding: "utf8" })
-    : spawnSync("cargo", ["run", "-q", "--release", "--bin", "nervure", "--", ...args], { cwd: root, encoding: "utf8", timeout: 20 * 60 * 1000 });
-  assert.equal(r.status, 0, "the command-line runner failed: " + r.stderr);
-  return JSON.parse(readFileSync(path, "utf8"));
-}
 
 async function waitForGraph() {
   await waitFor(page);

@@ -7,16 +7,13 @@ import { test, beforeEach } from "node:test";
 import assert from "node:assert/strict";
 import { readFileSync } from "node:fs";
 import { join } from "node:path";
-import { circleCsv, outDir, usePage, waitForGraph, waitForIdle, uncoveredNode } from "./harness.mjs";
+import { circleCsv, outDir, usePage, waitForGraph, waitForIdle, uncoveredNode, openCircleIn } from "./harness.mjs";
 
 const ctx = usePage();
 let page;
 beforeEach(() => { page = ctx.page; });
 
-async function openCircle() {
-  await page.setInputFiles("#file-input", circleCsv);
-  await waitForGraph(page);
-}
+const openCircle = () => openCircleIn(page);
 
 test("the scatter lights up a node's rows, and a rectangle of points selects the nodes holding them", async () => {
   await openCircle();

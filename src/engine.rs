@@ -10,7 +10,7 @@ use serde::Serialize;
 use crate::cluster;
 use crate::cover::{self, Cover};
 use crate::derive::{self, DerivedInfo};
-use crate::explain::{self, ColumnContrast, SortedColumns};
+use crate::explain::{self, Contrast, SortedColumns};
 use crate::error::{Error, Result};
 use crate::filter;
 use crate::graph::{Nerve, Node};
@@ -587,9 +587,10 @@ impl Workbench {
         Ok(rows)
     }
 
-    /// Every numeric column compared between the rows of `nodes` and all other rows of the
-    /// table, most different first (see [`crate::explain`]).
-    pub fn explain(&mut self, nodes: &[usize]) -> Result<Vec<ColumnContrast>> {
+    /// Every column compared between the rows of `nodes` and all other rows of the table:
+    /// numeric columns and category columns in two lists, each most different first (see
+    /// [`crate::explain`]).
+    pub fn explain(&mut self, nodes: &[usize]) -> Result<Contrast> {
         let rows = self.rows_of(nodes)?;
         if rows.is_empty() {
             return Err(Error::Data("choose at least one node to compare with the rest".into()));
@@ -606,7 +607,10 @@ impl Workbench {
         for &r in &rows {
             in_group[r as usize] = true;
         }
-        Ok(explain::contrast(table, &self.sorted.as_ref().expect("just set").1, &in_group))
+        Ok(Contrast {
+            columns: explain::contrast(table, &self.sorted.as_ref().expect("just set").1, &in_group),
+            categories: explain::category_contrast(table, &in_group),
+        })
     }
 
     /// The values of `columns` (every column when empty) at table rows `rows`, for the

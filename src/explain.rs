@@ -2,7 +2,7 @@
 //! column (file and derived) is compared between the group's rows and all other rows of
 //! the table, and the columns are ranked by how much they differ.
 //!
-//! Two measures per column, each over the rows with a value in that column:
+//! Numeric columns: two measures per column, each over the rows with a value in it:
 //! - the standardised mean difference d = (mean_in - mean_out) / s_p, with s_p the pooled
 //!   standard deviation sqrt(((n_in - 1) s_in² + (n_out - 1) s_out²) / (n_in + n_out - 2)),
 //!   s² the sample variances (ddof 1): Cohen's d (Cohen 1988, *Statistical Power Analysis
@@ -14,6 +14,13 @@
 //! because it is bounded in [0, 1], sees differences of shape as well as of the mean, and
 //! is not driven by a few extreme values.
 //!
+//! Category (text) columns are listed apart ([`category`]): the 2 × k table of counts by
+//! level, the total variation distance between the level distributions (also in [0, 1]),
+//! Pearson's chi-squared test without continuity correction as SciPy's
+//! `chi2_contingency(table, correction=False)` computes it ([`chi2`]), and the level most
+//! over-represented in the group; ranked by the total variation distance, largest first.
+//! The two lists are not merged into one ranking: KS and TV measure different things.
+//!
 //! A caution the page repeats: the group was picked by looking at a graph built from
 //! these same columns, so the p-values are not a test of a hypothesis stated in advance;
 //! read them as a ranking aid, not as evidence. They are not corrected for the number of
@@ -21,6 +28,8 @@
 //!
 //! What it is not: a model of the group (no regression, no feature selection).
 
+pub mod category;
+pub mod chi2;
 pub mod ks;
 
 use serde::Serialize;
@@ -28,7 +37,18 @@ use serde::Serialize;
 use crate::points::is_missing;
 use crate::table::{ColumnData, Table};
 
+pub use category::CategoryContrast;
 pub use ks::{ks_2samp, KsResult, Method};
+
+/// Everything [`crate::Workbench::explain`] tells about a group: numeric columns ranked by
+/// KS (`columns`, as [`contrast`] gives them) and category columns ranked by total
+/// variation distance (`categories`, as [`category_contrast`] gives them).
+#[derive(Debug, Clone, PartialEq, Serialize)]
+#[serde(rename_all = "camelCase")]
+pub struct Contrast {
+    pub columns: Vec<ColumnContrast>,
+    pub categories: Vec<CategoryContrast>,
+}
 
 /// How one column differs between the group and the rest.
 #[derive(Debug, Clone, PartialEq, Serialize)]
@@ -145,6 +165,21 @@ pub fn contrast(table: &Table, sorted: &SortedColumns, in_group: &[bool]) -> Vec
         let (kx, ky) = (key(x), key(y));
         ky.0.total_cmp(&kx.0).then(ky.1.total_cmp(&kx.1)).then(x.name.cmp(&y.name))
     });
+    out
+}
+
+/// Compares every category column of `table` between rows flagged in `in_group` and the
+/// others, ranked by total variation distance (see [`category`]).
+pub fn category_contrast(table: &Table, in_group: &[bool]) -> Vec<CategoryContrast> {
+    let mut out: Vec<CategoryContrast> = table
+        .columns
+        .iter()
+        .filter_map(|c| match &c.data {
+            ColumnData::Category { codes, levels } => Some(category::contrast_codes(&c.name, levels, codes, in_group)),
+            ColumnData::Number(_) => None,
+        })
+        .collect();
+    category::rank(&mut out);
     out
 }
 

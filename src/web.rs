@@ -396,7 +396,8 @@ impl Engine {
         out.into()
     }
 
-    /// Columns ranked by how much the rows of `nodes` differ from the rest.
+    /// Columns ranked by how much the rows of `nodes` differ from the rest:
+    /// `{columns: [numeric, by KS], categories: [text, by total variation distance]}`.
     pub fn explain(&mut self, nodes: &[u32]) -> Result<JsValue, JsValue> {
         let nodes: Vec<usize> = nodes.iter().map(|&n| n as usize).collect();
         to_js(&self.bench.explain(&nodes).map_err(fail)?)

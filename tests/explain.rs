@@ -146,7 +146,10 @@ fn explain_ranks_the_separating_column_first_for_the_first_node() {
     // Interval 1 of 3 over [0, 59] is [0, 19.67]: rows 0-19, one cluster (gaps of 1 <= eps).
     let first = b.nerve.nodes.iter().position(|n| n.members.first() == Some(&0)).unwrap();
     assert_eq!(w.rows_of(&[first]).unwrap(), (0..20).collect::<Vec<u32>>());
-    let r = w.explain(&[first]).unwrap();
+    let all = w.explain(&[first]).unwrap();
+    // The category column is listed apart (tests/category_contrast.rs checks its numbers).
+    assert_eq!(all.categories.iter().map(|c| c.name.as_str()).collect::<Vec<_>>(), ["site"]);
+    let r = &all.columns;
     let names: Vec<&str> = r.iter().map(|c| c.name.as_str()).collect();
     assert_eq!(names.len(), 3, "numeric columns only: {names:?}");
     // x and marker both separate completely (KS 1); marker has the larger |d| (its spread is small).

@@ -33,6 +33,7 @@ const state = {
   primary: null,
   detail: null,
   contrast: null,          // the engine's ranking of columns for the selection
+  categoryContrast: null,  // the same for text columns (by total variation distance)
   groupRows: null,         // Uint32Array: the selection's rows
   rowPage: 0,
   rowCells: null,
@@ -759,6 +760,8 @@ window.nervure = Object.freeze({
   select: function (nodes) { return setSelection(nodes).then(() => Array.from(state.selection).sort((a, b) => a - b)); },
   /** The inspector's ranking of columns for the selection (a copy), or null. */
   contrast: function () { return state.contrast ? JSON.parse(JSON.stringify(state.contrast)) : null; },
+  /** The inspector's text columns for the selection, by total variation distance (a copy), or null. */
+  categoryContrast: function () { return state.categoryContrast ? JSON.parse(JSON.stringify(state.categoryContrast)) : null; },
   /** Rows of the selection (0-based table rows), or null. */
   selectionRows: function () { return state.groupRows ? Array.from(state.groupRows) : null; },
   /** Text of an export ("json", "graphml", "memberships", "report", "svg", "settings"). */

@@ -1,7 +1,9 @@
 /* inspector.js: the selection of nodes and the panel that explains it. One node or a group
  * (shift-click, lasso, or points picked in the scatter): its size, a per-column summary,
  * its member rows as a paged table with their data row numbers, and the columns ranked by
- * how much the group's rows differ from all other rows (the engine's `explain`).
+ * how much the group's rows differ from all other rows (the engine's `explain`): numeric
+ * columns by KS in `state.contrast`, text columns by total variation distance in
+ * `state.categoryContrast`, shown as a second table under the first.
  *
  * It owns `state.selection` and the memberships cache (`state.members`, node -> rows as
  * CSR arrays from the engine, used to link the graph and the scatter). It computes no
@@ -30,6 +32,7 @@ function resetSelection() {
   state.primary = null;
   state.detail = null;
   state.contrast = null;
+  state.categoryContrast = null;
   state.groupRows = null;
   state.rowPage = 0;
   state.rowCells = null;
@@ -72,6 +75,7 @@ async function setSelection(nodes, primary) {
   state.selected = sel.size === 1 ? sel.values().next().value : (sel.size === 0 ? null : state.primary);
   state.detail = null;
   state.contrast = null;
+  state.categoryContrast = null;
   state.groupRows = null;
   state.rowCells = null;
   state.rowPage = 0;
@@ -92,7 +96,9 @@ async function setSelection(nodes, primary) {
     ]);
     if (seq !== state.inspectSeq) return null;
     state.detail = detail;
-    state.contrast = contrast;
+    // The engine gives {columns: numeric by KS, categories: text by TV distance}.
+    state.contrast = contrast.columns;
+    state.categoryContrast = contrast.categories;
     await loadRowPage(0, seq);
     renderDetail();
     return { detail, contrast };
@@ -230,6 +236,43 @@ function renderContrast() {
     if (r.pMethod) p.title = r.pMethod + " p-value (as scipy.stats.ks_2samp computes it)";
     // Means in and out are in the column table below (or the node's own statistics).
     tr.append(th, ks, p, el("td", "num", formatNumber(r.smd)));
+    body.append(tr);
+  }
+  renderCategoryContrast();
+}
+
+/** A share in [0, 1] as a whole percentage ("under 1" for a small non-zero share). */
+function formatShare(x) {
+  const pct = 100 * x;
+  return (pct > 0 && pct < 0.5 ? "under 1" : Math.round(pct)) + " %";
+}
+
+/** The text columns: total variation distance, chi-squared p-value, the level most
+ *  over-represented in the group with its share here and elsewhere. */
+function renderCategoryContrast() {
+  const body = byId("category-body");
+  body.textContent = "";
+  const c = state.categoryContrast;
+  byId("category-wrap").hidden = !c || c.length === 0;
+  if (!c) return;
+  for (const r of c) {
+    const tr = el("tr");
+    const th = el("th", null, r.name);
+    th.title = r.name + ": " + formatCount(r.nIn) + " rows here, " + formatCount(r.nOut) + " elsewhere have a value"
+      + (r.missingIn || r.missingOut ? " (" + formatCount(r.missingIn) + " and " + formatCount(r.missingOut) + " without one, left out)" : "")
+      + "; " + plural(r.levels.length, "value", "values") + " seen";
+    const tv = el("td", "num", formatNumber(r.tv));
+    const bar = el("span", "ks-bar");
+    bar.style.width = (r.tv === null ? 0 : Math.round(100 * r.tv)) + "%";
+    tv.prepend(bar);
+    const p = el("td", "num", formatP(r.pValue));
+    if (r.chi2 !== null) {
+      p.title = "Pearson's chi-squared test of independence, no continuity correction (as scipy.stats.chi2_contingency(table, correction=False)): χ² = "
+        + formatNumber(r.chi2) + " with " + r.dof + " degrees of freedom"
+        + (r.minExpected !== null && r.minExpected < 5 ? "; some expected counts are below 5, so this p-value is rough" : "");
+    }
+    const top = el("td", "top", r.topLevel === null ? "—" : "“" + r.topLevel + "” " + formatShare(r.topShareIn) + " here vs " + formatShare(r.topShareOut) + " elsewhere");
+    tr.append(th, tv, p, top);
     body.append(tr);
   }
 }

@@ -6,6 +6,7 @@
 import { test, beforeEach } from "node:test";
 import assert from "node:assert/strict";
 import { join } from "node:path";
+import { readFileSync } from "node:fs";
 import { circleCsv, outDir, usePage, waitForGraph, waitForIdle, uncoveredNode, openCircleIn } from "./harness.mjs";
 
 const ctx = usePage();
@@ -68,6 +69,50 @@ test("shift-click builds a group; the inspector ranks columns and pages the memb
   await page.waitForFunction((n) => JSON.stringify(window.nervure.selection()) === JSON.stringify([n]), a);
   await page.waitForFunction(() => document.getElementById("detail-title").textContent.startsWith("Node "));
   await page.screenshot({ path: join(outDir, "inspector.png") });
+});
+
+test("a text column tied to part of the graph: its value is named as over-represented in the group", async () => {
+  // By construction (make-circle.mjs): column "half" is "upper" exactly where y >= 0. A
+  // group of nodes made only of upper rows must show "upper" as over-represented, with
+  // counts that follow from the file.
+  await openCircle();
+  const half = readFileSync(circleCsv, "utf8").trim().split("\n").slice(1).map((l) => l.split(",")[3]);
+  const g = await graphJson();
+  const upperNodes = g.nodes.map((n, i) => [n, i]).filter(([n]) => n.rows.every((r) => half[r - 1] === "upper")).map(([, i]) => i);
+  assert.ok(upperNodes.length > 0 && upperNodes.length < g.nodes.length, "some nodes hold upper rows only");
+  await page.evaluate((nodes) => window.nervure.select(nodes), upperNodes);
+  await page.waitForFunction(() => window.nervure.categoryContrast() !== null && window.nervure.contrast() !== null);
+
+  // The numeric part keeps its shape: an array ranked by KS.
+  const numeric = await page.evaluate(() => window.nervure.contrast());
+  assert.deepEqual(numeric.map((c) => c.name).sort(), ["angle_deg", "x", "y"]);
+
+  const cats = await page.evaluate(() => window.nervure.categoryContrast());
+  assert.deepEqual(cats.map((c) => c.name), ["half"]);
+  const h = cats[0];
+  const inGroup = new Set(upperNodes.flatMap((i) => g.nodes[i].rows));
+  const outside = half.map((v, k) => [v, k + 1]).filter(([, r]) => !inGroup.has(r)).map(([v]) => v);
+  const upperOut = outside.filter((v) => v === "upper").length;
+  const lowerOut = outside.length - upperOut;
+  const at = (level, counts) => counts[h.levels.indexOf(level)];
+  assert.deepEqual([at("upper", h.countsIn), at("lower", h.countsIn)], [inGroup.size, 0]);
+  assert.deepEqual([at("upper", h.countsOut), at("lower", h.countsOut)], [upperOut, lowerOut]);
+  assert.equal(h.topLevel, "upper");
+  assert.equal(h.topShareIn, 1);
+  assert.ok(Math.abs(h.topShareOut - upperOut / outside.length) < 1e-12);
+  // TV = ½ (|1 − upperOut/nOut| + |0 − lowerOut/nOut|) = lowerOut / nOut (the definition).
+  assert.ok(Math.abs(h.tv - lowerOut / outside.length) < 1e-12, `tv ${h.tv}`);
+  assert.equal(h.dof, 1);
+  assert.ok(h.pValue < 1e-3, `p ${h.pValue}`);
+
+  // Shown under the numeric table, with the share here and elsewhere and the caution.
+  assert.ok(await page.isVisible("#category-wrap"));
+  assert.deepEqual(await page.$$eval("#category-body th", (ths) => ths.map((t) => t.textContent)), ["half"]);
+  const text = await page.textContent("#category-body tr td.top");
+  assert.equal(text, "“upper” 100 % here vs " + Math.round(100 * upperOut / outside.length) + " % elsewhere");
+  assert.match(await page.textContent("#category-note"), /not evidence/);
+  await page.locator("#category-wrap").scrollIntoViewIfNeeded();
+  await page.screenshot({ path: join(outDir, "inspector-categories.png") });
 });
 
 test("a shift-drag lasso selects the nodes whose centres it encloses", async () => {

@@ -35,7 +35,7 @@ import sklearn
 from scipy.cluster.hierarchy import linkage
 from scipy.spatial.distance import cdist
 from scipy.special import smirnov
-from scipy.stats import gaussian_kde, ks_2samp, kstwo
+from scipy.stats import chi2, chi2_contingency, gaussian_kde, ks_2samp, kstwo
 from sklearn.cluster import DBSCAN
 from sklearn.datasets import load_iris, load_wine, make_blobs
 from sklearn.decomposition import PCA
@@ -412,6 +412,73 @@ def ks_fixture():
     })
 
 
+def chi2_fixture():
+    """Chi-squared tail (scipy.stats.chi2.sf) and Pearson's test of independence on 2 x k
+    tables (scipy.stats.chi2_contingency, correction=False), with the total variation
+    distance and the most over-represented level computed with NumPy."""
+    tail = []
+    for dof in (1, 2, 3, 4, 5, 7, 10, 19, 30, 99, 100, 101, 500, 1000, 5000, 20000):
+        xs = [dof * f for f in (0.01, 0.2, 0.5, 0.9, 1.0, 1.1, 1.5, 2.0, 3.0, 5.0)]
+        xs += [dof + 2.0, dof + 1.999]  # either side of the switch at x/2 = dof/2 + 1
+        if dof <= 10:
+            xs += [50.0, 200.0, 700.0, 1300.0]  # tails down to about 1e-280
+        for x in xs:
+            tail.append({"x": float(x), "dof": dof, "sf": float(chi2.sf(x, dof))})
+    rng = np.random.default_rng(53)
+
+    def draw(n_in, n_out, p_in, p_out):
+        return rng.multinomial(n_in, p_in).tolist(), rng.multinomial(n_out, p_out).tolist()
+
+    many = rng.dirichlet(np.ones(60))
+    sparse = rng.dirichlet(np.full(200, 0.3))
+    tables = [
+        ("2 levels, small", [3, 1], [1, 3]),
+        ("2 levels, hand-checkable", [10, 20], [30, 40]),
+        ("3 levels, zero cells on one side", [0, 2, 5], [4, 1, 0]),
+        ("4 levels, one with no row on either side (dropped)", [5, 0, 7, 2], [3, 0, 1, 9]),
+        ("identical shares", [2, 4], [3, 6]),
+        ("one level with rows (dof 0)", [0, 4, 0], [0, 9, 0]),
+        ("tiny p-value", [900, 100], [100, 900]),
+        ("p-value below the smallest double", [5000, 0], [0, 5000]),
+        ("5 levels, large counts",
+         *draw(20000, 50000, [0.3, 0.25, 0.2, 0.15, 0.1], [0.28, 0.26, 0.2, 0.16, 0.1])),
+        ("60 levels, 800 vs 5000", *draw(800, 5000, many[::-1], many)),
+        ("200 levels, sparse, 300 vs 2000", *draw(300, 2000, sparse, sparse)),
+        ("12 levels, group from 3 levels", *draw(400, 3000, [0.0] * 9 + [0.5, 0.3, 0.2], [1 / 12] * 12)),
+    ]
+    cases = []
+    for label, a, b in tables:
+        a, b = np.array(a), np.array(b)
+        keep = (a + b) > 0
+        res = chi2_contingency(np.array([a[keep], b[keep]]), correction=False)
+        pa, pb = a / a.sum(), b / b.sum()
+        diff = pa - pb
+        top = int(np.argmax(diff)) if diff.max() > 0 else None
+        cases.append({
+            "label": label,
+            "in": [int(x) for x in a],
+            "out": [int(x) for x in b],
+            "statistic": float(res.statistic),
+            "pvalue": float(res.pvalue),
+            "dof": int(res.dof),
+            "min_expected": float(res.expected_freq.min()),
+            "tv": float(0.5 * np.abs(diff).sum()),
+            "top": top,
+            "top_share_in": float(pa[top]) if top is not None else None,
+            "top_share_out": float(pb[top]) if top is not None else None,
+        })
+    write("chi2.json", {
+        "source": (f"{lib('scipy')}: sf = scipy.stats.chi2.sf(x, dof); cases: "
+                   "scipy.stats.chi2_contingency([in, out] with levels of no row on either side "
+                   "dropped, correction=False) statistic, pvalue, dof, expected_freq.min(); "
+                   f"{lib('numpy')}: tv = 0.5 * sum |in/in.sum() - out/out.sum()|, top = "
+                   "argmax of that difference (None when no level is larger in the group); "
+                   "random tables numpy.random.default_rng(53) multinomial and dirichlet"),
+        "sf": tail,
+        "cases": cases,
+    })
+
+
 def bottleneck_fixture():
     rng = np.random.default_rng(31)
 
@@ -647,6 +714,7 @@ def main():
     penguins_fixture()
     times_fixture()
     ks_fixture()
+    chi2_fixture()
     bottleneck_fixture()
     align_fixture()
     xlsx_fixture()

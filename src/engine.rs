@@ -267,6 +267,10 @@ pub struct Workbench {
     cover: Option<(CoverKey, Cover)>,
     clustered: Option<(ClusterKey, Clustered)>,
     last: Option<Build>,
+    /// [`crate::auto::auto_settings`] of the table with its present columns, kept because the
+    /// page asks for it more than once per file and it costs a k-d tree over every row.
+    /// Dropped whenever the columns change.
+    auto: Option<Settings>,
 }
 
 impl Workbench {
@@ -278,6 +282,14 @@ impl Workbench {
     pub fn set_table(&mut self, table: Table) {
         let base_columns = table.columns.len();
         *self = Workbench { table: Some(table), base_columns, ..Default::default() };
+    }
+
+    /// [`Workbench::set_table`] with the table's automatic settings already made by the
+    /// caller (`auto` must be `crate::auto::auto_settings(&table)`), so that
+    /// [`Workbench::auto_settings`] does not make them again.
+    pub fn set_table_with_auto(&mut self, table: Table, auto: Settings) {
+        self.set_table(table);
+        self.auto = Some(auto);
     }
 
     pub fn table(&self) -> Option<&Table> {
@@ -292,8 +304,15 @@ impl Workbench {
         self.table.as_ref().ok_or_else(|| Error::Input("no table is loaded yet: open a CSV file first".into()))
     }
 
-    pub fn auto_settings(&self) -> Result<Settings> {
-        let mut s = crate::auto::auto_settings(self.need_table()?)?;
+    pub fn auto_settings(&mut self) -> Result<Settings> {
+        let mut s = match &self.auto {
+            Some(s) => s.clone(),
+            None => {
+                let s = crate::auto::auto_settings(self.need_table()?)?;
+                self.auto = Some(s.clone());
+                s
+            }
+        };
         // Keep the derived columns already made, so the names auto may choose resolve.
         s.derived = self.derived.as_ref().map(|((d, _), _)| d.clone()).unwrap_or_default();
         Ok(s)
@@ -319,6 +338,7 @@ impl Workbench {
         table.columns.extend(made);
         self.derived = Some((key, infos));
         self.sorted = None;
+        self.auto = None;
         Ok(())
     }
 
@@ -964,4 +984,42 @@ fn dominant(codes: &[u32], n_levels: usize, rows: &[u32]) -> Option<(u32, f64)> 
     }
     let (best, &k) = counts.iter().enumerate().max_by_key(|&(i, k)| (*k, std::cmp::Reverse(i)))?;
     (total > 0).then(|| (best as u32, k as f64 / total as f64))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::table::Column;
+
+    /// The kept automatic settings are exactly those made afresh, before and after the
+    /// table's columns change (derived columns appended can be chosen by them).
+    #[test]
+    fn kept_automatic_settings_equal_fresh_ones() {
+        let mut r = crate::rng::SplitMix64::new(3);
+        let n = 400;
+        let table = Table::from_columns(
+            "t",
+            vec![
+                Column::number("x", (0..n).map(|_| r.normal()).collect()),
+                Column::number("y", (0..n).map(|_| r.normal()).collect()),
+            ],
+        )
+        .unwrap();
+        let fresh = crate::auto::auto_settings(&table).unwrap();
+        let mut bench = Workbench::new();
+        bench.set_table_with_auto(table.clone(), fresh.clone());
+        assert_eq!(bench.auto_settings().unwrap(), fresh);
+        let mut bench = Workbench::new();
+        bench.set_table(table);
+        assert_eq!(bench.auto_settings().unwrap(), fresh);
+        assert_eq!(bench.auto_settings().unwrap(), fresh);
+
+        let mut s = fresh.clone();
+        s.derived = vec![Derived { name: "z".into(), expression: "x * y".into() }];
+        bench.run(&s, &mut |_, _| {}).unwrap();
+        let mut expected = crate::auto::auto_settings(bench.table().unwrap()).unwrap();
+        expected.derived = s.derived.clone();
+        assert!(expected.columns.contains(&"z".to_string()), "the derived column is a candidate");
+        assert_eq!(bench.auto_settings().unwrap(), expected);
+    }
 }

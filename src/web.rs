@@ -211,12 +211,16 @@ impl Engine {
         let reader = self.reader.take().ok_or_else(|| fail("internal: finish_table before begin_table"))?;
         let part = reader.finish(None).map_err(fail)?;
         // A table the page cannot start from is refused before it replaces the one shown.
-        crate::auto::auto_settings(&part.table).map_err(fail)?;
+        let auto = crate::auto::auto_settings(&part.table).map_err(fail)?;
         self.notices = part.note.notes.clone();
         self.encoding = part.note.encoding;
         self.campaign.clear();
         self.campaign.add(part);
-        self.assemble()
+        // One file and no plan: the table assembled is that file's table, so its automatic
+        // settings are the ones just made (the worker asks for them next).
+        let table = self.campaign.assemble().map_err(fail)?;
+        self.bench.set_table_with_auto(table, auto);
+        self.table_info(&[])
     }
 
     /// Ends the file and adds it to the files loaded (the table is made by `assemble`).
@@ -282,7 +286,7 @@ impl Engine {
     }
 
     /// Concrete first settings for the table.
-    pub fn auto_settings(&self) -> Result<JsValue, JsValue> {
+    pub fn auto_settings(&mut self) -> Result<JsValue, JsValue> {
         to_js(&self.bench.auto_settings().map_err(fail)?)
     }
 

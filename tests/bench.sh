@@ -11,6 +11,8 @@
 #    memberships with tests/bench/compare.py (core rows exactly; border rows only where
 #    they are contested, counted);
 # 4. runs the page in headless Chromium (tests/bench/page.mjs; needs dist/nervure.html);
+# 5. times the page's load path alone (tests/bench/ingest.mjs): natively, as wasm under
+#    node and in a Chromium worker, one after the other in one run;
 # and prints one table. `uptime` is printed with it: the numbers depend on the load.
 set -euo pipefail
 here="$(cd "$(dirname "$0")" && pwd)"
@@ -35,7 +37,7 @@ settings="$here/bench/settings.json"
 [ -s "$data" ] || python3 "$root/demo/make_demo.py" --rows "$rows" --out "$data" >&2
 
 export CARGO_TARGET_DIR="${CARGO_TARGET_DIR:-$HOME/.cache/nervure-target}"
-(cd "$root" && cargo build --release --bin nervure >&2)
+(cd "$root" && cargo build --release --bin nervure --example ingest_bench >&2)
 cli="$CARGO_TARGET_DIR/release/nervure"
 out="$cache/run-$rows"
 mkdir -p "$out"
@@ -65,8 +67,10 @@ fi
 
 if [ "$page" = 1 ]; then
   node "$here/bench/page.mjs" "$data" "$settings" > "$out/page.json" || echo '{"failed": true}' > "$out/page.json"
+  node "$here/bench/ingest.mjs" "$data" > "$out/ingest.json" || echo '{"failed": true}' > "$out/ingest.json"
 else
   echo '{"skipped": true}' > "$out/page.json"
+  echo '{"skipped": true}' > "$out/ingest.json"
 fi
 
 python3 "$here/bench/table.py" "$rows" "$out" "$script_timeout" "$(uptime)"

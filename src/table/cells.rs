@@ -25,8 +25,61 @@
 //!   number nor missing is stored as missing and counted; the column stays numeric.
 
 use std::collections::HashMap;
+use std::hash::{BuildHasherDefault, Hasher};
 
 use super::{Column, ColumnData, MISSING_CODE};
+
+/// Hashes level texts for the category index: eight bytes at a time, one multiplication
+/// each (the mixing step of the Fx hash used inside rustc, written out here). Much cheaper
+/// than the standard library's SipHash on short texts, above all in wasm; the texts come
+/// from the user's own file, so resistance to chosen collisions is not needed. Which hash
+/// is used changes no result: codes follow the order of first appearance.
+#[derive(Default, Clone, Copy)]
+pub struct LevelHasher(u64);
+
+const LEVEL_HASH_K: u64 = 0xf135_7aea_2e62_a9c5;
+
+impl LevelHasher {
+    #[inline]
+    fn add(&mut self, word: u64) {
+        self.0 = (self.0.rotate_left(26) ^ word).wrapping_mul(LEVEL_HASH_K);
+    }
+}
+
+impl Hasher for LevelHasher {
+    #[inline]
+    fn write(&mut self, mut bytes: &[u8]) {
+        while let Some((head, rest)) = bytes.split_first_chunk::<8>() {
+            self.add(u64::from_le_bytes(*head));
+            bytes = rest;
+        }
+        if !bytes.is_empty() {
+            let mut last = [0u8; 8];
+            last[..bytes.len()].copy_from_slice(bytes);
+            self.add(u64::from_le_bytes(last) ^ ((bytes.len() as u64) << 59));
+        }
+    }
+
+    #[inline]
+    fn write_u8(&mut self, i: u8) {
+        self.add(i as u64);
+    }
+
+    #[inline]
+    fn write_usize(&mut self, i: usize) {
+        self.add(i as u64);
+    }
+
+    #[inline]
+    fn finish(&self) -> u64 {
+        // The table picks buckets from the high bits and tags from the top seven: fold the
+        // well-mixed high half into both.
+        self.0.rotate_left(20)
+    }
+}
+
+/// Level text to code.
+type LevelIndex = HashMap<String, u32, BuildHasherDefault<LevelHasher>>;
 
 /// Trims ASCII spaces and tabs from both ends.
 pub fn trim(mut b: &[u8]) -> &[u8] {
@@ -174,7 +227,10 @@ pub struct NotUtf8;
 enum Kind {
     Number(Vec<f64>),
     /// `index` maps each level's text to its code; levels are listed by code at the end.
-    Category { codes: Vec<u32>, index: HashMap<String, u32> },
+    /// `last` is the code of the last text cell and `last_text` its text: a cell equal to
+    /// the one before (dates repeated across stations, a category in runs) is coded
+    /// without a look-up.
+    Category { codes: Vec<u32>, index: LevelIndex, last: u32, last_text: Vec<u8> },
 }
 
 /// One column under construction.
@@ -302,7 +358,7 @@ impl ColumnBuilder {
     fn become_category(&mut self, row: usize, text: &str) {
         let Kind::Number(values) = &self.kind else { return };
         let mut codes = Vec::with_capacity(values.len() + 1);
-        let mut index: HashMap<String, u32> = HashMap::new();
+        let mut index = LevelIndex::default();
         for &x in values {
             if x.is_nan() {
                 codes.push(MISSING_CODE);
@@ -312,12 +368,17 @@ impl ColumnBuilder {
                 codes.push(*index.entry(level).or_insert(next));
             }
         }
-        self.kind = Kind::Category { codes, index };
+        self.kind = Kind::Category { codes, index, last: MISSING_CODE, last_text: Vec::new() };
         self.first_text = Some((row, text.to_string()));
     }
 
+    #[inline]
     fn push_text(&mut self, text: &str) {
-        let Kind::Category { codes, index } = &mut self.kind else { unreachable!("push_text on a number column") };
+        let Kind::Category { codes, index, last, last_text } = &mut self.kind else { unreachable!("push_text on a number column") };
+        if *last != MISSING_CODE && last_text.as_slice() == text.as_bytes() {
+            codes.push(*last);
+            return;
+        }
         let code = match index.get(text) {
             Some(&c) => c,
             None => {
@@ -326,13 +387,16 @@ impl ColumnBuilder {
                 c
             }
         };
+        *last = code;
+        last_text.clear();
+        last_text.extend_from_slice(text.as_bytes());
         codes.push(code);
     }
 
     pub fn finish(self) -> Column {
         let data = match self.kind {
             Kind::Number(values) => ColumnData::Number(values),
-            Kind::Category { codes, index } => {
+            Kind::Category { codes, index, .. } => {
                 let mut levels = vec![String::new(); index.len()];
                 for (text, code) in index {
                     levels[code as usize] = text;
@@ -414,6 +478,21 @@ mod tests {
             ColumnData::Category { codes, levels } => {
                 assert_eq!(levels, &["1.5", "1000", "red", "blue"]);
                 assert_eq!(codes, &[0, MISSING_CODE, 1, 2, 0, 2, 3, MISSING_CODE]);
+            }
+            other => panic!("expected a category column, got {other:?}"),
+        }
+    }
+
+    /// Runs of one text (coded without a look-up) and texts whose hashes are computed from
+    /// partial eight-byte words keep the codes of first appearance.
+    #[test]
+    fn repeated_texts_keep_their_codes() {
+        let cells = ["a", "a", "", "a", "b", "b", "a", "2024-07-15T00:00", "2024-07-15T00:00", "2024-07-15T01:00", "b", "a\0"];
+        let (c, _) = build(&cells, &defaults());
+        match &c.data {
+            ColumnData::Category { codes, levels } => {
+                assert_eq!(levels, &["a", "b", "2024-07-15T00:00", "2024-07-15T01:00", "a\0"]);
+                assert_eq!(codes, &[0, 0, MISSING_CODE, 0, 1, 1, 0, 2, 2, 3, 1, 4]);
             }
             other => panic!("expected a category column, got {other:?}"),
         }

@@ -21,6 +21,7 @@ eng = load("engine-timings.json")
 script = load("script-timings.json")
 page = load("page.json")
 cmp = load("compare.json")
+ingest = load("ingest.json")
 
 
 def s(v):
@@ -63,3 +64,12 @@ if cmp:
         print(f"memberships: {'same' if cmp.get('ok') else 'DIFFERENT'}; core rows {cmp.get('coreRows')}, border rows {cmp.get('borderRows')}, "
               f"contested border rows {cmp.get('contestedBorderRows')}, border rows in another cluster {cmp.get('borderRowsInOtherCluster')}"
               + ("; " + "; ".join(cmp.get("problems", [])) if cmp.get("problems") else ""))
+if ingest and not ingest.get("skipped") and not ingest.get("failed"):
+    parts = []
+    for key, label in (("native", "native"), ("node", "wasm (node)"), ("chromium", "wasm (Chromium worker, FileReaderSync)")):
+        t = ingest.get(key) or {}
+        if t.get("totalS"):
+            parts.append(f"{label} {t['totalS']:.2f} s = {t['mbPerS']:.0f} MB/s (parsing {t['parseMbPerS']:.0f} MB/s)")
+    r = ingest.get("ratios", {})
+    print("load path (file to table and first settings): " + "; ".join(parts)
+          + f"; wasm / native: node {r.get('nodeVsNative')}x, Chromium {r.get('chromiumVsNative')}x")

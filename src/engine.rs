@@ -56,6 +56,9 @@ impl Build {
     }
 }
 
+/// The most levels of one category column a comparison lists (the statistics count all).
+pub const CONTRAST_LEVELS: usize = 30;
+
 #[derive(Debug, Clone, PartialEq, Serialize)]
 #[serde(rename_all = "camelCase")]
 pub struct Summary {
@@ -627,10 +630,11 @@ impl Workbench {
         for &r in &rows {
             in_group[r as usize] = true;
         }
-        Ok(Contrast {
-            columns: explain::contrast(table, &self.sorted.as_ref().expect("just set").1, &in_group),
-            categories: explain::category_contrast(table, &in_group),
-        })
+        let mut categories = explain::category_contrast(table, &in_group);
+        for c in &mut categories {
+            c.keep_levels(CONTRAST_LEVELS);
+        }
+        Ok(Contrast { columns: explain::contrast(table, &self.sorted.as_ref().expect("just set").1, &in_group), categories })
     }
 
     /// The values of `columns` (every column when empty) at table rows `rows`, for the

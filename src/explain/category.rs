@@ -53,6 +53,31 @@ pub struct CategoryContrast {
     pub top_level: Option<String>,
     pub top_share_in: Option<f64>,
     pub top_share_out: Option<f64>,
+    /// Levels left out of `levels` and the counts by [`CategoryContrast::keep_levels`]
+    /// (all the statistics above still count them).
+    pub levels_left_out: usize,
+}
+
+impl CategoryContrast {
+    /// Keeps the `max` levels whose shares differ most between the group and the rest
+    /// (|share in − share out|, ties in level order), in level order, so a column with very
+    /// many values (an identifier) does not send all of them with every selection.
+    pub fn keep_levels(&mut self, max: usize) {
+        let k = self.levels.len();
+        if k <= max {
+            return;
+        }
+        let (fi, fo) = (self.n_in.max(1) as f64, self.n_out.max(1) as f64);
+        let gap = |j: usize| (self.counts_in[j] as f64 / fi - self.counts_out[j] as f64 / fo).abs();
+        let mut order: Vec<usize> = (0..k).collect();
+        order.sort_by(|&a, &b| gap(b).total_cmp(&gap(a)).then(a.cmp(&b)));
+        let mut keep = order[..max].to_vec();
+        keep.sort_unstable();
+        self.levels = keep.iter().map(|&j| std::mem::take(&mut self.levels[j])).collect();
+        self.counts_in = keep.iter().map(|&j| self.counts_in[j]).collect();
+        self.counts_out = keep.iter().map(|&j| self.counts_out[j]).collect();
+        self.levels_left_out += k - max;
+    }
 }
 
 /// The contrast of a column whose rows have level codes `codes` (`MISSING_CODE` for
@@ -96,6 +121,7 @@ pub fn from_counts(name: &str, levels: &[String], counts_in: &[u64], counts_out:
         top_level: None,
         top_share_in: None,
         top_share_out: None,
+        levels_left_out: 0,
     };
     if n_in == 0 || n_out == 0 {
         return out;
@@ -138,6 +164,23 @@ pub fn rank(list: &mut [CategoryContrast]) {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn keeping_levels_keeps_the_statistics_and_the_largest_gaps() {
+        // Level 0 is all in the group, level 2 all outside, levels 1 and 3 even: the two
+        // kept are 0 and 2, the statistics those of the whole table.
+        let levels: Vec<String> = ["a", "b", "c", "d"].iter().map(|s| s.to_string()).collect();
+        let mut c = from_counts("x", &levels, &[10, 5, 0, 5], &[0, 5, 10, 5], 0, 0);
+        let whole = c.clone();
+        c.keep_levels(2);
+        assert_eq!(c.levels, vec!["a".to_string(), "c".to_string()]);
+        assert_eq!((c.counts_in.clone(), c.counts_out.clone()), (vec![10, 0], vec![0, 10]));
+        assert_eq!(c.levels_left_out, 2);
+        assert_eq!((c.tv, c.chi2, c.p_value, c.top_level.clone()), (whole.tv, whole.chi2, whole.p_value, whole.top_level.clone()));
+        let mut same = whole.clone();
+        same.keep_levels(4);
+        assert_eq!(same, whole);
+    }
 
     fn names(v: &[&str]) -> Vec<String> {
         v.iter().map(|s| s.to_string()).collect()

@@ -6,8 +6,9 @@
  *
  * It reads and writes app.js's `state` (state.files holds the engine's file list) and goes
  * through app.js's loadTable, so every change streams with progress and rebuilds the graph
- * as a new file would. After an engine restart only a fresh drop of several files is read
- * again; additions, removals and the alignment are not replayed. Only function declarations at the top level: app.js calls
+ * as a new file would. After an engine restart the files first read are read again and
+ * every later change of the list (additions, removals, sheets, the alignment) is made again
+ * in order (recovery.js). Only function declarations at the top level: app.js calls
  * renderFiles() before this part of the page's script has run.
  */
 
@@ -15,9 +16,11 @@
 function loadFiles(files, add) {
   const started = performance.now();
   // A fresh set is a source that can be read again after an engine restart (recovery.js);
-  // an addition or a change of the list is not (the first files would be lost).
+  // an addition is a step made again after it.
   const loading = add
-    ? loadTable(null, function (progress) { return engine.request("load", { files, add: true }, progress); })
+    ? loadTable(null, function (progress) {
+      return engine.request("load", { files, add: true }, progress).then(function (out) { rememberStep("load", { files, add: true }); return out; });
+    })
     : loadTable({ files, add: false, name: files.length + " files" });
   return loading.then(function (table) {
     state.fileTimings = Object.assign({}, state.fileTimings, { mergeMs: state.timing.tableRead - started });
@@ -27,8 +30,9 @@ function loadFiles(files, add) {
 
 /** Sends one change of the file list (remove, sheet, plan) and rebuilds from the result. */
 function changeFiles(op, payload) {
+  const request = Object.assign({ op }, payload);
   return loadTable(null, function (progress) {
-    return engine.request("files", Object.assign({ op }, payload), progress);
+    return engine.request("files", request, progress).then(function (out) { rememberStep("files", request); return out; });
   });
 }
 

@@ -23,6 +23,7 @@ const MEMORY_PER_FILE_BYTE = 2.5;
 
 const recovery = {
   source: null,         // the last table read: {file | text, name, options}
+  steps: [],            // changes of its file list since, as {type, payload} requests
   recovering: false,    // a restarted engine is reading the table again
   budgetOverride: null, // test hook: the memory budget in bytes
   columnFilter: "",
@@ -61,6 +62,21 @@ function sizeRefusal(source) {
 /** Called by loadTable once a table is read: its source can be read again after a restart. */
 function rememberSource(source) {
   recovery.source = source;
+  recovery.steps = [];
+}
+
+/** Called once a change of the file list (an addition, a removal, a sheet, an alignment)
+ *  has been made: after a restart it is made again, in order, after the source is read. */
+function rememberStep(type, payload) {
+  if (recovery.source) recovery.steps.push({ type, payload });
+}
+
+/** Reads `source` into the engine and makes the `steps` again; resolves with the last
+ *  table message. */
+async function readWithSteps(source, steps, progress) {
+  let loaded = await engine.request("load", source, progress);
+  for (const step of steps) loaded = await engine.request(step.type, step.payload, progress);
+  return loaded;
 }
 
 /* ---------------------------------------------------------------- engine restarts */
@@ -89,11 +105,13 @@ async function reloadIntoNewEngine() {
   state.progress = { label: "Restarting the engine: reading the table again", fraction: 0 };
   renderProgress();
   try {
-    const loaded = await engine.request("load", recovery.source, function (stage, fraction) {
+    const progress = function (stage, fraction) {
       state.progress = { label: "Restarting the engine: reading the table again", fraction };
       renderProgress();
-    });
+    };
+    const loaded = await readWithSteps(recovery.source, recovery.steps, progress);
     state.table = loaded.table;
+    state.files = loaded.files || null;
     if (keep && state.graph) {
       state.progress = { label: "Restarting the engine: rebuilding the graph shown", fraction: 0 };
       renderProgress();
@@ -185,7 +203,13 @@ function readTextAsMissing(column) {
   if (!recovery.source) return Promise.reject(new Error("no table is loaded yet; open a CSV file first"));
   const options = Object.assign({ textAsMissing: [] }, recovery.source.options || {});
   if (options.textAsMissing.indexOf(column) < 0) options.textAsMissing = options.textAsMissing.concat([column]);
-  return loadTable(Object.assign({}, recovery.source, { options }));
+  const source = Object.assign({}, recovery.source, { options });
+  const steps = recovery.steps.slice();
+  if (!steps.length) return loadTable(source);
+  // Files added or changed since: made again on the re-read table, and kept as its steps.
+  return loadTable(null, function (progress) {
+    return readWithSteps(source, steps, progress).then(function (out) { recovery.source = source; recovery.steps = steps; return out; });
+  });
 }
 
 /* ---------------------------------------------------------------- long column lists */

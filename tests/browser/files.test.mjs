@@ -136,6 +136,18 @@ test("station files and a model file: dropped, merged, aligned, differences, gra
   const near = await page.evaluate(() => window.nervure.files());
   assert.equal(near.alignment.matched, 7056 - 6);
 
+  // A worker crash: the restarted engine reads the first files again and makes every later
+  // change again (the removal, the addition, the alignment), so the same table and graph.
+  const before = { files: await page.evaluate(() => window.nervure.files()), summary: await page.evaluate(() => window.nervure.summary()) };
+  await page.evaluate(() => window.nervure.test.crashWorker());
+  await page.waitForFunction(() => /restarted/.test(window.nervure.message() || "") && !window.nervure.status().recovering, null, { timeout: 120000 });
+  const after = { files: await page.evaluate(() => window.nervure.files()), summary: await page.evaluate(() => window.nervure.summary()) };
+  assert.deepEqual(after.files.files.map((f) => [f.name, f.rows]), before.files.files.map((f) => [f.name, f.rows]));
+  assert.deepEqual(after.files.plan, before.files.plan);
+  assert.equal(after.files.alignment.matched, before.files.alignment.matched);
+  assert.deepEqual(after.summary, before.summary);
+  problems = problems.filter((p) => !/test: the worker stopped/.test(p));
+
   const t = await page.evaluate(() => window.nervure.fileTimings());
   console.log(`# merge of 7 demo files (${stations.length} stations + model): ${t.mergeMs.toFixed(0)} ms; alignment (nearest, by station): ${t.alignMs.toFixed(0)} ms`);
   await page.screenshot({ path: join(here, "out", "files.png") });

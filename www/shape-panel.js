@@ -350,13 +350,15 @@ function createShapePanel(deps) {
 
   /* ---------------------------------------------------------------- comparison */
 
-  async function loadSecond(source) {
+  /** Makes a second table (`make` resolves with its description), builds its graph, and
+   *  shows either or the error. */
+  async function setSecond(make) {
     sp.compareNote = null;
     sp.comparison = null;
     sp.second = null;
     render();
     try {
-      const table = await deps.request("loadB", source);
+      const table = await make();
       sp.second = { table, summary: null, graph: null };
       await buildSecond();
     } catch (e) {
@@ -366,6 +368,10 @@ function createShapePanel(deps) {
     }
     render();
     return sp.second.table;
+  }
+
+  function loadSecond(source) {
+    return setSecond(() => deps.request("loadB", source));
   }
 
   /** The swap rows: one per column the settings use, each with a choice of stand-in. */
@@ -391,24 +397,12 @@ function createShapePanel(deps) {
     }
   }
 
-  async function useSwap() {
+  function useSwap() {
     const pairs = Array.from(document.querySelectorAll("#sp-swap-body select")).filter((s) => s.value !== s.dataset.column).map((s) => [s.value, s.dataset.column]);
-    sp.compareNote = null;
-    sp.comparison = null;
-    sp.second = null;
-    render();
-    try {
+    return setSecond(async () => {
       if (pairs.length === 0) throw new Error("choose, for at least one column, another column whose values it takes");
-      const table = await deps.request("swapB", { pairs, settings: copySettings() });
-      sp.second = { table, summary: null, graph: null };
-      await buildSecond();
-    } catch (e) {
-      sp.compareNote = { text: "Second table: " + e.message, error: true };
-      render();
-      throw e;
-    }
-    render();
-    return sp.second.table;
+      return deps.request("swapB", { pairs, settings: copySettings() });
+    });
   }
 
   /** Builds the second table's graph with the settings in force (called after each build). */

@@ -33,6 +33,7 @@ function GraphView(canvas, callbacks) {
   this.width = 0;
   this.height = 0;
   this.drawCount = 0;
+  this.lastDrawMs = null;   // milliseconds the last drawing took
   this.pending = false;
   this.fitted = false;     // true until the user pans or zooms: resizes then refit
   this.insetTop = 0;       // CSS pixels at the top kept clear (the legend sits there)
@@ -211,6 +212,12 @@ GraphView.prototype.requestDraw = function () {
 };
 
 GraphView.prototype.draw = function () {
+  const started = performance.now();
+  this._draw();
+  this.lastDrawMs = performance.now() - started;
+};
+
+GraphView.prototype._draw = function () {
   const ctx = this.ctx, g = this.graph;
   ctx.setTransform(this.dpr, 0, 0, this.dpr, 0, 0);
   ctx.clearRect(0, 0, this.width, this.height);

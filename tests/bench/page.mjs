@@ -15,7 +15,8 @@ import { fileURLToPath, pathToFileURL } from "node:url";
 import { chromium } from "playwright-core";
 
 const here = dirname(fileURLToPath(import.meta.url));
-const pageUrl = pathToFileURL(join(here, "..", "..", "dist", "nervure.html")).href;
+// NERVURE_PAGE: another build of the page, to compare two builds side by side.
+const pageUrl = pathToFileURL(process.env.NERVURE_PAGE || join(here, "..", "..", "dist", "nervure.html")).href;
 const [data, settingsPath] = process.argv.slice(2);
 const settings = JSON.parse(readFileSync(settingsPath, "utf8"));
 const FLAGS = ["--no-sandbox", "--disable-gpu", "--disable-background-networking", "--disable-component-update", "--disable-sync", "--no-first-run", "--disable-quic"];

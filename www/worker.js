@@ -208,7 +208,8 @@ async function clusterOnPool(engine, settings, count, progress, runId) {
   let next = 0, done = 0;
   // The page may cancel from here on without ending this worker.
   self.postMessage({ id: runId, type: "progress", stage: "clusters", fraction: 0, pool: true });
-  const stopped = () => cancelled.has(runId);
+  let halted = false;
+  const stopped = () => halted || cancelled.has(runId);
   async function drive(helper) {
     while (next < order.length && !stopped()) {
       const e = order[next++];
@@ -222,10 +223,19 @@ async function clusterOnPool(engine, settings, count, progress, runId) {
       progress("clusters", done / Math.max(1, total));
     }
   }
-  await Promise.all(helpers.map(drive));
-  if (stopped()) throw new Cancelled("cancelled");
+  // A cancel answers at once; the elements under way are left to finish and dropped.
+  const cancel = new Promise(function (_, reject) { poolCancels.set(runId, function (e) { halted = true; reject(e); }); });
+  try {
+    await Promise.race([Promise.all(helpers.map(drive)), cancel]);
+  } finally {
+    poolCancels.delete(runId);
+  }
+  if (stopped()) { halted = true; throw new Cancelled("cancelled"); }
   return labels;
 }
+
+/** Run id -> rejects the wait of that run's elements on the pool (see clusterOnPool). */
+const poolCancels = new Map();
 
 /** A build: on the pool when it is worth it, else in this worker. `times` gets the
  *  milliseconds of each part (prepare: points, lens, cover; pool: clustering on the
@@ -489,7 +499,12 @@ async function runJob(msg) {
 
 self.onmessage = function (event) {
   const msg = event.data;
-  if (msg.type === "cancel") { cancelled.add(msg.target); return; }
+  if (msg.type === "cancel") {
+    cancelled.add(msg.target);
+    const stopPool = poolCancels.get(msg.target);
+    if (stopPool) stopPool(new Cancelled("cancelled"));
+    return;
+  }
   if (msg.type === "job") { runJob(msg); return; }
   if (msg.type === "helper-source") {
     pool.source = msg.source;

@@ -238,4 +238,6 @@ const recoveryTestHooks = Object.freeze({
    *  was done ("message": the worker kept; "ended": the worker restarted). */
   onPool: function () { return engine.onPool(); },
   lastCancel: function () { return state.lastCancel || null; },
+  /** The graph view's drawings so far: {count, lastMs, totalMs} (the benchmark's frame times). */
+  drawStats: function () { return { count: view.drawCount, lastMs: view.lastDrawMs, totalMs: view.drawTotalMs }; },
 });

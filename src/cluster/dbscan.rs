@@ -29,7 +29,8 @@
 //!    enough in dense data), then the subtree two levels above its leaf, then the rest
 //!    of the tree, stopping at `min_points`.
 //! 2. Clusters grow one at a time from seeds in row order, through core points only. The
-//!    core points of one leaf that the growing cluster holds are expanded together: their
+//!    core points the growing cluster holds in the subtree two levels above a leaf (at
+//!    most 4 leaves) are expanded together: their
 //!    bounding box meets the tree box against box, and each candidate is checked against
 //!    the box, then against the batch's points. Every node counts the core points it
 //!    still has without a cluster, so finished subtrees are skipped at once.
@@ -50,6 +51,9 @@ fn dist2(a: &[f64], b: &[f64]) -> f64 {
 
 /// How many levels above a point's leaf its core count looks first.
 const NEAR_LEVELS: usize = 2;
+
+/// How many levels above a leaf the core points expanded together are gathered from.
+const BATCH_LEVELS: usize = 2;
 
 /// The parent of every node of `tree` (the root's is 0).
 fn tree_parents(tree: &KdTree) -> Vec<u32> {
@@ -236,7 +240,8 @@ impl Work<'_> {
     ///
     /// Two devices keep the growing cheap without changing the result (which points a
     /// cluster takes does not depend on the order its core points are expanded in): the
-    /// core points of one leaf are expanded together, meeting nodes by box against box;
+    /// core points of one small subtree ([`BATCH_LEVELS`] above a leaf) are expanded
+    /// together, meeting nodes by box against box;
     /// and every node counts the core points it still has without a cluster, so finished
     /// subtrees are skipped at once.
     fn expand(&self, core: &[bool]) -> Vec<u32> {
@@ -274,7 +279,7 @@ impl Work<'_> {
         let mut label = vec![NONE; m];
         let mut expanded = vec![false; m];
         let mut stack: Vec<usize> = Vec::new();
-        let mut batch: Vec<usize> = Vec::with_capacity(LEAF_SIZE);
+        let mut batch: Vec<usize> = Vec::with_capacity(LEAF_SIZE << BATCH_LEVELS);
         let mut found: Vec<usize> = Vec::new();
         let mut nodes_todo: Vec<usize> = Vec::new();
         let (mut lo, mut hi) = (vec![0.0; dim], vec![0.0; dim]);
@@ -294,8 +299,12 @@ impl Work<'_> {
                     continue;
                 }
                 let leaf = leaf_of[p] as usize;
+                let mut group = leaf;
+                for _ in 0..BATCH_LEVELS {
+                    group = parent[group] as usize;
+                }
                 batch.clear();
-                for r in tree.node(leaf).0 {
+                for r in tree.node(group).0 {
                     if core[r] && !expanded[r] && label[r] == c {
                         expanded[r] = true;
                         batch.push(r);

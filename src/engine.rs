@@ -352,6 +352,9 @@ impl Workbench {
         self.sync_derived(s)?;
         if let Some(b) = &self.last {
             if graph_key(&b.settings) == graph_key(s) {
+                // The stages up to the cover become this graph's again: a build cancelled
+                // after `prepare_elements` (or a node count) may have moved them to others.
+                self.prepare(s, progress)?;
                 let b = self.last.as_mut().expect("checked");
                 b.settings = s.clone();
                 return Ok(b.summary.clone());

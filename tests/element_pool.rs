@@ -79,3 +79,34 @@ fn labels_of_the_wrong_shape_are_refused() {
     let e = w.run_with_labels(&s, vec![Vec::new(); n], quiet).unwrap_err().to_string();
     assert!(e.contains("do not match"), "{e}");
 }
+
+/// A build cancelled after `prepare_elements` (the page's Cancel while the pool clusters)
+/// leaves the engine's stages on the cancelled settings; running the graph shown again
+/// takes them back, without a rebuild, so what reads them (the lens histogram, the
+/// element points) is the shown graph's again. Common practice: a cancelled operation
+/// leaves the state it found.
+#[test]
+fn running_the_shown_settings_after_a_cancelled_prepare_takes_their_stages_back() {
+    let t = table(3000, 7);
+    let quiet = &mut |_: &str, _: f64| {};
+    let shown = settings(Clustering::Dbscan { eps: 0.4, min_points: 5 }, 0.3);
+    let mut bench = Workbench::new();
+    bench.set_table(t);
+    bench.run(&shown, quiet).unwrap();
+    let build = bench.last().unwrap().clone();
+    let histogram = bench.lens_histogram(20, 0).unwrap();
+    let sizes = bench.element_sizes();
+
+    let mut cancelled = shown.clone();
+    cancelled.lens = Lens::Column { column: "x2".into() };
+    cancelled.cover = CoverSettings::uniform(7, 0.45);
+    assert_eq!(bench.prepare_elements(&cancelled, quiet).unwrap(), 7);
+    assert_ne!(bench.element_sizes(), sizes);
+    // The stages moved: the shown graph's lens values are gone.
+    assert!(bench.lens_histogram(20, 0).is_err());
+
+    bench.run(&shown, quiet).unwrap();
+    assert_eq!(bench.last().unwrap(), &build);
+    assert_eq!(bench.element_sizes(), sizes);
+    assert_eq!(bench.lens_histogram(20, 0).unwrap(), histogram);
+}

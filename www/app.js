@@ -20,6 +20,9 @@ function statWords(stat) {
 /** Wait after the last settings change before building again. */
 const RERUN_DELAY_MS = 350;
 
+/** How long a cancel by message may wait for the worker's answer before the worker is ended. */
+const SOFT_CANCEL_MS = 3000;
+
 const state = {
   phase: "empty",          // "empty" | "reading" | "building" | "ready" | "failed"
   table: null,             // {name, rows, columns: [ColumnSummary]}
@@ -70,7 +73,11 @@ const engine = (function () {
       const msg = event.data;
       const w = waiting.get(msg.id);
       if (!w) return;
-      if (msg.type === "progress") { if (w.onProgress) w.onProgress(msg.stage, msg.fraction, msg); return; }
+      if (msg.type === "progress") {
+        if (msg.pool) w.onPool = true;
+        if (w.onProgress) w.onProgress(msg.stage, msg.fraction, msg);
+        return;
+      }
       waiting.delete(msg.id);
       if (msg.type === "result") w.resolve(msg.value);
       else {
@@ -105,6 +112,21 @@ const engine = (function () {
     onEngineLost();
   }
 
+  /** Stops the build under way. While its cover elements are on the worker's pool of
+   *  helpers, by a message: the worker drops that build's outstanding elements and keeps
+   *  its table, caches and helpers, and the build's request fails with `cancelled` set.
+   *  Otherwise (a synchronous engine call cannot see a message) by ending the worker, as
+   *  cancel() does; also when a message gets no answer within SOFT_CANCEL_MS. Returns
+   *  "message" or "ended". */
+  function cancelBuild(message) {
+    const onPool = Array.from(waiting.entries()).find(([, w]) => w.onPool);
+    if (!onPool || !worker) { cancel(message); return "ended"; }
+    const id = onPool[0];
+    worker.postMessage({ type: "cancel", target: id });
+    setTimeout(function () { if (waiting.has(id)) cancel(message); }, SOFT_CANCEL_MS);
+    return "message";
+  }
+
   function request(type, payload, onProgress) {
     if (!worker) start();
     const id = nextId++;
@@ -122,7 +144,12 @@ const engine = (function () {
     return { done, cancel: function () { if (worker) worker.postMessage({ type: "cancel", target: id }); } };
   }
 
-  return { request, start, cancel, job };
+  /** Whether a request is waiting on the worker's pool of helpers (cancellable by message). */
+  function onPool() {
+    return Array.from(waiting.values()).some((w) => w.onPool);
+  }
+
+  return { request, start, cancel, cancelBuild, onPool, job };
 })();
 
 function onEngineLost() {
@@ -260,10 +287,20 @@ async function build(seq, nodeLimit) {
   renderMessage();
   renderChrome();
   let out;
+  const asked = performance.now();
   try {
     out = await engine.request("run", { settings, nodeLimit, colour: state.colour.column ? colourRequest() : null }, progressHandler(true));
   } catch (e) {
     if (seq !== buildSeq) return latestBuild;
+    if (e.cancelled) {
+      // Cancelled on the pool: the engine kept the graph shown; so do its settings.
+      if (state.builtSettings) state.settings = JSON.parse(JSON.stringify(state.builtSettings));
+      state.phase = "ready";
+      state.progress = null;
+      state.message = e.message;
+      renderAll();
+      throw e;
+    }
     fail(e.message);
     throw e;
   }
@@ -284,7 +321,10 @@ async function build(seq, nodeLimit) {
   view.insetTop = card.hidden ? 0 : card.offsetTop + card.offsetHeight;
   view.setGraph(out.graph, false);
   shapePanel.graphChanged();
+  const shown = performance.now();
   if (typeof afterBuild === "function") await afterBuild(out);
+  // Where the time of this build went (window.nervure.timings().lastBuild).
+  state.lastBuild = Object.assign({}, out.times || {}, { requestMs: shown - asked, afterMs: performance.now() - shown });
   return out.summary;
 }
 
@@ -775,7 +815,13 @@ window.nervure = Object.freeze({
   /** Milliseconds from the start of the last load to the table read and the first graph drawn. */
   timings: function () {
     const t = state.timing;
-    return { tableReadMs: t.tableRead ? t.tableRead - t.start : null, firstGraphMs: t.firstDraw ? t.firstDraw - t.start : null };
+    return {
+      tableReadMs: t.tableRead ? t.tableRead - t.start : null, firstGraphMs: t.firstDraw ? t.firstDraw - t.start : null,
+      // The last build's parts: the worker's (prepareMs, poolMs, buildMs, graphAndColourMs),
+      // the round trip with the page's first rendering (requestMs), what follows (afterMs),
+      // and the last drawing of the graph (drawMs).
+      lastBuild: state.lastBuild ? Object.assign({ drawMs: view.lastDrawMs }, state.lastBuild) : null,
+    };
   },
   /** What the page is doing: {phase, builds, pending} (pending: a rebuild is scheduled). */
   status: function () { return { phase: state.phase, builds: state.builds, pending: rerunTimer !== null, recovering: recovery.recovering }; },

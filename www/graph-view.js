@@ -33,6 +33,13 @@ function GraphView(canvas, callbacks) {
   this.width = 0;
   this.height = 0;
   this.drawCount = 0;
+  this.lastDrawMs = null;   // milliseconds the last drawing took
+  // The edges, discs and highlight (what a pan only moves) are drawn into `layer` once per
+  // change of them or of the scale, and a pan or a hover copies it (see _blitBase).
+  this.baseVersion = 0;     // counts changes of what the layer shows
+  this.layer = null;        // {canvas, key, ox, oy, w, h}
+  this.bounds = null;       // the layout's world bounding box
+  this.drawTotalMs = 0;     // and all drawings together
   this.pending = false;
   this.fitted = false;     // true until the user pans or zooms: resizes then refit
   this.insetTop = 0;       // CSS pixels at the top kept clear (the legend sits there)
@@ -46,6 +53,7 @@ GraphView.MIN_RADIUS = 3;
 
 GraphView.prototype.setGraph = function (graph, keepView) {
   this.graph = graph;
+  this.bounds = null;
   this.selected = null;
   this.selection = new Set();
   this.lit = null;
@@ -59,6 +67,7 @@ GraphView.prototype.setGraph = function (graph, keepView) {
   for (let i = 0; i < n; i++) order[i] = i;
   if (graph) order.sort((a, b) => graph.nodeSizes[b] - graph.nodeSizes[a] || a - b);
   this.order = order;
+  this.baseVersion++;
   if (!keepView) this.fit();
   this.requestDraw();
 };
@@ -66,11 +75,12 @@ GraphView.prototype.setGraph = function (graph, keepView) {
 /** Marks a set of nodes (and the edges among them) on top of the drawing; null clears. */
 GraphView.prototype.setHighlight = function (nodes) {
   this.highlight = nodes && nodes.length ? new Set(nodes) : null;
+  this.baseVersion++;
   this.requestDraw();
 };
 
-GraphView.prototype._drawHighlight = function (ctx) {
-  const g = this.graph, p = g.positions, s = this.view.scale, ox = this.view.x, oy = this.view.y, h = this.highlight;
+GraphView.prototype._drawHighlight = function (ctx, s, ox, oy) {
+  const g = this.graph, p = g.positions, h = this.highlight;
   ctx.strokeStyle = "#d0501f";
   ctx.lineWidth = 5;
   for (let e = 0; e < g.edgeA.length; e++) {
@@ -84,15 +94,15 @@ GraphView.prototype._drawHighlight = function (ctx) {
   ctx.lineWidth = 3;
   for (const i of h) {
     if (i >= this.radii.length) continue;
-    const q = this.toScreen(i);
     ctx.beginPath();
-    ctx.arc(q.x, q.y, this.radii[i] + 2.5, 0, 2 * Math.PI);
+    ctx.arc(p[2 * i] * s + ox, p[2 * i + 1] * s + oy, this.radii[i] + 2.5, 0, 2 * Math.PI);
     ctx.stroke();
   }
 };
 
 GraphView.prototype.setFills = function (fills) {
   this.fills = fills;
+  this.baseVersion++;
   this.requestDraw();
 };
 
@@ -102,11 +112,13 @@ GraphView.prototype.setSelected = function (nodes, primary) {
   else if (typeof nodes === "number") nodes = new Set([nodes]);
   this.selection = nodes;
   this.selected = primary !== undefined ? primary : (nodes.size === 1 ? nodes.values().next().value : null);
+  this.baseVersion++;
   this.requestDraw();
 };
 
 GraphView.prototype.setLit = function (lit) {
   this.lit = lit;
+  this.baseVersion++;
   this.requestDraw();
 };
 
@@ -142,6 +154,7 @@ GraphView.prototype._sizeDiscs = function () {
     radii[i] = Math.max(GraphView.MIN_RADIUS, maxR * Math.sqrt(g.nodeSizes[i] / maxSize));
   }
   this.radii = radii;
+  this.baseVersion++;
 };
 
 /** Fits the layout's bounding box into the canvas, leaving room for the largest disc. */
@@ -211,43 +224,109 @@ GraphView.prototype.requestDraw = function () {
 };
 
 GraphView.prototype.draw = function () {
-  const ctx = this.ctx, g = this.graph;
-  ctx.setTransform(this.dpr, 0, 0, this.dpr, 0, 0);
-  ctx.clearRect(0, 0, this.width, this.height);
-  if (!g) return;
-  const p = g.positions, s = this.view.scale, ox = this.view.x, oy = this.view.y;
+  const started = performance.now();
+  this._draw();
+  this.lastDrawMs = performance.now() - started;
+  this.drawTotalMs += this.lastDrawMs;
+};
 
-  // Edges.
+/** The layout's world bounding box, made once per graph. */
+GraphView.prototype._worldBounds = function () {
+  if (this.bounds) return this.bounds;
+  const p = this.graph.positions;
+  let x0 = Infinity, x1 = -Infinity, y0 = Infinity, y1 = -Infinity;
+  for (let i = 0; i < p.length; i += 2) {
+    x0 = Math.min(x0, p[i]); x1 = Math.max(x1, p[i]);
+    y0 = Math.min(y0, p[i + 1]); y1 = Math.max(y1, p[i + 1]);
+  }
+  this.bounds = { x0, x1, y0, y1 };
+  return this.bounds;
+};
+
+/** Copies the layer (edges, discs, highlight) into the view, drawing the layer first when
+ *  what it shows or the scale changed. False when the graph at this scale is too large
+ *  for a layer (then the caller draws directly). The layer is placed so that a pan by
+ *  whole CSS pixels copies it at whole device pixels: the picture is the same as drawn. */
+GraphView.prototype._blitBase = function (ctx) {
+  const g = this.graph, n = g.nodeSizes.length;
+  if (n === 0) return true;
+  const s = this.view.scale, dpr = this.dpr, b = this._worldBounds();
+  let maxR = 0;
+  for (let i = 0; i < this.radii.length; i++) maxR = Math.max(maxR, this.radii[i]);
+  const pad = maxR + 8;
+  const w = (b.x1 - b.x0) * s + 2 * pad, h = (b.y1 - b.y0) * s + 2 * pad;
+  if (!(w * h * dpr * dpr <= GraphView.LAYER_MAX_PIXELS)) { this.layer = null; return false; }
+  // A pan by whole device pixels keeps the key; any other move draws the layer again.
+  const frac = (v) => { const d = v * dpr; return Math.round((d - Math.floor(d)) * 1e4) % 1e4; };
+  const key = [this.baseVersion, s, dpr, frac(this.view.x), frac(this.view.y)].join(" ");
+  let L = this.layer;
+  if (!L || L.key !== key) {
+    // Screen x = layer x + (view.x - ox); that offset is made a whole number of device pixels.
+    const rawX = this.view.x + b.x0 * s - pad, rawY = this.view.y + b.y0 * s - pad;
+    const bx = Math.floor(rawX * dpr) / dpr, by = Math.floor(rawY * dpr) / dpr;
+    const canvas = L ? L.canvas : document.createElement("canvas");
+    const cw = Math.ceil(w * dpr) + 2, ch = Math.ceil(h * dpr) + 2;
+    if (canvas.width !== cw || canvas.height !== ch) { canvas.width = cw; canvas.height = ch; }
+    const lctx = canvas.getContext("2d");
+    lctx.setTransform(dpr, 0, 0, dpr, 0, 0);
+    lctx.clearRect(0, 0, cw / dpr, ch / dpr);
+    L = this.layer = { canvas, key, ox: this.view.x - bx, oy: this.view.y - by, cw, ch };
+    this._drawBase(lctx, s, L.ox, L.oy, cw / dpr, ch / dpr);
+  }
+  ctx.setTransform(1, 0, 0, 1, 0, 0);
+  ctx.drawImage(L.canvas, Math.round((this.view.x - L.ox) * dpr), Math.round((this.view.y - L.oy) * dpr));
+  ctx.setTransform(dpr, 0, 0, dpr, 0, 0);
+  return true;
+};
+
+/** Edges, discs (largest first; with a selection or lit nodes the others dimmed) and the
+ *  highlight, with screen = world * s + (ox, oy), into a w × h box (CSS pixels); what
+ *  lies wholly outside the box is skipped. */
+GraphView.prototype._drawBase = function (ctx, s, ox, oy, w, h) {
+  const g = this.graph, p = g.positions;
   let maxShared = 1;
   for (const v of g.edgeShared) maxShared = Math.max(maxShared, v);
   ctx.lineCap = "round";
   ctx.strokeStyle = "rgba(62, 74, 86, 0.42)";
+  const m = 8;
   for (let e = 0; e < g.edgeA.length; e++) {
     const a = g.edgeA[e], b = g.edgeB[e];
+    const xa = p[2 * a] * s + ox, ya = p[2 * a + 1] * s + oy, xb = p[2 * b] * s + ox, yb = p[2 * b + 1] * s + oy;
+    if ((xa < -m && xb < -m) || (xa > w + m && xb > w + m) || (ya < -m && yb < -m) || (ya > h + m && yb > h + m)) continue;
     ctx.lineWidth = 1 + 5 * Math.sqrt(g.edgeShared[e] / maxShared);
     ctx.beginPath();
-    ctx.moveTo(p[2 * a] * s + ox, p[2 * a + 1] * s + oy);
-    ctx.lineTo(p[2 * b] * s + ox, p[2 * b + 1] * s + oy);
+    ctx.moveTo(xa, ya);
+    ctx.lineTo(xb, yb);
     ctx.stroke();
   }
-
-  // Nodes, largest first; with a selection or lit nodes, the others are dimmed.
   const dim = this.selection.size > 0 || !!this.lit;
+  ctx.lineWidth = 1.25;
   for (let k = 0; k < this.order.length; k++) {
     const i = this.order[k];
     const x = p[2 * i] * s + ox, y = p[2 * i + 1] * s + oy, r = this.radii[i];
+    if (x + r < -2 || x - r > w + 2 || y + r < -2 || y - r > h + 2) continue;
     ctx.beginPath();
     ctx.arc(x, y, r, 0, 2 * Math.PI);
     ctx.fillStyle = this.fills ? this.fills[i] : "rgb(120, 134, 150)";
     ctx.globalAlpha = dim && !this.selection.has(i) && !(this.lit && this.lit[i]) ? 0.35 : 1;
     ctx.fill();
     ctx.globalAlpha = 1;
-    ctx.lineWidth = 1.25;
     ctx.strokeStyle = "rgba(255, 255, 255, 0.9)";
     ctx.stroke();
   }
+  if (this.highlight) this._drawHighlight(ctx, s, ox, oy);
+};
 
-  if (this.highlight) this._drawHighlight(ctx);
+/** Largest layer (device pixels) kept for pans; a bigger graph on screen (zoomed in) is
+ *  drawn directly, only what is in view. */
+GraphView.LAYER_MAX_PIXELS = 12e6;
+
+GraphView.prototype._draw = function () {
+  const ctx = this.ctx, g = this.graph;
+  ctx.setTransform(this.dpr, 0, 0, this.dpr, 0, 0);
+  ctx.clearRect(0, 0, this.width, this.height);
+  if (!g) return;
+  if (!this._blitBase(ctx)) this._drawBase(ctx, this.view.scale, this.view.x, this.view.y, this.width, this.height);
 
   // Lit, hover, selection and keyboard-cursor rings on top.
   const rings = [];
@@ -309,8 +388,9 @@ GraphView.prototype._listen = function () {
       }
       if (drag.moved) {
         this.fitted = false;
-        this.view.x = drag.vx + dx;
-        this.view.y = drag.vy + dy;
+        // Whole device pixels: the drawn layer is then only copied (see _blitBase).
+        this.view.x = drag.vx + Math.round(dx * this.dpr) / this.dpr;
+        this.view.y = drag.vy + Math.round(dy * this.dpr) / this.dpr;
         this.requestDraw();
         return;
       }

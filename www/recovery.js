@@ -131,13 +131,16 @@ async function reloadIntoNewEngine() {
   }
 }
 
-/** The cancel button: ends the worker (and the build in it) and starts a fresh one. */
+/** The cancel button: a build whose elements are on the worker's pool is stopped by a
+ *  message (the worker, its table and its helpers stay); otherwise the worker (and the
+ *  build or read in it) is ended and a fresh one started. */
 function cancelWork() {
   if (state.phase !== "building" && state.phase !== "reading") return false;
-  const reading = state.phase === "reading";
-  engine.cancel(reading
-    ? "Reading cancelled; the table and graph shown are the previous ones."
-    : "Build cancelled; the graph shown is the previous one, with its settings.");
+  if (state.phase === "reading") {
+    engine.cancel("Reading cancelled; the table and graph shown are the previous ones.");
+    return true;
+  }
+  state.lastCancel = engine.cancelBuild("Build cancelled; the graph shown is the previous one, with its settings.");
   return true;
 }
 
@@ -255,4 +258,10 @@ const recoveryTestHooks = Object.freeze({
   busy: function (ms) { return engine.request("testBusy", { ms }).catch((e) => e.message); },
   recovering: function () { return recovery.recovering; },
   nodeLimit: function (n) { state.nodeLimit = n; },
+  /** Whether the build under way has its elements on the pool, and how the last cancel
+   *  was done ("message": the worker kept; "ended": the worker restarted). */
+  onPool: function () { return engine.onPool(); },
+  lastCancel: function () { return state.lastCancel || null; },
+  /** The graph view's drawings so far: {count, lastMs, totalMs} (the benchmark's frame times). */
+  drawStats: function () { return { count: view.drawCount, lastMs: view.lastDrawMs, totalMs: view.drawTotalMs }; },
 });

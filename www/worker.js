@@ -18,15 +18,18 @@
  *               {id, type: "swapB", pairs, settings}        second table = first with columns swapped
  *               {id, type: "runB", settings}
  *               {id, type: "job", job: "bootstrap" | "sweep" | "compare", ...arguments}
- *               {type: "cancel", target}                   stops job `target` between steps
- *               {id, type: "pool", helpers, minPoints}   size of the pool (0: cluster here)
+ *               {type: "cancel", target}                   stops job `target` between steps, or run
+ *                                                          `target` while its elements are on the pool
+ *               {id, type: "pool", helpers, minPoints, testDelayMs}   size of the pool (0: cluster here)
  *               {id, type: "cluster", points, dim, clustering}   (to a helper: one element)
  *               {id, type: "memberships"} | {id, type: "explain", nodes} | {id, type: "rowValues", rows, columns}
  *               {id, type: "derivedInfo"} | {id, type: "scatter", x, y, limit} | {id, type: "export", format, colour, stat, fileName}
  *               (load may carry options: {textAsMissing}; run may carry nodeLimit, and then
  *               answers {confirm: {confirmNodes, limit}} for a graph over the limit;
  *               testExhaustMemory / testCrash / testBusy {ms} exist for the recovery tests)
- * Messages out: {id, type: "progress", stage, fraction}    (jobs add done, total)
+ * Messages out: {id, type: "progress", stage, fraction}    (jobs add done, total; a run's
+ *                                                          {stage: "clusters", pool: true} says
+ *                                                          it can now be cancelled by message)
  *               {id, type: "result", value}
  *               {id, type: "error", message, fatal, cancelled}
  *
@@ -127,7 +130,17 @@ const pool = {
   url: null,
   /** Elements clustered by helpers since this worker started (for tests). */
   elementsOnPool: 0,
+  /** Helper workers started since this worker started, and runs cancelled while on the
+   *  pool (for tests: a cancel on the pool keeps the helpers). */
+  helpersStarted: 0,
+  cancelledRuns: 0,
+  elementsSent: 0,
+  /** Milliseconds each helper waits before clustering an element (tests only). */
+  testDelayMs: 0,
 };
+
+/** Settings of the last graph this worker built and returned (the graph the page shows). */
+let shownSettings = null;
 
 function startHelpers() {
   if (pool.workers && pool.workers.length === pool.helpers) return pool.workers;
@@ -136,6 +149,7 @@ function startHelpers() {
   for (let i = 0; i < pool.helpers; i++) {
     if (!pool.url) pool.url = URL.createObjectURL(new Blob([pool.source], { type: "text/javascript" }));
     const worker = new Worker(pool.url);
+    pool.helpersStarted++;
     const helper = { worker, waiting: new Map() };
     worker.onmessage = function (event) {
       const m = event.data;
@@ -175,9 +189,15 @@ function usePool(engine, count) {
   return total >= pool.minPoints;
 }
 
+/** Thrown when a build is cancelled while its elements are on the pool. */
+class Cancelled extends Error {}
+
 /** Clusters every cover element on the pool, largest first; resolves with one Int32Array
- *  of labels per element, in element order. */
-async function clusterOnPool(engine, settings, count, progress) {
+ *  of labels per element, in element order. A cancel of run `runId` stops it between
+ *  elements: no further element is sent, the labels of those under way are dropped when
+ *  they come back (the helpers finish them and stay, ready for the next build), and it
+ *  rejects with Cancelled. */
+async function clusterOnPool(engine, settings, count, progress, runId) {
   const helpers = startHelpers();
   const dim = engine.point_dim();
   const sizes = engine.element_sizes();
@@ -186,29 +206,57 @@ async function clusterOnPool(engine, settings, count, progress) {
   for (let i = 0; i < count; i++) total += sizes[i];
   const labels = new Array(count);
   let next = 0, done = 0;
-  progress("clusters", 0);
+  // The page may cancel from here on without ending this worker.
+  self.postMessage({ id: runId, type: "progress", stage: "clusters", fraction: 0, pool: true });
+  let halted = false;
+  const stopped = () => halted || cancelled.has(runId);
   async function drive(helper) {
-    while (next < order.length) {
+    while (next < order.length && !stopped()) {
       const e = order[next++];
       const points = engine.element_points(e);
-      labels[e] = await askHelper(helper, { type: "cluster", points, dim, clustering: settings.clustering }, [points.buffer]);
+      pool.elementsSent++;
+      const got = await askHelper(helper, { type: "cluster", points, dim, clustering: settings.clustering, testDelayMs: pool.testDelayMs }, [points.buffer]);
+      if (stopped()) return;
+      labels[e] = got;
       done += sizes[e];
       pool.elementsOnPool++;
       progress("clusters", done / Math.max(1, total));
     }
   }
-  await Promise.all(helpers.map(drive));
+  // A cancel answers at once; the elements under way are left to finish and dropped.
+  const cancel = new Promise(function (_, reject) { poolCancels.set(runId, function (e) { halted = true; reject(e); }); });
+  try {
+    await Promise.race([Promise.all(helpers.map(drive)), cancel]);
+  } finally {
+    poolCancels.delete(runId);
+  }
+  if (stopped()) { halted = true; throw new Cancelled("cancelled"); }
   return labels;
 }
 
-/** A build: on the pool when it is worth it, else in this worker. */
-async function runBuild(engine, settings, progress) {
+/** Run id -> rejects the wait of that run's elements on the pool (see clusterOnPool). */
+const poolCancels = new Map();
+
+/** A build: on the pool when it is worth it, else in this worker. `times` gets the
+ *  milliseconds of each part (prepare: points, lens, cover; pool: clustering on the
+ *  helpers, labels taken in; build: clustering here when not on the pool, the graph and
+ *  its layout). */
+async function runBuild(engine, settings, progress, times, runId) {
+  let t = performance.now();
+  const lap = (name) => { const now = performance.now(); times[name] = now - t; t = now; };
   const count = engine.prepare_elements(settings, progress);
+  lap("prepareMs");
+  times.elements = count;
+  times.onPool = false;
   if (count > 0 && usePool(engine, count)) {
-    const labels = await clusterOnPool(engine, settings, count, progress);
+    times.onPool = true;
+    const labels = await clusterOnPool(engine, settings, count, progress, runId);
     engine.set_element_labels(settings, labels);
+    lap("poolMs");
   }
-  return engine.run(settings, progress);
+  const summary = engine.run(settings, progress);
+  lap("buildMs");
+  return summary;
 }
 
 function graphMessage(engine) {
@@ -233,6 +281,7 @@ async function handle(engine, msg) {
   switch (msg.type) {
     case "load": {
       readOptions = msg.options || null;
+      shownSettings = null;
       if (msg.files) {
         if (!msg.add) engine.clear_files();
         msg.files.forEach(function (file, i) {
@@ -251,6 +300,7 @@ async function handle(engine, msg) {
     }
     case "files": {
       if (msg.op === "columns") return { value: engine.file_columns(msg.names || []) };
+      shownSettings = null;
       if (msg.op === "remove") engine.remove_file(msg.name);
       else if (msg.op === "sheet") engine.choose_sheet(msg.name, msg.sheet);
       else if (msg.op === "plan") engine.set_plan(msg.plan === undefined ? null : msg.plan);
@@ -262,15 +312,31 @@ async function handle(engine, msg) {
       // A newer run is already waiting: skip this one, its settings are out of date.
       if (msg.id !== latestRun) return { value: { superseded: true } };
       engine.set_node_limit(msg.nodeLimit || 0);
-      const summary = await runBuild(engine, msg.settings, progress);
+      const times = {};
+      let summary;
+      try {
+        summary = await runBuild(engine, msg.settings, progress, times, id);
+      } catch (e) {
+        if (!(e instanceof Cancelled)) throw e;
+        cancelled.delete(id);
+        pool.cancelledRuns++;
+        self.postMessage({ id, type: "error", fatal: false, cancelled: true, message: "Build cancelled; the graph shown is the previous one, with its settings." });
+        // The engine's stages went ahead to the cancelled settings: take those of the graph
+        // shown again (a rebuild from cached stages; only the cover, for a new overlap).
+        if (shownSettings) await runBuild(engine, shownSettings, function () {}, {}, 0);
+        return { silent: true };
+      }
       if (summary && summary.confirmNodes !== undefined) return { value: { confirm: summary } };
+      shownSettings = msg.settings;
+      const t0 = performance.now();
       const graph = graphMessage(engine);
       let colour = null;
       if (msg.colour && msg.colour.column) {
         colour = { column: msg.colour.column, values: msg.colour.lens ? engine.node_lens_values(0) : engine.node_values(msg.colour.column, msg.colour.stat || "mean") };
         graph.transfer.push(colour.values.buffer);
       }
-      return { value: { summary, graph: graph.value, colour }, transfer: graph.transfer };
+      times.graphAndColourMs = performance.now() - t0;
+      return { value: { summary, graph: graph.value, colour, times }, transfer: graph.transfer };
     }
     case "colour": {
       const values = msg.lens ? engine.node_lens_values(0) : engine.node_values(msg.column, msg.stat || "mean");
@@ -305,8 +371,13 @@ async function handle(engine, msg) {
     case "pool":
       if (typeof msg.helpers === "number") pool.helpers = Math.max(0, Math.min(16, msg.helpers | 0));
       if (typeof msg.minPoints === "number") pool.minPoints = msg.minPoints;
-      return { value: { helpers: pool.helpers, minPoints: pool.minPoints, elementsOnPool: pool.elementsOnPool } };
+      if (typeof msg.testDelayMs === "number") pool.testDelayMs = msg.testDelayMs;
+      return { value: { helpers: pool.helpers, minPoints: pool.minPoints, elementsOnPool: pool.elementsOnPool, elementsSent: pool.elementsSent, helpersStarted: pool.helpersStarted, cancelledRuns: pool.cancelledRuns } };
     case "cluster": {
+      if (msg.testDelayMs) {
+        const end = performance.now() + msg.testDelayMs;
+        while (performance.now() < end) { /* a slow element, for the cancel tests */ }
+      }
       const labels = wasm_bindgen.cluster_points(msg.points, msg.dim, msg.clustering);
       return { value: labels, transfer: [labels.buffer] };
     }
@@ -428,7 +499,12 @@ async function runJob(msg) {
 
 self.onmessage = function (event) {
   const msg = event.data;
-  if (msg.type === "cancel") { cancelled.add(msg.target); return; }
+  if (msg.type === "cancel") {
+    cancelled.add(msg.target);
+    const stopPool = poolCancels.get(msg.target);
+    if (stopPool) stopPool(new Cancelled("cancelled"));
+    return;
+  }
   if (msg.type === "job") { runJob(msg); return; }
   if (msg.type === "helper-source") {
     pool.source = msg.source;
@@ -446,7 +522,7 @@ self.onmessage = function (event) {
     try {
       lastPanic = null;
       const out = await handle(engine, msg);
-      self.postMessage({ id: msg.id, type: "result", value: out.value }, out.transfer || []);
+      if (!out.silent) self.postMessage({ id: msg.id, type: "result", value: out.value }, out.transfer || []);
     } catch (e) {
       // A trap (RuntimeError) means the engine panicked: its state is lost.
       const fatal = e instanceof WebAssembly.RuntimeError;

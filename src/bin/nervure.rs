@@ -6,7 +6,10 @@
 //! ```
 //! Without `--settings` the automatic first settings are used (and can be written out
 //! with `--write-settings`, to edit and pass back). `--summary` prints the summary JSON;
-//! `--timings` prints seconds per stage and the peak memory as JSON on standard error.
+//! `--timings` prints seconds per stage and the peak memory as JSON on standard error;
+//! with `--then-overlap G` it then changes the cover's overlap to `G`, builds again on
+//! the cached stages (as the page does when the overlap slider moves) and prints that
+//! run's stages as a second JSON line, `{"rerun": {...}}`.
 
 use std::io::Read;
 use std::process::ExitCode;
@@ -15,7 +18,7 @@ use std::time::Instant;
 use nervure::table::{ReadOptions, TableReader};
 use nervure::{Settings, Workbench};
 
-const USAGE: &str = "usage: nervure DATA.csv [--settings S.json] [--write-settings S.json] [--out GRAPH.json] [--summary] [--timings]";
+const USAGE: &str = "usage: nervure DATA.csv [--settings S.json] [--write-settings S.json] [--out GRAPH.json] [--summary] [--timings [--then-overlap G]]";
 
 struct Args {
     data: String,
@@ -24,11 +27,12 @@ struct Args {
     out: Option<String>,
     summary: bool,
     timings: bool,
+    then_overlap: Option<f64>,
 }
 
 fn parse_args() -> Result<Args, String> {
     let mut it = std::env::args().skip(1);
-    let mut a = Args { data: String::new(), settings: None, write_settings: None, out: None, summary: false, timings: false };
+    let mut a = Args { data: String::new(), settings: None, write_settings: None, out: None, summary: false, timings: false, then_overlap: None };
     while let Some(arg) = it.next() {
         let mut value = |name: &str| it.next().ok_or_else(|| format!("{name} needs a file name\n{USAGE}"));
         match arg.as_str() {
@@ -37,6 +41,10 @@ fn parse_args() -> Result<Args, String> {
             "--out" => a.out = Some(value("--out")?),
             "--summary" => a.summary = true,
             "--timings" => a.timings = true,
+            "--then-overlap" => {
+                let v = it.next().ok_or_else(|| format!("--then-overlap needs a number\n{USAGE}"))?;
+                a.then_overlap = Some(v.parse().map_err(|_| format!("--then-overlap: '{v}' is not a number\n{USAGE}"))?);
+            }
             "-h" | "--help" => return Err(USAGE.to_string()),
             s if s.starts_with("--") => return Err(format!("unknown option {s}\n{USAGE}")),
             s if a.data.is_empty() => a.data = s.to_string(),
@@ -107,6 +115,30 @@ fn run() -> Result<(), String> {
             ])
             .collect();
         eprintln!("{{{}}}", fields.join(","));
+    }
+    if let (true, Some(g)) = (a.timings, a.then_overlap) {
+        let mut next = settings.clone();
+        next.cover.overlap = g;
+        let rerun = Instant::now();
+        let mut starts: Vec<(String, Instant)> = vec![("settings".into(), rerun)];
+        let second = bench
+            .run(&next, &mut |stage, _| {
+                if starts.last().map(|(s, _)| s.as_str()) != Some(stage) {
+                    starts.push((stage.to_string(), Instant::now()));
+                }
+            })
+            .map_err(|e| e.to_string())?;
+        let end = Instant::now();
+        let fields: Vec<String> = starts
+            .iter()
+            .enumerate()
+            .map(|(i, (name, t))| {
+                let next = starts.get(i + 1).map_or(end, |(_, t)| *t);
+                format!("{}:{:.4}", serde_json::json!(name), (next - *t).as_secs_f64())
+            })
+            .chain([format!("\"total\":{:.4}", (end - rerun).as_secs_f64()), format!("\"overlap\":{g}"), format!("\"nodes\":{}", second.nodes)])
+            .collect();
+        eprintln!("{{\"rerun\":{{{}}}}}", fields.join(","));
     }
     if a.summary || a.out.is_none() {
         println!("{}", serde_json::to_string(&summary).expect("summary serialises"));

@@ -26,12 +26,17 @@
 //! a sum of rounded, monotone operations taken in the same order as for a pair of points.
 //! 1. Core points: a leaf whose box diagonal is <= eps and that holds `min_points` points
 //!    is all core without a query; otherwise each point counts its own leaf first (often
-//!    enough in dense data), then queries the tree, stopping at `min_points`.
-//! 2. Clusters grow one at a time from seeds in row order. The core points of one leaf
-//!    that the growing cluster holds are expanded together: their bounding box meets the
-//!    tree box against box, and each candidate is checked against the box, then against
-//!    the batch's points. Every node counts the points it still has without a cluster,
-//!    so finished subtrees are skipped at once.
+//!    enough in dense data), then the subtree two levels above its leaf, then the rest
+//!    of the tree, stopping at `min_points`.
+//! 2. Clusters grow one at a time from seeds in row order, through core points only. The
+//!    core points the growing cluster holds in the subtree two levels above a leaf (at
+//!    most 4 leaves) are expanded together: their
+//!    bounding box meets the tree box against box, and each candidate is checked against
+//!    the box, then against the batch's points. Every node counts the core points it
+//!    still has without a cluster, so finished subtrees are skipped at once.
+//! 3. Border points: each non-core point takes the lowest cluster number among the core
+//!    points within eps, i.e. the cluster grown first that reaches it, as the definition
+//!    above says; one with no core point within eps is noise.
 //!
 //! Memory O(m); no m × m matrix.
 //!
@@ -42,6 +47,24 @@ use super::Labels;
 
 fn dist2(a: &[f64], b: &[f64]) -> f64 {
     a.iter().zip(b).map(|(x, y)| (x - y) * (x - y)).sum()
+}
+
+/// How many levels above a point's leaf its core count looks first.
+const NEAR_LEVELS: usize = 2;
+
+/// How many levels above a leaf the core points expanded together are gathered from.
+const BATCH_LEVELS: usize = 2;
+
+/// The parent of every node of `tree` (the root's is 0).
+fn tree_parents(tree: &KdTree) -> Vec<u32> {
+    let mut parent = vec![0u32; tree.node_count()];
+    for n in 0..tree.node_count() {
+        if let (_, Some(c)) = tree.node(n) {
+            parent[c] = n as u32;
+            parent[c + 1] = n as u32;
+        }
+    }
+    parent
 }
 
 /// No cluster (yet).
@@ -57,6 +80,35 @@ fn box_box2(a: (&[f64], &[f64]), b: (&[f64], &[f64])) -> (f64, f64) {
         far += f * f;
     }
     (near, far)
+}
+
+/// Whether two boxes come within squared distance `r2` (nearest corners), stopping as soon
+/// as the partial sum exceeds it; the same sum as [`box_box2`]'s first value.
+fn box_near(a: (&[f64], &[f64]), b: (&[f64], &[f64]), r2: f64) -> bool {
+    let mut near = 0.0;
+    for k in 0..a.0.len() {
+        let g = if b.0[k] > a.1[k] { b.0[k] - a.1[k] } else if a.0[k] > b.1[k] { a.0[k] - b.1[k] } else { 0.0 };
+        near += g * g;
+        if near > r2 {
+            return false;
+        }
+    }
+    true
+}
+
+/// Whether the farthest corners of two boxes are within squared distance `r2` (so every
+/// pair of their points is), stopping as soon as the partial sum exceeds it; the same sum
+/// as [`box_box2`]'s second value.
+fn box_far_within(a: (&[f64], &[f64]), b: (&[f64], &[f64]), r2: f64) -> bool {
+    let mut far = 0.0;
+    for k in 0..a.0.len() {
+        let f = (b.1[k] - a.0[k]).max(a.1[k] - b.0[k]);
+        far += f * f;
+        if far > r2 {
+            return false;
+        }
+    }
+    true
 }
 
 /// Whether a point is within squared distance `r2` of a box (nearest corner), stopping
@@ -109,10 +161,15 @@ impl Work<'_> {
 
     /// Whether each point (by tree position) has at least `min_points` points within eps,
     /// itself included.
+    ///
+    /// Each point counts its own leaf, then the subtree of the leaf's ancestor
+    /// [`NEAR_LEVELS`] levels up (where its neighbours mostly are), then the rest of the
+    /// tree, stopping as soon as it reaches `min_points`; every point is counted once.
     fn core_points(&self, leaves: &[usize], min_points: usize) -> Vec<bool> {
         let tree = self.tree;
         let mut core = vec![false; tree.len()];
         let mut stack: Vec<usize> = Vec::new();
+        let parent = tree_parents(tree);
         for &leaf in leaves {
             let (range, _) = tree.node(leaf);
             let lb = tree.node_box(leaf);
@@ -121,33 +178,21 @@ impl Work<'_> {
                 core[range].iter_mut().for_each(|c| *c = true);
                 continue;
             }
+            let mut local = leaf;
+            for _ in 0..NEAR_LEVELS {
+                if local != 0 {
+                    local = parent[local] as usize;
+                }
+            }
             for p in range.clone() {
                 let q = self.point(p);
                 // Its own leaf first: in dense data that is often enough.
                 let mut count = range.clone().filter(|&r| dist2(q, self.point(r)) <= self.eps2).count();
-                if count < min_points {
-                    count = 0;
-                    stack.clear();
-                    stack.push(0);
-                    'search: while let Some(node) = stack.pop() {
-                        let (nr, children) = tree.node(node);
-                        if !point_box_near(q, tree.node_box(node), self.eps2) {
-                            continue;
-                        }
-                        if let Some(c) = children {
-                            stack.extend([c + 1, c]);
-                            continue;
-                        } else {
-                            for r in nr {
-                                if dist2(q, self.point(r)) <= self.eps2 {
-                                    count += 1;
-                                }
-                            }
-                        }
-                        if count >= min_points {
-                            break 'search;
-                        }
-                    }
+                if count < min_points && local != leaf {
+                    self.count_from(q, local, leaf, &mut count, min_points, &mut stack);
+                }
+                if count < min_points && local != 0 {
+                    self.count_from(q, 0, local, &mut count, min_points, &mut stack);
                 }
                 core[p] = count >= min_points;
             }
@@ -155,33 +200,68 @@ impl Work<'_> {
         core
     }
 
+    /// Adds to `count` the points within eps of `q` in the subtree of `start`, leaving out
+    /// the subtree of `skip`; stops once `count` reaches `min_points`.
+    fn count_from(&self, q: &[f64], start: usize, skip: usize, count: &mut usize, min_points: usize, stack: &mut Vec<usize>) {
+        let tree = self.tree;
+        stack.clear();
+        stack.push(start);
+        while let Some(node) = stack.pop() {
+            if node == skip || !point_box_near(q, tree.node_box(node), self.eps2) {
+                continue;
+            }
+            let (nr, children) = tree.node(node);
+            if let Some(c) = children {
+                stack.extend([c + 1, c]);
+                continue;
+            }
+            for r in nr {
+                if dist2(q, self.point(r)) <= self.eps2 {
+                    *count += 1;
+                }
+            }
+            if *count >= min_points {
+                return;
+            }
+        }
+    }
+
     /// Grows the clusters one at a time from seeds in row order: a cluster takes every
     /// point within eps of its core points, continuing from each core point it takes.
     /// Returns each point's cluster (by tree position), numbered in growing order, or
     /// [`NONE`].
     ///
-    /// Two devices keep it cheap without changing the result (which points a cluster
-    /// takes does not depend on the order its core points are expanded in): the core
-    /// points of one leaf are expanded together, meeting nodes by box against box; and
-    /// every node counts the points it still has without a cluster, so finished subtrees
-    /// are skipped at once.
+    /// The clusters' core points are found first, then each border point is given the
+    /// cluster grown first among those whose core points reach it: the lowest number
+    /// among its core neighbours (a cluster, once grown, has taken every point within
+    /// eps of its core points, so a border point goes to the first cluster that reaches
+    /// it). Growing only through core points leaves the non-core points out of every
+    /// scan.
+    ///
+    /// Two devices keep the growing cheap without changing the result (which points a
+    /// cluster takes does not depend on the order its core points are expanded in): the
+    /// core points of one small subtree ([`BATCH_LEVELS`] above a leaf) are expanded
+    /// together, meeting nodes by box against box;
+    /// and every node counts the core points it still has without a cluster, so finished
+    /// subtrees are skipped at once.
     fn expand(&self, core: &[bool]) -> Vec<u32> {
         let tree = self.tree;
         let (m, nodes, dim) = (tree.len(), tree.node_count(), self.dim);
-        let mut open = vec![0u32; nodes];
-        let mut parent = vec![0u32; nodes];
+        let parent = tree_parents(tree);
         let mut leaf_of = vec![0u32; m];
-        for n in 0..nodes {
+        // Core points per node, leaves first, each parent after its children.
+        let mut cores = vec![0u32; nodes];
+        for n in (0..nodes).rev() {
             let (range, children) = tree.node(n);
-            open[n] = range.len() as u32;
-            match children {
-                Some(c) => {
-                    parent[c] = n as u32;
-                    parent[c + 1] = n as u32;
+            cores[n] = match children {
+                Some(c) => cores[c] + cores[c + 1],
+                None => {
+                    range.clone().for_each(|p| leaf_of[p] = n as u32);
+                    core[range].iter().filter(|&&c| c).count() as u32
                 }
-                None => range.for_each(|p| leaf_of[p] = n as u32),
-            }
+            };
         }
+        let mut open = cores.clone();
         let mut pos_of_row = vec![0u32; m];
         for pos in 0..m {
             pos_of_row[tree.row_at(pos)] = pos as u32;
@@ -199,7 +279,7 @@ impl Work<'_> {
         let mut label = vec![NONE; m];
         let mut expanded = vec![false; m];
         let mut stack: Vec<usize> = Vec::new();
-        let mut batch: Vec<usize> = Vec::with_capacity(LEAF_SIZE);
+        let mut batch: Vec<usize> = Vec::with_capacity(LEAF_SIZE << BATCH_LEVELS);
         let mut found: Vec<usize> = Vec::new();
         let mut nodes_todo: Vec<usize> = Vec::new();
         let (mut lo, mut hi) = (vec![0.0; dim], vec![0.0; dim]);
@@ -219,8 +299,12 @@ impl Work<'_> {
                     continue;
                 }
                 let leaf = leaf_of[p] as usize;
+                let mut group = leaf;
+                for _ in 0..BATCH_LEVELS {
+                    group = parent[group] as usize;
+                }
                 batch.clear();
-                for r in tree.node(leaf).0 {
+                for r in tree.node(group).0 {
                     if core[r] && !expanded[r] && label[r] == c {
                         expanded[r] = true;
                         batch.push(r);
@@ -242,19 +326,19 @@ impl Work<'_> {
                     if open[n] == 0 {
                         continue;
                     }
-                    let (near, far) = box_box2(bb, tree.node_box(n));
-                    if near > self.eps2 {
+                    let nb = tree.node_box(n);
+                    if !box_near(bb, nb, self.eps2) {
                         continue;
                     }
                     let (range, children) = tree.node(n);
-                    if far <= self.eps2 {
+                    if box_far_within(bb, nb, self.eps2) {
                         // Every point of the node is within eps of every batch point.
-                        found.extend(range.filter(|&q| label[q] == NONE));
+                        found.extend(range.filter(|&q| core[q] && label[q] == NONE));
                     } else if let Some(ch) = children {
                         nodes_todo.extend([ch + 1, ch]);
                     } else {
                         for q in range {
-                            if label[q] != NONE {
+                            if !core[q] || label[q] != NONE {
                                 continue;
                             }
                             let x = self.point(q);
@@ -267,11 +351,35 @@ impl Work<'_> {
                 for &q in &found {
                     label[q] = c;
                     take(&mut open, q);
-                    if core[q] {
-                        stack.push(q);
+                    stack.push(q);
+                }
+            }
+        }
+        // Border points: the lowest cluster number among the core points within eps.
+        for p in 0..m {
+            if core[p] {
+                continue;
+            }
+            let q = self.point(p);
+            let mut best = NONE;
+            nodes_todo.clear();
+            nodes_todo.push(0);
+            while let Some(n) = nodes_todo.pop() {
+                if cores[n] == 0 || !point_box_near(q, tree.node_box(n), self.eps2) {
+                    continue;
+                }
+                let (range, children) = tree.node(n);
+                if let Some(ch) = children {
+                    nodes_todo.extend([ch + 1, ch]);
+                    continue;
+                }
+                for r in range {
+                    if core[r] && label[r] < best && dist2(q, self.point(r)) <= self.eps2 {
+                        best = label[r];
                     }
                 }
             }
+            label[p] = best;
         }
         label
     }

@@ -3,8 +3,9 @@
 // from the file input to the first graph drawn: the read time the page reports, the
 // tab's peak memory (resident memory of Chromium's renderer processes, the page's and
 // its workers', sampled from /proc every 100 ms), and every main-thread task over 50 ms
-// (PerformanceObserver 'longtask'). Then it times re-colouring and, optionally, a change
-// of overlap. Prints one JSON line.
+// (PerformanceObserver 'longtask'). Then it times re-colouring, a change of overlap (with
+// where its time went: the worker's parts, the page's), and panning a graph of about
+// 5,000 nodes (frame gaps and drawing times). Prints one JSON line.
 //
 //   node tests/bench/page.mjs DATA.csv SETTINGS.json
 
@@ -15,7 +16,8 @@ import { fileURLToPath, pathToFileURL } from "node:url";
 import { chromium } from "playwright-core";
 
 const here = dirname(fileURLToPath(import.meta.url));
-const pageUrl = pathToFileURL(join(here, "..", "..", "dist", "nervure.html")).href;
+// NERVURE_PAGE: another build of the page, to compare two builds side by side.
+const pageUrl = pathToFileURL(process.env.NERVURE_PAGE || join(here, "..", "..", "dist", "nervure.html")).href;
 const [data, settingsPath] = process.argv.slice(2);
 const settings = JSON.parse(readFileSync(settingsPath, "utf8"));
 const FLAGS = ["--no-sandbox", "--disable-gpu", "--disable-background-networking", "--disable-component-update", "--disable-sync", "--no-first-run", "--disable-quic"];
@@ -49,7 +51,7 @@ function rendererRss(userDataDir) {
 }
 
 const userDataDir = mkdtempSync(join(tmpdir(), "nervure-bench-chromium-"));
-const context = await chromium.launchPersistentContext(userDataDir, { executablePath: process.env.CHROMIUM || "/usr/bin/chromium", headless: true, args: FLAGS });
+const context = await chromium.launchPersistentContext(userDataDir, { executablePath: process.env.CHROMIUM || "/usr/bin/chromium", headless: true, args: FLAGS, viewport: { width: 1600, height: 900 } });
 try {
   const page = await context.newPage();
   await page.addInitScript(() => {
@@ -86,6 +88,36 @@ try {
     await window.nervure.run();
     return performance.now() - t;
   }, settings);
+  const overlapParts = await page.evaluate(() => window.nervure.timings().lastBuild);
+  // Drawing a big graph: about 5,000 nodes (many narrow intervals, a small radius), then a
+  // pan dragged across the canvas; the gaps between animation frames while it moves, and
+  // the mean time of one drawing. NERVURE_BENCH_PAN=0 skips it.
+  let pan = null;
+  if (process.env.NERVURE_BENCH_PAN !== "0") {
+    const big = Object.assign({}, settings, { cover: { intervals: Number(process.env.NERVURE_BENCH_PAN_INTERVALS || 1500), overlap: 0.3 }, clustering: { kind: "dbscan", eps: 0.15, minPoints: 3 } });
+    const tb = Date.now();
+    const bigSummary = await page.evaluate(async (s) => { window.nervure.test.nodeLimit(1e9); await window.nervure.applySettings(s); return window.nervure.run(); }, big);
+    const bigBuildMs = Date.now() - tb;
+    await page.evaluate(() => new Promise((r) => requestAnimationFrame(() => requestAnimationFrame(r))));
+    const stats = () => (window.nervure.test.drawStats ? window.nervure.test.drawStats() : { count: 0, totalMs: 0, lastMs: NaN });
+    const first = await page.evaluate(`(${stats})()`);
+    const box = await page.locator("#graph-canvas").boundingBox();
+    const cx = box.x + box.width / 2, cy = box.y + box.height / 2;
+    await page.evaluate(() => { window.__frames = []; const tick = (t) => { window.__frames.push(t); if (window.__frames.length < 10000) requestAnimationFrame(tick); }; requestAnimationFrame(tick); });
+    await page.mouse.move(cx, cy);
+    await page.mouse.down();
+    for (let i = 0; i < 120; i++) { await page.mouse.move(cx + 200 * Math.sin(i / 10), cy + 100 * Math.cos(i / 13)); await page.waitForTimeout(8); }
+    await page.mouse.up();
+    pan = await page.evaluate((d0) => {
+      const f = window.__frames, d = [];
+      for (let i = 1; i < f.length; i++) d.push(f[i] - f[i - 1]);
+      d.sort((a, b) => a - b);
+      const q = (p) => d[Math.min(d.length - 1, Math.floor(p * d.length))];
+      const d1 = window.nervure.test.drawStats ? window.nervure.test.drawStats() : { count: 0, totalMs: 0 };
+      return { frames: d.length, medianFrameMs: q(0.5), p95FrameMs: q(0.95), maxFrameMs: d[d.length - 1], draws: d1.count - d0.count, meanDrawMs: (d1.totalMs - d0.totalMs) / Math.max(1, d1.count - d0.count), firstDrawMs: d0.lastMs };
+    }, first);
+    Object.assign(pan, { nodes: bigSummary.nodes, edges: bigSummary.edges, buildMs: bigBuildMs });
+  }
   const longTasks = await page.evaluate(() => window.__longTasks);
   console.log(JSON.stringify({
     readMs: timings.tableReadMs,
@@ -94,6 +126,8 @@ try {
     benchmarkBuildMs: buildMs,
     recolourMs: colourMs,
     overlapChangeMs: overlapMs,
+    overlapChangeParts: overlapParts,
+    pan,
     peakRendererBytes: peak,
     longTasksOver50ms: longTasks.length,
     longestTaskMs: longTasks.length ? Math.max(...longTasks) : 0,

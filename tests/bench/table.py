@@ -17,7 +17,17 @@ def load(name):
         return {}
 
 
-eng = load("engine-timings.json")
+def load_lines(name):
+    try:
+        with open(os.path.join(out, name)) as f:
+            return [json.loads(l) for l in f.read().strip().splitlines() if l.startswith("{")]
+    except (OSError, ValueError):
+        return []
+
+
+eng_lines = load_lines("engine-timings.json")
+eng = next((l for l in eng_lines if "rerun" not in l), {})
+rerun = next((l["rerun"] for l in eng_lines if "rerun" in l), None)
 script = load("script-timings.json")
 page = load("page.json")
 cmp = load("compare.json")
@@ -57,6 +67,18 @@ for r in lines:
 if page and not page.get("skipped") and not page.get("failed"):
     print(f"page: file input to first graph (automatic settings) {page.get('firstGraphAutoMs')} ms; re-colour {page.get('recolourMs'):.0f} ms; "
           f"overlap change {page.get('overlapChangeMs'):.0f} ms; main-thread tasks over 100 ms: {page.get('tasksOver100ms')} (longest {page.get('longestTaskMs'):.0f} ms)")
+if rerun:
+    print(f"engine: overlap change to {rerun.get('overlap')} on the cached stages {rerun.get('total', 0) * 1000:.0f} ms (cover {rerun.get('cover', 0) * 1000:.0f}, "
+          f"clusters {rerun.get('clusters', 0) * 1000:.0f}, graph {rerun.get('graph', 0) * 1000:.0f}, layout {rerun.get('layout', 0) * 1000:.0f} ms)")
+if page and not page.get("skipped") and not page.get("failed"):
+    parts = page.get("overlapChangeParts") or {}
+    if parts:
+        names = [("prepareMs", "points/lens/cover"), ("poolMs", "clustering on the pool"), ("buildMs", "graph and layout"), ("graphAndColourMs", "graph out"), ("requestMs", "round trip with first rendering"), ("afterMs", "after (histogram, history)")]
+        print("page: overlap change parts: " + "; ".join(f"{w} {parts[k]:.0f} ms" for k, w in names if isinstance(parts.get(k), (int, float))))
+    pan = page.get("pan")
+    if pan:
+        print(f"page: panning a graph of {pan['nodes']} nodes and {pan['edges']} edges: frame gaps median {pan['medianFrameMs']:.1f} ms, 95th percentile {pan['p95FrameMs']:.1f} ms, "
+              f"longest {pan['maxFrameMs']:.1f} ms over {pan['frames']} frames; {pan['draws']} drawings of {pan['meanDrawMs']:.2f} ms on average (the first, a full drawing, {pan['firstDrawMs']:.1f} ms)")
 if cmp:
     if cmp.get("skipped"):
         print(f"memberships: not compared ({cmp['skipped']})")

@@ -424,6 +424,59 @@ test("cancelling a long build keeps the previous graph and its settings", async 
   await closePage(p);
 });
 
+test("cancelling while the pool clusters keeps the worker, its helpers, the graph and its settings", async () => {
+  const p = await openPage();
+  const { page } = p;
+  await loadDemo(page);
+  // Every build on two helpers, each element held back 1.5 s (a stand-in for a slow
+  // element), so the build is surely on the pool when Cancel is pressed.
+  await page.evaluate(() => window.nervure.pool({ helpers: 2, minPoints: 0 }));
+  const first = { ...(await snapshot(page)).settings };
+  first.cover = { ...first.cover, overlap: first.cover.overlap === 0.3 ? 0.35 : 0.3 };
+  await page.evaluate((s) => window.nervure.applySettings(s).then(() => window.nervure.run()), first);
+  const before = await snapshot(page);
+  const poolBefore = await page.evaluate(() => window.nervure.pool({ testDelayMs: 1500 }));
+  assert.ok(poolBefore.elementsOnPool > 0, "the build before should have used the pool");
+  assert.equal(poolBefore.helpersStarted, 2);
+  // A new overlap and a new lens: the cancelled build moves the engine's lens and cover.
+  const more = { ...before.settings, lens: { kind: "column", column: before.settings.columns[0] }, cover: { ...before.settings.cover, overlap: 0.45 } };
+  await page.evaluate((b) => window.nervure.applySettings(b), more);
+  await page.evaluate(() => { window.nervure.run().catch(() => {}); });
+  await page.waitForFunction(() => window.nervure.test.onPool(), null, { timeout: 30000 });
+  await page.waitForSelector("#cancel-button:not([hidden])", { timeout: 30000 });
+  const t0 = Date.now();
+  await page.click("#cancel-button");
+  const message = await waitForMessage(page, /^Build cancelled/);
+  const ms = Date.now() - t0;
+  assert.equal(await page.evaluate(() => window.nervure.test.lastCancel()), "message", "cancelled by message, not by ending the worker");
+  assert.doesNotMatch(message, /restarted/);
+  const now = await snapshot(page);
+  assert.deepEqual(now.summary, before.summary);
+  assert.deepEqual(now.settings, before.settings);
+  assert.equal(await page.inputValue("#s-overlap"), String(before.settings.cover.overlap), "the form shows the graph's settings");
+  const poolAfter = await page.evaluate(() => window.nervure.pool({ testDelayMs: 0 }));
+  assert.equal(poolAfter.helpersStarted, 2, "no helper was started again");
+  assert.equal(poolAfter.cancelledRuns, 1);
+  // Sent before the cancel: one element per helper (each held 1.5 s), none after it.
+  const sent = poolAfter.elementsSent - poolBefore.elementsSent;
+  assert.ok(sent <= 4, sent + " elements were sent to the helpers for the cancelled build");
+  // The same engine still holds the graph shown and its table: colouring works, and the
+  // graph shown rebuilt from its settings is the same graph (the stages went back to them).
+  await page.evaluate((c) => window.nervure.colourBy(c), before.settings.columns[1]);
+  const again = await page.evaluate(() => window.nervure.run());
+  assert.deepEqual(again, before.summary);
+  // The cancelled settings build now, on the same helpers.
+  const summary = await page.evaluate((b) => window.nervure.applySettings(b).then(() => window.nervure.run()), more);
+  assert.ok(summary.nodes > 0);
+  assert.ok(summary.elements > sent, "the cancelled build had elements left to send");
+  const last = await page.evaluate(() => window.nervure.pool({}));
+  assert.equal(last.helpersStarted, 2);
+  assert.ok(last.elementsOnPool > poolAfter.elementsOnPool);
+  assert.equal(await page.evaluate(() => window.nervure.status().recovering), false);
+  results.push({ input: "cancel while the pool clusters", message: message + ` (${ms} ms)`, survived: "yes; same worker and helpers, nothing re-read" });
+  await closePage(p);
+});
+
 test("a whole session makes no request beyond the page itself and blob:/data: URLs", async () => {
   const seen = [];
   const record = (r) => seen.push(r.url());

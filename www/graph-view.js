@@ -33,6 +33,9 @@ function GraphView(canvas, callbacks) {
   this.width = 0;
   this.height = 0;
   this.drawCount = 0;
+  this.previewCount = 0;    // drawings that were a stretched copy of the layer (zooming)
+  this.zooming = false;
+  this.zoomRest = null;
   this.lastDrawMs = null;   // milliseconds the last drawing took
   // The edges, discs and highlight (what a pan only moves) are drawn into `layer` once per
   // change of them or of the scale, and a pan or a hover copies it (see _blitBase).
@@ -255,11 +258,23 @@ GraphView.prototype._blitBase = function (ctx) {
   for (let i = 0; i < this.radii.length; i++) maxR = Math.max(maxR, this.radii[i]);
   const pad = maxR + 8;
   const w = (b.x1 - b.x0) * s + 2 * pad, h = (b.y1 - b.y0) * s + 2 * pad;
+  let L = this.layer;
+  // While the wheel turns, the layer drawn at an earlier scale is copied stretched (a
+  // preview, a little blurred); the exact picture follows once the wheel rests.
+  if (L && this.zooming && L.version === this.baseVersion && L.dpr === dpr) {
+    const k = s / L.s;
+    if (k >= 1 / 8 && k <= 8) {
+      ctx.setTransform(1, 0, 0, 1, 0, 0);
+      ctx.drawImage(L.canvas, (this.view.x - L.ox * k) * dpr, (this.view.y - L.oy * k) * dpr, L.cw * k, L.ch * k);
+      ctx.setTransform(dpr, 0, 0, dpr, 0, 0);
+      this.previewCount++;
+      return true;
+    }
+  }
   if (!(w * h * dpr * dpr <= GraphView.LAYER_MAX_PIXELS)) { this.layer = null; return false; }
   // A pan by whole device pixels keeps the key; any other move draws the layer again.
   const frac = (v) => { const d = v * dpr; return Math.round((d - Math.floor(d)) * 1e4) % 1e4; };
   const key = [this.baseVersion, s, dpr, frac(this.view.x), frac(this.view.y)].join(" ");
-  let L = this.layer;
   if (!L || L.key !== key) {
     // Screen x = layer x + (view.x - ox); that offset is made a whole number of device pixels.
     const rawX = this.view.x + b.x0 * s - pad, rawY = this.view.y + b.y0 * s - pad;
@@ -270,7 +285,7 @@ GraphView.prototype._blitBase = function (ctx) {
     const lctx = canvas.getContext("2d");
     lctx.setTransform(dpr, 0, 0, dpr, 0, 0);
     lctx.clearRect(0, 0, cw / dpr, ch / dpr);
-    L = this.layer = { canvas, key, ox: this.view.x - bx, oy: this.view.y - by, cw, ch };
+    L = this.layer = { canvas, key, ox: this.view.x - bx, oy: this.view.y - by, cw, ch, s, dpr, version: this.baseVersion };
     this._drawBase(lctx, s, L.ox, L.oy, cw / dpr, ch / dpr);
   }
   ctx.setTransform(1, 0, 0, 1, 0, 0);
@@ -316,6 +331,11 @@ GraphView.prototype._drawBase = function (ctx, s, ox, oy, w, h) {
   }
   if (this.highlight) this._drawHighlight(ctx, s, ox, oy);
 };
+
+/** Graphs with at least this many nodes are previewed while zooming (drawing them exactly
+ *  takes longer than a frame), and the exact drawing waits for the wheel to rest this long. */
+GraphView.ZOOM_PREVIEW_NODES = 1500;
+GraphView.ZOOM_REST_MS = 140;
 
 /** Largest layer (device pixels) kept for pans; a bigger graph on screen (zoomed in) is
  *  drawn directly, only what is in view. */
@@ -438,6 +458,10 @@ GraphView.prototype._listen = function () {
     this.view.y = q.y - (q.y - this.view.y) * k;
     this.view.scale = next;
     this.fitted = false;
+    // Large graphs: stretched copies of the last layer while the wheel turns (see _blitBase).
+    this.zooming = this.graph.nodeSizes.length >= GraphView.ZOOM_PREVIEW_NODES;
+    clearTimeout(this.zoomRest);
+    if (this.zooming) this.zoomRest = setTimeout(() => { this.zooming = false; this.requestDraw(); }, GraphView.ZOOM_REST_MS);
     this.requestDraw();
   }, { passive: false });
   c.addEventListener("dblclick", () => this.fit());

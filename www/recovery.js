@@ -263,5 +263,5 @@ const recoveryTestHooks = Object.freeze({
   onPool: function () { return engine.onPool(); },
   lastCancel: function () { return state.lastCancel || null; },
   /** The graph view's drawings so far: {count, lastMs, totalMs} (the benchmark's frame times). */
-  drawStats: function () { return { count: view.drawCount, lastMs: view.lastDrawMs, totalMs: view.drawTotalMs }; },
+  drawStats: function () { return { count: view.drawCount, previews: view.previewCount, zooming: view.zooming, lastMs: view.lastDrawMs, totalMs: view.drawTotalMs }; },
 });

@@ -117,6 +117,22 @@ try {
       return { frames: d.length, medianFrameMs: q(0.5), p95FrameMs: q(0.95), maxFrameMs: d[d.length - 1], draws: d1.count - d0.count, meanDrawMs: (d1.totalMs - d0.totalMs) / Math.max(1, d1.count - d0.count), firstDrawMs: d0.lastMs };
     }, first);
     Object.assign(pan, { nodes: bigSummary.nodes, edges: bigSummary.edges, buildMs: bigBuildMs });
+    // Zooming the same graph with the wheel: the frame gaps while it turns, and how many
+    // drawings were stretched copies of the layer (the exact one follows when it rests).
+    await page.waitForTimeout(300);
+    const z0 = await page.evaluate(`(${stats})()`);
+    await page.evaluate(() => { window.__frames = []; const tick = (t) => { window.__frames.push(t); if (window.__frames.length < 10000) requestAnimationFrame(tick); }; requestAnimationFrame(tick); });
+    await page.mouse.move(cx, cy);
+    for (let i = 0; i < 60; i++) { await page.mouse.wheel(0, i < 30 ? -40 : 40); await page.waitForTimeout(8); }
+    await page.waitForTimeout(400);
+    pan.zoom = await page.evaluate((d0) => {
+      const f = window.__frames, d = [];
+      for (let i = 1; i < f.length; i++) d.push(f[i] - f[i - 1]);
+      d.sort((a, b) => a - b);
+      const q = (p) => d[Math.min(d.length - 1, Math.floor(p * d.length))];
+      const d1 = window.nervure.test.drawStats();
+      return { frames: d.length, medianFrameMs: q(0.5), p95FrameMs: q(0.95), maxFrameMs: d[d.length - 1], draws: d1.count - d0.count, previews: (d1.previews || 0) - (d0.previews || 0) };
+    }, z0);
   }
   const longTasks = await page.evaluate(() => window.__longTasks);
   console.log(JSON.stringify({

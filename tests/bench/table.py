@@ -79,6 +79,10 @@ if page and not page.get("skipped") and not page.get("failed"):
     if pan:
         print(f"page: panning a graph of {pan['nodes']} nodes and {pan['edges']} edges: frame gaps median {pan['medianFrameMs']:.1f} ms, 95th percentile {pan['p95FrameMs']:.1f} ms, "
               f"longest {pan['maxFrameMs']:.1f} ms over {pan['frames']} frames; {pan['draws']} drawings of {pan['meanDrawMs']:.2f} ms on average (the first, a full drawing, {pan['firstDrawMs']:.1f} ms)")
+        z = pan.get("zoom")
+        if z:
+            print(f"page: zooming it with the wheel: frame gaps median {z['medianFrameMs']:.1f} ms, 95th percentile {z['p95FrameMs']:.1f} ms, longest {z['maxFrameMs']:.1f} ms "
+                  f"over {z['frames']} frames; {z['draws']} drawings, {z['previews']} of them stretched copies while the wheel turned")
 if cmp:
     if cmp.get("skipped"):
         print(f"memberships: not compared ({cmp['skipped']})")

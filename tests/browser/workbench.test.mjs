@@ -204,3 +204,30 @@ test("a large table: the scatter draws a seeded sample of 50 000 points and says
   assert.ok(lit <= layout.sizes[big] && lit >= 0.6 * layout.sizes[big], `lit ${lit} of ${layout.sizes[big]} rows (a 5/6 sample)`);
   console.log(`rings.csv: 60 000 rows; scatter sample fetched and drawn in ${Date.now() - t0} ms as the test saw it`);
 });
+
+test("zooming a large graph shows stretched copies while the wheel turns, then the exact drawing", async () => {
+  // A line of 8 000 evenly spaced rows under 2 000 intervals: one node per interval by
+  // construction (each interval's rows are a run of neighbours closer than eps).
+  const rows = ["x,y"];
+  for (let i = 0; i < 8000; i++) rows.push(`${i},${(i % 7) * 0.01}`);
+  await page.evaluate(([t]) => window.nervure.loadCsv(t, "line.csv"), [rows.join("\n") + "\n"]);
+  await waitForGraph(page);
+  const settings = await page.evaluate(() => window.nervure.settings());
+  Object.assign(settings, { columns: ["x", "y"], scaling: "none", lens: { kind: "column", column: "x" }, cover: { intervals: 2000, overlap: 0.25 }, clustering: { kind: "dbscan", eps: 1.5, minPoints: 1 } });
+  await page.evaluate((s) => window.nervure.applySettings(s), settings);
+  const summary = await page.evaluate(() => window.nervure.run());
+  assert.ok(summary.nodes >= 1500, `${summary.nodes} nodes`);
+  await waitForIdle(page);
+  const box = await page.locator("#graph-canvas").boundingBox();
+  await page.mouse.move(box.x + box.width / 2, box.y + box.height * 0.75);
+  const before = await page.evaluate(() => window.nervure.test.drawStats());
+  for (let i = 0; i < 6; i++) await page.mouse.wheel(0, -60);
+  const turning = await page.evaluate(() => window.nervure.test.drawStats());
+  assert.ok(turning.zooming, "the view knows the wheel is turning");
+  await page.waitForFunction((n) => window.nervure.test.drawStats().previews > n, before.previews);
+  await page.waitForFunction(() => !window.nervure.test.drawStats().zooming);
+  const rested = await page.evaluate(() => window.nervure.test.drawStats());
+  assert.ok(rested.count > turning.count, "an exact drawing follows the rest");
+  const layout = await page.evaluate(() => window.nervure.layout());
+  assert.ok(layout.scale > 0);
+});

@@ -80,6 +80,9 @@ function createShapePanel(deps) {
     return c.features.map((f) => f.significant);
   }
 
+  /** The most features the table lists. */
+  const FEATURES_LISTED = 200;
+
   function renderFeatures() {
     const body = byId("sp-features-body");
     body.textContent = "";
@@ -87,7 +90,15 @@ function createShapePanel(deps) {
     const note = byId("sp-features-note");
     if (!d) { note.textContent = deps.graph() ? "…" : ""; return; }
     const v = verdicts();
-    d.features.forEach(function (f, i) {
+    // A graph of thousands of nodes has thousands of features: the longest are listed (all
+    // of them are counted below), so the table stays quick to draw.
+    let shown = d.features.map((f, i) => i);
+    if (shown.length > FEATURES_LISTED) {
+      const len = (i) => (Number.isFinite(d.features[i].persistence) ? d.features[i].persistence : Infinity);
+      shown = shown.sort((a, b) => len(b) - len(a) || a - b).slice(0, FEATURES_LISTED).sort((a, b) => a - b);
+    }
+    shown.forEach(function (i) {
+      const f = d.features[i];
       const tr = el("tr");
       tr.dataset.feature = String(i);
       tr.dataset.kind = f.kind;
@@ -99,6 +110,13 @@ function createShapePanel(deps) {
       tr.title = plural(f.nodes.length, "node", "nodes") + "; point to mark them on the graph, click to keep them marked";
       body.append(tr);
     });
+    if (shown.length < d.features.length) {
+      const tr = el("tr");
+      const td = el("td", "more", (d.features.length - shown.length) + " shorter features are not listed (the " + FEATURES_LISTED + " longest are).");
+      td.colSpan = 5;
+      tr.append(td);
+      body.append(tr);
+    }
     const count = (k) => d.features.filter((f) => f.kind === k).length;
     const branches = count("downBranch") + count("upBranch");
     let text = plural(count("component"), "component", "components") + ", " + plural(count("loop"), "loop", "loops") + ", " + plural(branches, "branch", "branches") + ".";

@@ -56,7 +56,9 @@ try {
   const page = await context.newPage();
   await page.addInitScript(() => {
     window.__longTasks = [];
-    new PerformanceObserver((list) => { for (const e of list.getEntries()) window.__longTasks.push(e.duration); }).observe({ type: "longtask", buffered: true });
+    window.__longTaskAt = [];
+    window.__phase = "load";
+    new PerformanceObserver((list) => { for (const e of list.getEntries()) { window.__longTasks.push(e.duration); window.__longTaskAt.push(window.__phase + " " + Math.round(e.duration)); } }).observe({ type: "longtask", buffered: true });
   });
   await page.goto(pageUrl);
   // The first graph is built with the benchmark's settings: the page's automatic
@@ -70,18 +72,21 @@ try {
   const autoMs = Date.now() - started;
   const timings = await page.evaluate(() => window.nervure.timings());
   // Now the benchmark's settings (the lens and everything after it recomputed).
+  await page.evaluate(() => { window.__phase = "benchmark build"; });
   const t0 = Date.now();
   const summary = await page.evaluate(async (s) => { await window.nervure.applySettings(s); return window.nervure.run(); }, settings);
   const buildMs = Date.now() - t0;
   clearInterval(sampler);
   peak = Math.max(peak, rendererRss(userDataDir));
   // Re-colouring: the mean of a chosen column per node.
+  await page.evaluate(() => { window.__phase = "re-colour"; });
   const colourMs = await page.evaluate(async (col) => {
     const t = performance.now();
     await window.nervure.colourBy(col);
     return performance.now() - t;
   }, settings.columns[0]);
   // A new overlap: lens re-used.
+  await page.evaluate(() => { window.__phase = "overlap change"; });
   const overlapMs = await page.evaluate(async (s) => {
     const t = performance.now();
     await window.nervure.applySettings(Object.assign({}, s, { cover: Object.assign({}, s.cover, { overlap: s.cover.overlap === 0.5 ? 0.45 : 0.5 }) }));
@@ -92,6 +97,7 @@ try {
   // Drawing a big graph: about 5,000 nodes (many narrow intervals, a small radius), then a
   // pan dragged across the canvas; the gaps between animation frames while it moves, and
   // the mean time of one drawing. NERVURE_BENCH_PAN=0 skips it.
+  await page.evaluate(() => { window.__phase = "big graph"; });
   let pan = null;
   if (process.env.NERVURE_BENCH_PAN !== "0") {
     const big = Object.assign({}, settings, { cover: { intervals: Number(process.env.NERVURE_BENCH_PAN_INTERVALS || 1500), overlap: 0.3 }, clustering: { kind: "dbscan", eps: 0.15, minPoints: 3 } });
@@ -135,6 +141,7 @@ try {
     }, z0);
   }
   const longTasks = await page.evaluate(() => window.__longTasks);
+  const longTaskPhases = await page.evaluate(() => window.__longTaskAt.filter((t) => Number(t.split(" ").pop()) > 100));
   console.log(JSON.stringify({
     readMs: timings.tableReadMs,
     firstGraphAutoMs: timings.firstGraphMs,
@@ -148,6 +155,7 @@ try {
     longTasksOver50ms: longTasks.length,
     longestTaskMs: longTasks.length ? Math.max(...longTasks) : 0,
     tasksOver100ms: longTasks.filter((d) => d > 100).length,
+    tasksOver100msWhere: longTaskPhases,
     summary,
   }));
 } finally {

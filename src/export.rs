@@ -228,20 +228,7 @@ mod tests {
     fn small_build() -> Build {
         let x: Vec<f64> = (0..40).map(|i| if i < 20 { i as f64 * 0.1 } else { 10.0 + (i - 20) as f64 * 0.1 }).collect();
         let t = Table::from_columns("t", vec![Column::number("x", x.clone()), Column::number("y", x.iter().map(|v| v * 0.5).collect())]).unwrap();
-        let s = Settings {
-            version: 1,
-            columns: vec!["x".into(), "y".into()],
-            scaling: Scaling::None,
-            missing: Missing::default(),
-            lens: Lens::Column { column: "x".into() },
-            cover: CoverSettings::uniform(8, 0.3),
-            clustering: Clustering::Dbscan { eps: 0.3, min_points: 1 },
-            edges: EdgeRule::default(),
-            seed: 1,
-            derived: Vec::new(),
-            lens2: None,
-            cover2: None,
-        };
+        let s = Settings::plain(vec!["x".into(), "y".into()], Lens::Column { column: "x".into() }, CoverSettings::uniform(8, 0.3), Clustering::Dbscan { eps: 0.3, min_points: 1 });
         crate::engine::build(&t, &s).unwrap()
     }
 

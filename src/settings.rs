@@ -225,6 +225,26 @@ impl Default for EdgeRule {
 }
 
 impl Settings {
+    /// Settings with the given points, filter, cover and clustering, and plain choices for
+    /// the rest: no scaling, the default missing-value rule, edges at one shared row, seed 1,
+    /// no derived column, one filter. For scripts and tests that state only what matters.
+    pub fn plain(columns: Vec<String>, lens: Lens, cover: CoverSettings, clustering: Clustering) -> Settings {
+        Settings {
+            version: 1,
+            columns,
+            scaling: Scaling::None,
+            missing: Missing::default(),
+            lens,
+            cover,
+            clustering,
+            edges: EdgeRule::default(),
+            seed: 1,
+            derived: Vec::new(),
+            lens2: None,
+            cover2: None,
+        }
+    }
+
     /// Reads a settings document, refusing unknown fields and newer versions.
     pub fn from_json(text: &str) -> Result<Settings> {
         let value: serde_json::Value = serde_json::from_str(text)

@@ -15,7 +15,7 @@
 //! shape the page reads.
 
 use nervure::explain::{self, category, chi2};
-use nervure::settings::{Clustering, CoverSettings, EdgeRule, Lens, Missing, Scaling};
+use nervure::settings::{Clustering, CoverSettings, Lens};
 use nervure::table::{Column, MISSING_CODE};
 use nervure::{Settings, Table, Workbench};
 use serde_json::Value;
@@ -190,20 +190,7 @@ fn zone_table() -> Table {
 }
 
 fn settings() -> Settings {
-    Settings {
-        version: 1,
-        columns: vec!["x".into()],
-        scaling: Scaling::None,
-        missing: Missing::default(),
-        lens: Lens::Column { column: "x".into() },
-        cover: CoverSettings::uniform(3, 0.0),
-        clustering: Clustering::Dbscan { eps: 1.5, min_points: 1 },
-        edges: EdgeRule::default(),
-        seed: 1,
-        derived: Vec::new(),
-        lens2: None,
-        cover2: None,
-    }
+    Settings::plain(vec!["x".into()], Lens::Column { column: "x".into() }, CoverSettings::uniform(3, 0.0), Clustering::Dbscan { eps: 1.5, min_points: 1 })
 }
 
 #[test]

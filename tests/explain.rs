@@ -10,7 +10,7 @@
 //! table built so that one column separates a group by construction.
 
 use nervure::explain::{self, ks, Method};
-use nervure::settings::{Clustering, CoverSettings, EdgeRule, Lens, Missing, Scaling};
+use nervure::settings::{Clustering, CoverSettings, Lens};
 use nervure::table::Column;
 use nervure::{Settings, Table, Workbench};
 use serde_json::Value;
@@ -121,20 +121,7 @@ fn table() -> Table {
 }
 
 fn settings() -> Settings {
-    Settings {
-        version: 1,
-        columns: vec!["x".into()],
-        scaling: Scaling::None,
-        missing: Missing::default(),
-        lens: Lens::Column { column: "x".into() },
-        cover: CoverSettings::uniform(3, 0.0),
-        clustering: Clustering::Dbscan { eps: 1.5, min_points: 1 },
-        edges: EdgeRule::default(),
-        seed: 1,
-        derived: Vec::new(),
-        lens2: None,
-        cover2: None,
-    }
+    Settings::plain(vec!["x".into()], Lens::Column { column: "x".into() }, CoverSettings::uniform(3, 0.0), Clustering::Dbscan { eps: 1.5, min_points: 1 })
 }
 
 #[test]

@@ -200,6 +200,8 @@ function recolour() {
 }
 
 function wireHooks() {
+  // The second filter offers the same kinds as the first, listed once in index.html.
+  byId("s2-lens").replaceChildren(...Array.from(byId("s-lens").options, (o) => o.cloneNode(true)));
   const again = function () {
     state.colour.stat = statFromControls();
     renderColourControls();

@@ -86,20 +86,8 @@ fn run() -> Result<(), String> {
     if let Some(p) = &a.write_settings {
         std::fs::write(p, settings.to_json()).map_err(|e| format!("cannot write {p}: {e}"))?;
     }
-    // Stage starts as the engine reports them; a stage lasts until the next one starts.
-    let mut starts: Vec<(String, Instant)> = vec![("settings".into(), read_done)];
-    let summary = bench
-        .run(&settings, &mut |stage, _| {
-            if starts.last().map(|(s, _)| s.as_str()) != Some(stage) {
-                starts.push((stage.to_string(), Instant::now()));
-            }
-        })
-        .map_err(|e| e.to_string())?;
-    let end = Instant::now();
-    for (i, (name, t)) in starts.iter().enumerate() {
-        let next = starts.get(i + 1).map_or(end, |(_, t)| *t);
-        stages.push((name.clone(), (next - *t).as_secs_f64()));
-    }
+    let (summary, run_stages) = timed_run(&mut bench, &settings, read_done)?;
+    stages.extend(run_stages);
     if let Some(p) = &a.out {
         let b = bench.last().expect("a run just succeeded");
         std::fs::write(p, nervure::export::graph_json(b)).map_err(|e| format!("cannot write {p}: {e}"))?;
@@ -120,23 +108,11 @@ fn run() -> Result<(), String> {
         let mut next = settings.clone();
         next.cover.overlap = g;
         let rerun = Instant::now();
-        let mut starts: Vec<(String, Instant)> = vec![("settings".into(), rerun)];
-        let second = bench
-            .run(&next, &mut |stage, _| {
-                if starts.last().map(|(s, _)| s.as_str()) != Some(stage) {
-                    starts.push((stage.to_string(), Instant::now()));
-                }
-            })
-            .map_err(|e| e.to_string())?;
-        let end = Instant::now();
-        let fields: Vec<String> = starts
+        let (second, rerun_stages) = timed_run(&mut bench, &next, rerun)?;
+        let fields: Vec<String> = rerun_stages
             .iter()
-            .enumerate()
-            .map(|(i, (name, t))| {
-                let next = starts.get(i + 1).map_or(end, |(_, t)| *t);
-                format!("{}:{:.4}", serde_json::json!(name), (next - *t).as_secs_f64())
-            })
-            .chain([format!("\"total\":{:.4}", (end - rerun).as_secs_f64()), format!("\"overlap\":{g}"), format!("\"nodes\":{}", second.nodes)])
+            .map(|(name, secs)| format!("{}:{secs:.4}", serde_json::json!(name)))
+            .chain([format!("\"total\":{:.4}", rerun.elapsed().as_secs_f64()), format!("\"overlap\":{g}"), format!("\"nodes\":{}", second.nodes)])
             .collect();
         eprintln!("{{\"rerun\":{{{}}}}}", fields.join(","));
     }
@@ -144,6 +120,22 @@ fn run() -> Result<(), String> {
         println!("{}", serde_json::to_string(&summary).expect("summary serialises"));
     }
     Ok(())
+}
+
+/// Runs `settings` and times each stage as the engine reports them, the first ("settings")
+/// from `since`; a stage lasts until the next one starts.
+fn timed_run(bench: &mut Workbench, settings: &Settings, since: Instant) -> Result<(nervure::Summary, Vec<(String, f64)>), String> {
+    let mut starts: Vec<(String, Instant)> = vec![("settings".into(), since)];
+    let summary = bench
+        .run(settings, &mut |stage, _| {
+            if starts.last().map(|(s, _)| s.as_str()) != Some(stage) {
+                starts.push((stage.to_string(), Instant::now()));
+            }
+        })
+        .map_err(|e| e.to_string())?;
+    let end = Instant::now();
+    let stages = starts.iter().enumerate().map(|(i, (name, t))| (name.clone(), (starts.get(i + 1).map_or(end, |(_, t)| *t) - *t).as_secs_f64())).collect();
+    Ok((summary, stages))
 }
 
 /// The process's peak resident memory (Linux: VmHWM), or null elsewhere.

@@ -117,18 +117,25 @@ pub fn build_points(table: &Table, s: &Settings) -> Result<Points> {
         )));
     }
     let m = rows.len();
-    let mut data = Array2::<f64>::zeros((m, d));
     let mut values = Vec::with_capacity(m);
+    let mut scales = Vec::with_capacity(d);
     for (j, col) in cols.iter().enumerate() {
         values.clear();
         values.extend(rows.iter().map(|&r| col.get(r as usize).expect("kept rows have a value or a fill")));
-        let (shift, scale) = scaling_of(&values, s.scaling).map_err(|why| {
+        scales.push(scaling_of(&values, s.scaling).map_err(|why| {
             Error::Data(format!("column '{}' {why}; leave it out or choose scaling 'none'", key.columns[j]))
-        })?;
-        for (i, &x) in values.iter().enumerate() {
-            data[[i, j]] = (x - shift) / scale;
-        }
+        })?);
     }
+    drop(values);
+    // Written row by row: one pass over the rows in memory order (a column at a time wrote
+    // one value per cache line of a large table, `d` times over).
+    let mut flat = Vec::with_capacity(m * d);
+    for &r in &rows {
+        flat.extend(cols.iter().zip(&scales).map(|(col, &(shift, scale))| {
+            (col.get(r as usize).expect("kept rows have a value or a fill") - shift) / scale
+        }));
+    }
+    let data = Array2::from_shape_vec((m, d), flat).expect("m rows of d values");
     Ok(Points { data, rows, columns: key.columns, left_out: n - m, left_out_by_column: by_column, filled_by_column })
 }
 

@@ -314,23 +314,34 @@ GraphView.prototype._drawBase = function (ctx, s, ox, oy, w, h) {
     ctx.lineTo(xb, yb);
     ctx.stroke();
   }
+  // Each disc is a white disc RING / 2 wider than its radius with the coloured disc
+  // RING / 2 narrower on it: the look of a white outline stroked on the disc, drawn with
+  // two fills, which take about two thirds of the time of a fill and a stroke (a graph of
+  // thousands of nodes spends most of a full drawing on its discs). A faded disc is faded
+  // over its white disc.
   const dim = this.selection.size > 0 || !!this.lit;
-  ctx.lineWidth = 1.25;
+  const ring = GraphView.RING / 2;
   for (let k = 0; k < this.order.length; k++) {
     const i = this.order[k];
     const x = p[2 * i] * s + ox, y = p[2 * i + 1] * s + oy, r = this.radii[i];
     if (x + r < -2 || x - r > w + 2 || y + r < -2 || y - r > h + 2) continue;
     ctx.beginPath();
-    ctx.arc(x, y, r, 0, 2 * Math.PI);
-    ctx.fillStyle = this.fills ? this.fills[i] : "rgb(120, 134, 150)";
-    ctx.globalAlpha = dim && !this.selection.has(i) && !(this.lit && this.lit[i]) ? 0.35 : 1;
+    ctx.arc(x, y, r + ring, 0, 2 * Math.PI);
+    ctx.fillStyle = "rgba(255, 255, 255, 0.9)";
     ctx.fill();
-    ctx.globalAlpha = 1;
-    ctx.strokeStyle = "rgba(255, 255, 255, 0.9)";
-    ctx.stroke();
+    ctx.beginPath();
+    ctx.arc(x, y, Math.max(0.5, r - ring), 0, 2 * Math.PI);
+    ctx.fillStyle = this.fills ? this.fills[i] : "rgb(120, 134, 150)";
+    const faded = dim && !this.selection.has(i) && !(this.lit && this.lit[i]);
+    if (faded) ctx.globalAlpha = 0.35;
+    ctx.fill();
+    if (faded) ctx.globalAlpha = 1;
   }
   if (this.highlight) this._drawHighlight(ctx, s, ox, oy);
 };
+
+/** Width (CSS pixels) of the white ring around each disc. */
+GraphView.RING = 1.25;
 
 /** Graphs with at least this many nodes are previewed while zooming (drawing them exactly
  *  takes longer than a frame), and the exact drawing waits for the wheel to rest this long. */

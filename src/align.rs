@@ -115,7 +115,7 @@ fn check(spec: &AlignSpec) -> Result<()> {
 pub fn time_of(table: &Table, name: &str, field: &str) -> Result<Vec<f64>> {
     let col = table.column(name).ok_or_else(|| Error::settings(field, format!("no column named '{name}' in {}", table.name)))?;
     match &col.data {
-        ColumnData::Number(v) => Ok(v.clone()),
+        ColumnData::Number(v) => Ok(v.to_vec()),
         ColumnData::Category { codes, .. } => {
             let t = timecol::parse_column(col).map_err(|why| Error::settings(field, format!("{}: {why}", table.name)))?;
             Ok(t.map(codes, timecol::Stamp::seconds))
@@ -191,11 +191,10 @@ fn interpolate(ts: &[f64], vs: &[f64], t: f64, max_gap: Option<f64>) -> f64 {
 /// Takes rows of a column: `None` gives a missing value.
 fn take(col: &Column, rows: &[Option<usize>]) -> ColumnData {
     match &col.data {
-        ColumnData::Number(v) => ColumnData::Number(rows.iter().map(|r| r.map_or(f64::NAN, |r| v[r])).collect()),
-        ColumnData::Category { codes, levels } => ColumnData::Category {
-            codes: rows.iter().map(|r| r.map_or(MISSING_CODE, |r| codes[r])).collect(),
-            levels: levels.clone(),
-        },
+        ColumnData::Number(v) => ColumnData::numbers(rows.iter().map(|r| r.map_or(f64::NAN, |r| v[r])).collect()),
+        ColumnData::Category { codes, levels } => {
+            ColumnData::categories(rows.iter().map(|r| r.map_or(MISSING_CODE, |r| codes[r])).collect(), levels.clone())
+        }
     }
 }
 
@@ -263,7 +262,7 @@ pub fn align(meas: &Table, model: &Table, spec: &AlignSpec) -> Result<(Table, Al
                 for (i, x) in values.iter().enumerate() {
                     any_value[i] |= !x.is_nan();
                 }
-                ColumnData::Number(values)
+                ColumnData::numbers(values)
             }
             _ => take(col, &near),
         };

@@ -163,7 +163,7 @@ fn explain_ranks_the_separating_column_first_for_the_first_node() {
 fn row_values_give_source_rows_numbers_texts_and_nulls() {
     let mut t = table();
     if let nervure::table::ColumnData::Number(v) = &mut t.columns[2].data {
-        v[3] = f64::NAN;
+        std::sync::Arc::make_mut(v)[3] = f64::NAN;
     }
     let mut w = Workbench::new();
     w.set_table(t);

@@ -395,13 +395,13 @@ impl ColumnBuilder {
 
     pub fn finish(self) -> Column {
         let data = match self.kind {
-            Kind::Number(values) => ColumnData::Number(values),
+            Kind::Number(values) => ColumnData::numbers(values),
             Kind::Category { codes, index, .. } => {
                 let mut levels = vec![String::new(); index.len()];
                 for (text, code) in index {
                     levels[code as usize] = text;
                 }
-                ColumnData::Category { codes, levels }
+                ColumnData::categories(codes, levels)
             }
         };
         Column { name: self.name, data, first_text: self.first_text, unit: None }
@@ -477,7 +477,7 @@ mod tests {
         match &c.data {
             ColumnData::Category { codes, levels } => {
                 assert_eq!(levels, &["1.5", "1000", "red", "blue"]);
-                assert_eq!(codes, &[0, MISSING_CODE, 1, 2, 0, 2, 3, MISSING_CODE]);
+                assert_eq!(codes[..], [0, MISSING_CODE, 1, 2, 0, 2, 3, MISSING_CODE]);
             }
             other => panic!("expected a category column, got {other:?}"),
         }
@@ -492,7 +492,7 @@ mod tests {
         match &c.data {
             ColumnData::Category { codes, levels } => {
                 assert_eq!(levels, &["a", "b", "2024-07-15T00:00", "2024-07-15T01:00", "a\0"]);
-                assert_eq!(codes, &[0, 0, MISSING_CODE, 0, 1, 1, 0, 2, 2, 3, 1, 4]);
+                assert_eq!(codes[..], [0, 0, MISSING_CODE, 0, 1, 1, 0, 2, 2, 3, 1, 4]);
             }
             other => panic!("expected a category column, got {other:?}"),
         }

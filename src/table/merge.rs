@@ -247,7 +247,7 @@ fn stack_numbers(parts: &[&Part], name: &str, total: usize) -> ColumnData {
             _ => out.extend(std::iter::repeat_n(f64::NAN, p.table.n_rows)),
         }
     }
-    ColumnData::Number(out)
+    ColumnData::numbers(out)
 }
 
 fn stack_text(parts: &[&Part], name: &str, total: usize) -> ColumnData {
@@ -270,14 +270,14 @@ fn stack_text(parts: &[&Part], name: &str, total: usize) -> ColumnData {
                 codes.extend(own.iter().map(|&c| if c == MISSING_CODE { MISSING_CODE } else { map[c as usize] }));
             }
             Some(ColumnData::Number(v)) => {
-                for &x in v {
+                for &x in v.iter() {
                     codes.push(if x.is_nan() { MISSING_CODE } else { code_of(format!("{x}"), &mut levels) });
                 }
             }
             None => codes.extend(std::iter::repeat_n(MISSING_CODE, p.table.n_rows)),
         }
     }
-    ColumnData::Category { codes, levels }
+    ColumnData::categories(codes, levels)
 }
 
 #[cfg(test)]

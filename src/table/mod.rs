@@ -19,6 +19,8 @@ mod reader_tests;
 
 pub use reader::{ReadOptions, ReadReport, TableReader};
 
+use std::sync::Arc;
+
 use serde::Serialize;
 
 use crate::error::{Error, Result};
@@ -26,12 +28,14 @@ use crate::error::{Error, Result};
 /// Code marking a missing category value.
 pub const MISSING_CODE: u32 = u32::MAX;
 
+/// A column's cells. The values are shared (`Arc`): copies of a table (the file list's
+/// and the engine's, say) hold one set of values, and a change makes its own copy.
 #[derive(Debug, Clone, PartialEq)]
 pub enum ColumnData {
     /// `NaN` marks a missing value.
-    Number(Vec<f64>),
+    Number(Arc<Vec<f64>>),
     /// `codes[i]` indexes `levels`; [`MISSING_CODE`] marks a missing value.
-    Category { codes: Vec<u32>, levels: Vec<String> },
+    Category { codes: Arc<Vec<u32>>, levels: Vec<String> },
 }
 
 #[derive(Debug, Clone, PartialEq)]
@@ -45,13 +49,23 @@ pub struct Column {
     pub unit: Option<String>,
 }
 
+impl ColumnData {
+    pub fn numbers(values: Vec<f64>) -> ColumnData {
+        ColumnData::Number(Arc::new(values))
+    }
+
+    pub fn categories(codes: Vec<u32>, levels: Vec<String>) -> ColumnData {
+        ColumnData::Category { codes: Arc::new(codes), levels }
+    }
+}
+
 impl Column {
     pub fn number(name: impl Into<String>, values: Vec<f64>) -> Column {
-        Column { name: name.into(), data: ColumnData::Number(values), first_text: None, unit: None }
+        Column { name: name.into(), data: ColumnData::numbers(values), first_text: None, unit: None }
     }
 
     pub fn category(name: impl Into<String>, codes: Vec<u32>, levels: Vec<String>) -> Column {
-        Column { name: name.into(), data: ColumnData::Category { codes, levels }, first_text: None, unit: None }
+        Column { name: name.into(), data: ColumnData::categories(codes, levels), first_text: None, unit: None }
     }
 
     /// The same column with its units stated.
@@ -84,7 +98,7 @@ impl Column {
             ColumnData::Number(v) => {
                 let mut missing = 0;
                 let (mut lo, mut hi, mut sum, mut n) = (f64::INFINITY, f64::NEG_INFINITY, 0.0, 0usize);
-                for &x in v {
+                for &x in v.iter() {
                     if x.is_nan() || fill_values.contains(&x) {
                         missing += 1;
                     } else {

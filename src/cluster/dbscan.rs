@@ -38,6 +38,11 @@
 //!    points within eps, i.e. the cluster grown first that reaches it, as the definition
 //!    above says; one with no core point within eps is noise.
 //!
+//! The code is written once, generic over the dimension ([`Dim`]): [`dbscan`] runs it
+//! with the dimension fixed at compile time for 1 to 8 columns (constant-length loops,
+//! unrolled, no bounds checks) and as a run-time value beyond; same operations, same
+//! order, same labels.
+//!
 //! Memory O(m); no m × m matrix.
 //!
 //! Not here: choosing eps (see the automatic settings), other metrics, weights.
@@ -45,8 +50,90 @@
 use super::kdtree::{KdTree, LEAF_SIZE};
 use super::Labels;
 
-fn dist2(a: &[f64], b: &[f64]) -> f64 {
-    a.iter().zip(b).map(|(x, y)| (x - y) * (x - y)).sum()
+/// The number of coordinates of a point, known at compile time ([`Fixed`]) or only at run
+/// time ([`Any`]). The algorithm below is written once, generic over it; [`dbscan`]
+/// chooses [`Fixed`] for the usual small dimensions, so that every distance and box loop
+/// has a constant length (unrolled, no bounds checks) and the same code serves any other
+/// dimension through [`Any`]. Both run the same floating-point operations in the same
+/// order, so the labels do not depend on which one is used.
+trait Dim: Copy {
+    fn n(self) -> usize;
+}
+
+#[derive(Clone, Copy)]
+struct Fixed<const D: usize>;
+
+impl<const D: usize> Dim for Fixed<D> {
+    #[inline(always)]
+    fn n(self) -> usize {
+        D
+    }
+}
+
+#[derive(Clone, Copy)]
+struct Any(usize);
+
+impl Dim for Any {
+    #[inline(always)]
+    fn n(self) -> usize {
+        self.0
+    }
+}
+
+/// How many coordinates a bounded sum adds between two comparisons with its bound.
+/// Natively all of them for the fixed dimensions up to 8: a branch-free sum (vectorised)
+/// beats stopping early. In wasm (scalar) stopping after each coordinate is faster.
+const CHUNK: usize = if cfg!(target_arch = "wasm32") { 1 } else { 8 };
+
+/// Whether `sum_k term(k)` over the `n` coordinates, added in coordinate order, stays at
+/// or below `r2`. Every term is non-negative (a square), so the partial sums only grow,
+/// also in floating point (rounding is monotone): the sum exceeds `r2` exactly when a
+/// partial sum does, which lets long sums stop after a chunk without changing any answer.
+#[inline(always)]
+#[allow(clippy::modulo_one)] // CHUNK is 1 in wasm: a check after every coordinate.
+fn sum_within(n: usize, r2: f64, term: impl Fn(usize) -> f64) -> bool {
+    let mut s = 0.0;
+    for k in 0..n {
+        s += term(k);
+        if ((k + 1) % CHUNK == 0 || k + 1 == n) && s > r2 {
+            return false;
+        }
+    }
+    true
+}
+
+#[inline(always)]
+fn dist2<D: Dim>(d: D, a: &[f64], b: &[f64]) -> f64 {
+    let n = d.n();
+    a[..n].iter().zip(&b[..n]).map(|(x, y)| (x - y) * (x - y)).sum()
+}
+
+/// The larger of two finite values. Unlike `f64::max` (which wasm32 turns into a call to
+/// `fmax`, for the NaN rules) a plain comparison: one instruction natively and in wasm.
+/// The two differ only on NaN (never here) and on the sign of a zero, which the squares
+/// below remove.
+#[inline(always)]
+fn max(a: f64, b: f64) -> f64 {
+    if a > b { a } else { b }
+}
+
+/// The gap between the intervals `[alo, ahi]` and `[blo, bhi]` (0 when they meet): the
+/// one of `blo - ahi`, `alo - bhi` that is positive (at most one is, as `alo <= ahi` and
+/// `blo <= bhi`), otherwise 0. Natively without branches (faster there); in wasm by
+/// comparisons, which V8 runs faster than selects. The same value either way.
+#[inline(always)]
+fn gap(alo: f64, ahi: f64, blo: f64, bhi: f64) -> f64 {
+    if cfg!(target_arch = "wasm32") {
+        if blo > ahi {
+            blo - ahi
+        } else if alo > bhi {
+            alo - bhi
+        } else {
+            0.0
+        }
+    } else {
+        max(max(blo - ahi, alo - bhi), 0.0)
+    }
 }
 
 /// How many levels above a point's leaf its core count looks first.
@@ -70,59 +157,54 @@ fn tree_parents(tree: &KdTree) -> Vec<u32> {
 /// No cluster (yet).
 const NONE: u32 = u32::MAX;
 
-/// Squared distances between the nearest and the farthest corners of two boxes.
-fn box_box2(a: (&[f64], &[f64]), b: (&[f64], &[f64])) -> (f64, f64) {
-    let (mut near, mut far) = (0.0, 0.0);
-    for k in 0..a.0.len() {
-        let g = if b.0[k] > a.1[k] { b.0[k] - a.1[k] } else if a.0[k] > b.1[k] { a.0[k] - b.1[k] } else { 0.0 };
-        near += g * g;
-        let f = (b.1[k] - a.0[k]).max(a.1[k] - b.0[k]);
+/// A box as `n` lower and `n` upper bounds.
+type Bounds<'a> = (&'a [f64], &'a [f64]);
+
+/// Squared distance between the farthest corners of a box and itself: its diagonal.
+#[inline(always)]
+fn diagonal2<D: Dim>(d: D, a: Bounds) -> f64 {
+    let n = d.n();
+    let (lo, hi) = (&a.0[..n], &a.1[..n]);
+    let mut far = 0.0;
+    for k in 0..n {
+        let f = hi[k] - lo[k];
         far += f * f;
     }
-    (near, far)
+    far
 }
 
-/// Whether two boxes come within squared distance `r2` (nearest corners), stopping as soon
-/// as the partial sum exceeds it; the same sum as [`box_box2`]'s first value.
-fn box_near(a: (&[f64], &[f64]), b: (&[f64], &[f64]), r2: f64) -> bool {
-    let mut near = 0.0;
-    for k in 0..a.0.len() {
-        let g = if b.0[k] > a.1[k] { b.0[k] - a.1[k] } else if a.0[k] > b.1[k] { a.0[k] - b.1[k] } else { 0.0 };
-        near += g * g;
-        if near > r2 {
-            return false;
-        }
-    }
-    true
+/// Whether two boxes come within squared distance `r2` (nearest corners).
+#[inline(always)]
+fn box_near<D: Dim>(d: D, a: Bounds, b: Bounds, r2: f64) -> bool {
+    let n = d.n();
+    let (alo, ahi, blo, bhi) = (&a.0[..n], &a.1[..n], &b.0[..n], &b.1[..n]);
+    sum_within(n, r2, |k| {
+        let g = gap(alo[k], ahi[k], blo[k], bhi[k]);
+        g * g
+    })
 }
 
 /// Whether the farthest corners of two boxes are within squared distance `r2` (so every
-/// pair of their points is), stopping as soon as the partial sum exceeds it; the same sum
-/// as [`box_box2`]'s second value.
-fn box_far_within(a: (&[f64], &[f64]), b: (&[f64], &[f64]), r2: f64) -> bool {
-    let mut far = 0.0;
-    for k in 0..a.0.len() {
-        let f = (b.1[k] - a.0[k]).max(a.1[k] - b.0[k]);
-        far += f * f;
-        if far > r2 {
-            return false;
-        }
-    }
-    true
+/// pair of their points is).
+#[inline(always)]
+fn box_far_within<D: Dim>(d: D, a: Bounds, b: Bounds, r2: f64) -> bool {
+    let n = d.n();
+    let (alo, ahi, blo, bhi) = (&a.0[..n], &a.1[..n], &b.0[..n], &b.1[..n]);
+    sum_within(n, r2, |k| {
+        let f = max(bhi[k] - alo[k], ahi[k] - blo[k]);
+        f * f
+    })
 }
 
-/// Whether a point is within squared distance `r2` of a box (nearest corner), stopping
-/// as soon as the partial sum exceeds it.
-fn point_box_near(q: &[f64], b: (&[f64], &[f64]), r2: f64) -> bool {
-    let mut near = 0.0;
-    for k in 0..q.len() {
-        let g = if b.0[k] > q[k] { b.0[k] - q[k] } else if q[k] > b.1[k] { q[k] - b.1[k] } else { continue };
-        near += g * g;
-        if near > r2 {
-            return false;
-        }
-    }
-    true
+/// Whether a point is within squared distance `r2` of a box (nearest corner).
+#[inline(always)]
+fn point_box_near<D: Dim>(d: D, q: &[f64], b: Bounds, r2: f64) -> bool {
+    let n = d.n();
+    let (q, lo, hi) = (&q[..n], &b.0[..n], &b.1[..n]);
+    sum_within(n, r2, |k| {
+        let g = gap(q[k], q[k], lo[k], hi[k]);
+        g * g
+    })
 }
 
 /// DBSCAN labels for the rows of `points` (row-major, `dim` columns).
@@ -130,7 +212,21 @@ pub fn dbscan(points: &[f64], dim: usize, eps: f64, min_points: usize) -> Labels
     if dim == 0 || points.is_empty() {
         return Vec::new();
     }
-    let tree = KdTree::new(points, dim);
+    match dim {
+        1 => run(points, Fixed::<1>, eps, min_points),
+        2 => run(points, Fixed::<2>, eps, min_points),
+        3 => run(points, Fixed::<3>, eps, min_points),
+        4 => run(points, Fixed::<4>, eps, min_points),
+        5 => run(points, Fixed::<5>, eps, min_points),
+        6 => run(points, Fixed::<6>, eps, min_points),
+        7 => run(points, Fixed::<7>, eps, min_points),
+        8 => run(points, Fixed::<8>, eps, min_points),
+        _ => run(points, Any(dim), eps, min_points),
+    }
+}
+
+fn run<D: Dim>(points: &[f64], dim: D, eps: f64, min_points: usize) -> Labels {
+    let tree = KdTree::new(points, dim.n());
     let m = tree.len();
     let w = Work { tree: &tree, data: tree.tree_points(), dim, eps2: eps * eps };
     let leaves: Vec<usize> = tree.leaves().map(|(n, _)| n).collect();
@@ -147,16 +243,26 @@ pub fn dbscan(points: &[f64], dim: usize, eps: f64, min_points: usize) -> Labels
     labels
 }
 
-struct Work<'a> {
+struct Work<'a, D: Dim> {
     tree: &'a KdTree,
     data: &'a [f64],
-    dim: usize,
+    dim: D,
     eps2: f64,
 }
 
-impl Work<'_> {
+impl<D: Dim> Work<'_, D> {
+    #[inline(always)]
     fn point(&self, pos: usize) -> &[f64] {
-        &self.data[pos * self.dim..(pos + 1) * self.dim]
+        let n = self.dim.n();
+        &self.data[pos * n..(pos + 1) * n]
+    }
+
+    /// Node `n`'s box, each half of the dimension's length.
+    #[inline(always)]
+    fn node_box(&self, n: usize) -> Bounds<'_> {
+        let d = self.dim.n();
+        let (lo, hi) = self.tree.node_box(n);
+        (&lo[..d], &hi[..d])
     }
 
     /// Whether each point (by tree position) has at least `min_points` points within eps,
@@ -172,9 +278,9 @@ impl Work<'_> {
         let parent = tree_parents(tree);
         for &leaf in leaves {
             let (range, _) = tree.node(leaf);
-            let lb = tree.node_box(leaf);
+            let lb = self.node_box(leaf);
             // A box against itself: the farthest-corner distance is its diagonal.
-            if range.len() >= min_points && box_box2(lb, lb).1 <= self.eps2 {
+            if range.len() >= min_points && diagonal2(self.dim, lb) <= self.eps2 {
                 core[range].iter_mut().for_each(|c| *c = true);
                 continue;
             }
@@ -187,7 +293,7 @@ impl Work<'_> {
             for p in range.clone() {
                 let q = self.point(p);
                 // Its own leaf first: in dense data that is often enough.
-                let mut count = range.clone().filter(|&r| dist2(q, self.point(r)) <= self.eps2).count();
+                let mut count = range.clone().filter(|&r| dist2(self.dim, q, self.point(r)) <= self.eps2).count();
                 if count < min_points && local != leaf {
                     self.count_from(q, local, leaf, &mut count, min_points, &mut stack);
                 }
@@ -207,7 +313,7 @@ impl Work<'_> {
         stack.clear();
         stack.push(start);
         while let Some(node) = stack.pop() {
-            if node == skip || !point_box_near(q, tree.node_box(node), self.eps2) {
+            if node == skip || !point_box_near(self.dim, q, self.node_box(node), self.eps2) {
                 continue;
             }
             let (nr, children) = tree.node(node);
@@ -216,7 +322,7 @@ impl Work<'_> {
                 continue;
             }
             for r in nr {
-                if dist2(q, self.point(r)) <= self.eps2 {
+                if dist2(self.dim, q, self.point(r)) <= self.eps2 {
                     *count += 1;
                 }
             }
@@ -246,7 +352,7 @@ impl Work<'_> {
     /// subtrees are skipped at once.
     fn expand(&self, core: &[bool]) -> Vec<u32> {
         let tree = self.tree;
-        let (m, nodes, dim) = (tree.len(), tree.node_count(), self.dim);
+        let (m, nodes, dim) = (tree.len(), tree.node_count(), self.dim.n());
         let parent = tree_parents(tree);
         let mut leaf_of = vec![0u32; m];
         // Core points per node, leaves first, each parent after its children.
@@ -326,12 +432,12 @@ impl Work<'_> {
                     if open[n] == 0 {
                         continue;
                     }
-                    let nb = tree.node_box(n);
-                    if !box_near(bb, nb, self.eps2) {
+                    let nb = self.node_box(n);
+                    if !box_near(self.dim, bb, nb, self.eps2) {
                         continue;
                     }
                     let (range, children) = tree.node(n);
-                    if box_far_within(bb, nb, self.eps2) {
+                    if box_far_within(self.dim, bb, nb, self.eps2) {
                         // Every point of the node is within eps of every batch point.
                         found.extend(range.filter(|&q| core[q] && label[q] == NONE));
                     } else if let Some(ch) = children {
@@ -342,7 +448,7 @@ impl Work<'_> {
                                 continue;
                             }
                             let x = self.point(q);
-                            if point_box_near(x, bb, self.eps2) && batch.iter().any(|&b| dist2(self.point(b), x) <= self.eps2) {
+                            if point_box_near(self.dim, x, bb, self.eps2) && batch.iter().any(|&b| dist2(self.dim, self.point(b), x) <= self.eps2) {
                                 found.push(q);
                             }
                         }
@@ -365,7 +471,7 @@ impl Work<'_> {
             nodes_todo.clear();
             nodes_todo.push(0);
             while let Some(n) = nodes_todo.pop() {
-                if cores[n] == 0 || !point_box_near(q, tree.node_box(n), self.eps2) {
+                if cores[n] == 0 || !point_box_near(self.dim, q, self.node_box(n), self.eps2) {
                     continue;
                 }
                 let (range, children) = tree.node(n);
@@ -374,7 +480,7 @@ impl Work<'_> {
                     continue;
                 }
                 for r in range {
-                    if core[r] && label[r] < best && dist2(q, self.point(r)) <= self.eps2 {
+                    if core[r] && label[r] < best && dist2(self.dim, q, self.point(r)) <= self.eps2 {
                         best = label[r];
                     }
                 }

@@ -74,7 +74,8 @@ pub fn auto_settings(table: &Table) -> Result<Settings> {
     let pts = build_points(table, &s)?;
     let n = pts.rows.len();
     s.cover.intervals = (((n as f64).cbrt() / 2.0).round() as usize).clamp(5, 12);
-    let eps = knn_distance_quantile(pts.data.as_slice().expect("contiguous"), pts.data.ncols(), MIN_POINTS, 0.98, 500, s.seed);
+    let dim = pts.data.ncols();
+    let eps = knn_distance_quantile(pts.data.into_raw_vec_and_offset().0, dim, MIN_POINTS, 0.98, 500, s.seed);
     s.clustering = Clustering::Dbscan { eps: round_sig(eps.max(1e-9), 3), min_points: MIN_POINTS };
     Ok(s)
 }
@@ -111,19 +112,21 @@ pub fn sentinel_fill_values(table: &Table) -> Vec<f64> {
 
 /// The `q` quantile, over a seeded sample of up to `sample` rows, of the distance from a
 /// row to its `k`-th nearest row (the row itself counted first, at distance 0).
-pub fn knn_distance_quantile(points: &[f64], dim: usize, k: usize, q: f64, sample: usize, seed: u64) -> f64 {
+/// The tree is built over `points` in place (no second copy of a whole table's points).
+pub fn knn_distance_quantile(points: Vec<f64>, dim: usize, k: usize, q: f64, sample: usize, seed: u64) -> f64 {
     let n = points.len() / dim.max(1);
     if n == 0 {
         return 1.0;
     }
     let chosen = SplitMix64::new(seed).sample_indices(n, sample);
+    let queries: Vec<f64> = chosen.iter().flat_map(|&i| points[i * dim..(i + 1) * dim].iter().copied()).collect();
     let k = k.min(n);
-    let tree = KdTree::new(points, dim);
+    let tree = KdTree::from_rows(points, dim);
     let mut near = Vec::with_capacity(k);
-    let mut kth: Vec<f64> = chosen
-        .iter()
-        .map(|&i| {
-            tree.nearest(&points[i * dim..(i + 1) * dim], k, &mut near);
+    let mut kth: Vec<f64> = queries
+        .chunks_exact(dim)
+        .map(|q| {
+            tree.nearest(q, k, &mut near);
             near.last().map_or(0.0, |nb| nb.dist)
         })
         .collect();
@@ -190,8 +193,8 @@ mod tests {
     fn kth_distance_counts_the_row_itself() {
         // Points 0, 1, 3, 6 on a line: the 2nd nearest (self first) of 0 is at 1, of 6 is at 3.
         let p = [0.0, 1.0, 3.0, 6.0];
-        assert_eq!(knn_distance_quantile(&p, 1, 2, 0.0, 10, 1), 1.0);
-        assert_eq!(knn_distance_quantile(&p, 1, 2, 1.0, 10, 1), 3.0);
+        assert_eq!(knn_distance_quantile(p.to_vec(), 1, 2, 0.0, 10, 1), 1.0);
+        assert_eq!(knn_distance_quantile(p.to_vec(), 1, 2, 1.0, 10, 1), 3.0);
     }
 
     #[test]

@@ -68,6 +68,45 @@ impl KdTree {
     /// more than `u32::MAX` rows: these are programming errors upstream, not user input.
     /// Coordinates must be finite (the points stage removes missing values).
     pub fn new(points: &[f64], dim: usize) -> KdTree {
+        let (perm, nodes) = Self::order(points, dim);
+        // The rows in tree order first: then a leaf's rows are contiguous for its box.
+        let mut data = Vec::with_capacity(points.len());
+        for &r in &perm {
+            data.extend_from_slice(&points[r as usize * dim..(r as usize + 1) * dim]);
+        }
+        Self::with_rows(dim, data, perm, nodes)
+    }
+
+    /// [`KdTree::new`] over rows the caller gives away: they are put in tree order in
+    /// place, so the tree costs no second copy of the points (for one-off trees over a whole
+    /// table, such as the automatic settings').
+    pub fn from_rows(mut points: Vec<f64>, dim: usize) -> KdTree {
+        let (perm, nodes) = Self::order(&points, dim);
+        // Row p takes row perm[p], following each cycle of the permutation once.
+        let mut moved = vec![false; perm.len()];
+        let mut held = vec![0.0; dim];
+        for start in 0..perm.len() {
+            if moved[start] || perm[start] as usize == start {
+                continue;
+            }
+            held.copy_from_slice(&points[start * dim..(start + 1) * dim]);
+            let mut j = start;
+            loop {
+                moved[j] = true;
+                let k = perm[j] as usize;
+                if k == start {
+                    points[j * dim..(j + 1) * dim].copy_from_slice(&held);
+                    break;
+                }
+                points.copy_within(k * dim..(k + 1) * dim, j * dim);
+                j = k;
+            }
+        }
+        Self::with_rows(dim, points, perm, nodes)
+    }
+
+    /// The tree order (`perm[pos]` is the caller's row at tree position `pos`) and the nodes.
+    fn order(points: &[f64], dim: usize) -> (Vec<u32>, Vec<Node>) {
         assert!(dim > 0, "k-d tree: dimension must be at least 1");
         assert!(points.len() % dim == 0, "k-d tree: {} values do not make rows of {dim}", points.len());
         let m = points.len() / dim;
@@ -128,13 +167,12 @@ impl KdTree {
             }
             i += 1;
         }
-        drop(loose);
-        drop(keyed);
-        // The rows in tree order first: then a leaf's rows are contiguous for its box.
-        let mut data = Vec::with_capacity(points.len());
-        for &r in &perm {
-            data.extend_from_slice(&points[r as usize * dim..(r as usize + 1) * dim]);
-        }
+        (perm, nodes)
+    }
+
+    /// The tree over `data`, the rows in tree order (`perm` and `nodes` from [`KdTree::order`]):
+    /// each node's tight box, bottom up.
+    fn with_rows(dim: usize, data: Vec<f64>, perm: Vec<u32>, nodes: Vec<Node>) -> KdTree {
         let mut bounds = vec![0.0; 2 * dim * nodes.len()];
         for n in (0..nodes.len()).rev() {
             let node = nodes[n];
@@ -489,6 +527,22 @@ mod tests {
             }
             let tree = KdTree::new(&points, dim);
             assert_eq!(tree.index, order_selecting_through_points(&points, dim), "{m} x {dim} on a grid");
+        }
+    }
+
+    #[test]
+    fn a_tree_over_given_rows_is_the_tree_over_borrowed_rows() {
+        let mut rng = SplitMix64::new(12);
+        for &(m, dim) in &[(0usize, 3usize), (1, 1), (17, 2), (1000, 3), (5000, 12)] {
+            let mut points = random_points(&mut rng, m, dim);
+            for round in [false, true] {
+                if round {
+                    points.iter_mut().for_each(|v| *v = v.round());
+                }
+                let (a, b) = (KdTree::new(&points, dim), KdTree::from_rows(points.clone(), dim));
+                assert_eq!((&a.data, &a.index, &a.bounds), (&b.data, &b.index, &b.bounds), "{m} x {dim}");
+                assert_eq!(a.nodes.len(), b.nodes.len());
+            }
         }
     }
 

@@ -70,6 +70,7 @@ try {
   await page.setInputFiles("#file-input", data);
   await page.waitForFunction(() => window.nervure.summary() !== null && window.nervure.timings().firstGraphMs !== null, null, { timeout: 900000, polling: 50 });
   const autoMs = Date.now() - started;
+  const peakLoad = Math.max(peak, rendererRss(userDataDir));
   const timings = await page.evaluate(() => window.nervure.timings());
   // Now the benchmark's settings (the lens and everything after it recomputed).
   await page.evaluate(() => { window.__phase = "benchmark build"; });
@@ -152,6 +153,7 @@ try {
     overlapChangeParts: overlapParts,
     pan,
     peakRendererBytes: peak,
+    peakLoadRendererBytes: peakLoad,
     longTasksOver50ms: longTasks.length,
     longestTaskMs: longTasks.length ? Math.max(...longTasks) : 0,
     tasksOver100ms: longTasks.filter((d) => d > 100).length,

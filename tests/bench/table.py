@@ -66,7 +66,9 @@ for r in lines:
     print(" | ".join(str(c).ljust(w) for c, w in zip(r, widths)))
 if page and not page.get("skipped") and not page.get("failed"):
     print(f"page: file input to first graph (automatic settings) {page.get('firstGraphAutoMs')} ms; re-colour {page.get('recolourMs'):.0f} ms; "
-          f"overlap change {page.get('overlapChangeMs'):.0f} ms; main-thread tasks over 100 ms: {page.get('tasksOver100ms')} (longest {page.get('longestTaskMs'):.0f} ms)")
+          f"overlap change {page.get('overlapChangeMs'):.0f} ms; main-thread tasks over 100 ms: {page.get('tasksOver100ms')} (longest {page.get('longestTaskMs'):.0f} ms"
+          + (f"; where: {', '.join(page['tasksOver100msWhere'])}" if page.get("tasksOver100msWhere") else "") + ")"
+          + (f"; tab peak by the first graph {page['peakLoadRendererBytes'] / 1e6:.0f} MB" if page.get("peakLoadRendererBytes") else ""))
 if rerun:
     print(f"engine: overlap change to {rerun.get('overlap')} on the cached stages {rerun.get('total', 0) * 1000:.0f} ms (cover {rerun.get('cover', 0) * 1000:.0f}, "
           f"clusters {rerun.get('clusters', 0) * 1000:.0f}, graph {rerun.get('graph', 0) * 1000:.0f}, layout {rerun.get('layout', 0) * 1000:.0f} ms)")

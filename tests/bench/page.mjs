@@ -70,7 +70,8 @@ try {
   await page.setInputFiles("#file-input", data);
   await page.waitForFunction(() => window.nervure.summary() !== null && window.nervure.timings().firstGraphMs !== null, null, { timeout: 900000, polling: 50 });
   const autoMs = Date.now() - started;
-  const peakLoad = Math.max(peak, rendererRss(userDataDir));
+  peak = Math.max(peak, rendererRss(userDataDir));
+  const peakLoad = peak;
   const timings = await page.evaluate(() => window.nervure.timings());
   // Now the benchmark's settings (the lens and everything after it recomputed).
   await page.evaluate(() => { window.__phase = "benchmark build"; });

@@ -16,8 +16,9 @@ fn main() {
     let path = std::env::args().nth(1).expect("usage: ingest_bench DATA.csv");
     let bytes = std::fs::read(&path).expect("cannot read the data file");
     let t0 = Instant::now();
-    // begin_table_with, push_chunk per slice.
+    // begin_table_with, expect_bytes, push_chunk per slice.
     let mut ingest = Ingest::new("bench.csv", ReadOptions::default());
+    ingest.expect_bytes(bytes.len() as u64);
     for slice in bytes.chunks(SLICE_BYTES) {
         ingest.push(slice).expect("read");
     }

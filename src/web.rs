@@ -200,6 +200,14 @@ impl Engine {
         }
     }
 
+    /// The size in bytes of the file being read, when known (a `File`'s `size`): its
+    /// columns are then sized for it instead of growing by doubling. Changes no value.
+    pub fn expect_bytes(&mut self, total: f64) {
+        if let Some(r) = self.reader.as_mut() {
+            r.expect_bytes(total as u64);
+        }
+    }
+
     /// The next bytes of the file, in order.
     pub fn push_chunk(&mut self, chunk: &[u8]) -> Result<(), JsValue> {
         let reader = self.reader.as_mut().ok_or_else(|| fail("internal: push_chunk before begin_table"))?;
@@ -550,6 +558,13 @@ impl Engine {
     /// The second table of a comparison, read like the first.
     pub fn begin_table_b(&mut self, name: &str) {
         self.reader_b = Some(TableReader::new(name, ReadOptions::default()));
+    }
+
+    /// As [`Engine::expect_bytes`], for the second table.
+    pub fn expect_bytes_b(&mut self, total: f64) {
+        if let Some(r) = self.reader_b.as_mut() {
+            r.expect_bytes(total as u64);
+        }
     }
 
     pub fn push_chunk_b(&mut self, chunk: &[u8]) -> Result<(), JsValue> {

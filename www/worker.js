@@ -97,6 +97,7 @@ function readFileInto(engine, file, name, progress) {
   engine.begin_table_with(name, readOptions);
   const reader = new FileReaderSync();
   const size = file.size;
+  engine.expect_bytes(size);
   progress("reading", 0);
   for (let offset = 0; offset < size; offset += SLICE_BYTES) {
     const buffer = reader.readAsArrayBuffer(file.slice(offset, Math.min(size, offset + SLICE_BYTES)));
@@ -355,7 +356,7 @@ async function handle(engine, msg) {
     case "suggest":
       return { value: engine.suggest(msg.settings, msg.seed) };
     case "loadB": {
-      const second = { begin_table_with: (n) => engine.begin_table_b(n), push_chunk: (c) => engine.push_chunk_b(c) };
+      const second = { begin_table_with: (n) => engine.begin_table_b(n), expect_bytes: (b) => engine.expect_bytes_b(b), push_chunk: (c) => engine.push_chunk_b(c) };
       if (msg.file) readFileInto(second, msg.file, msg.name, progress);
       else readTextInto(second, msg.text, msg.name, progress);
       return { value: engine.finish_table_b() };

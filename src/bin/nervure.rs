@@ -63,6 +63,9 @@ fn run() -> Result<(), String> {
     let name = std::path::Path::new(&a.data).file_name().map_or(a.data.clone(), |n| n.to_string_lossy().into_owned());
     let mut file = std::fs::File::open(&a.data).map_err(|e| format!("cannot open {}: {e}", a.data))?;
     let mut reader = TableReader::new(&name, ReadOptions::default());
+    if let Ok(meta) = file.metadata() {
+        reader.expect_bytes(meta.len());
+    }
     let mut buf = vec![0u8; 1 << 20];
     loop {
         let k = file.read(&mut buf).map_err(|e| format!("cannot read {}: {e}", a.data))?;

@@ -129,6 +129,21 @@ const POW10: [f64; 23] = [
 /// result equals `f64::from_str`'s. Anything else returns `None` for the general parser.
 #[inline]
 pub fn fast_number(b: &[u8]) -> Option<f64> {
+    match fast_number_prefix(b) {
+        Some((x, used)) if used == b.len() => Some(x),
+        _ => None,
+    }
+}
+
+/// [`fast_number`] on the longest start of `b` its grammar takes: the value and the bytes
+/// used. It reads `b` byte by byte exactly as [`fast_number`] reads a whole cell and stops
+/// at the first byte the grammar cannot take, so when the byte after the `used` ones ends
+/// the cell (a delimiter or a line end, neither of them a digit, sign, point or `e`),
+/// `fast_number(&b[..used])` is this same value. `None` where [`fast_number`] would give
+/// up on every cell that starts this way (too many digits, a mantissa above 2^53, an
+/// exponent without digits or out of range).
+#[inline]
+pub fn fast_number_prefix(b: &[u8]) -> Option<(f64, usize)> {
     let (neg, mut i) = match b.first() {
         Some(b'-') => (true, 1),
         Some(b'+') => (false, 1),
@@ -180,7 +195,7 @@ pub fn fast_number(b: &[u8]) -> Option<f64> {
             exp = -exp;
         }
     }
-    if i != b.len() || mantissa > (1u64 << 53) {
+    if mantissa > (1u64 << 53) {
         return None;
     }
     let e = exp - frac_digits;
@@ -194,7 +209,13 @@ pub fn fast_number(b: &[u8]) -> Option<f64> {
     } else {
         return None;
     };
-    Some(if neg { -x } else { x })
+    Some((if neg { -x } else { x }, i))
+}
+
+/// Whether `b` can stand inside a number [`fast_number_prefix`] reads: a delimiter that is
+/// not one of these bytes always ends the number before it.
+pub fn in_number_alphabet(b: u8) -> bool {
+    b.is_ascii_digit() || matches!(b, b'+' | b'-' | b'.' | b'e' | b'E')
 }
 
 /// `[+-]digits,digits[e[+-]digits]` with exactly one comma and no point, read with the
@@ -298,6 +319,40 @@ impl ColumnBuilder {
     /// Infinite cells met while the column held numbers.
     pub fn non_finite(&self) -> usize {
         self.non_finite
+    }
+
+    /// When the column has room for fewer than `expected` cells in all, makes room for
+    /// `target` (the reader's estimate from the file's size, see `Body::plan_room`): a
+    /// column that grows by doubling copies its values each time and may end with up to
+    /// half of its memory unused.
+    pub fn plan_room(&mut self, expected: usize, target: usize) {
+        fn room<T>(v: &mut Vec<T>, expected: usize, target: usize) {
+            if v.capacity() < expected {
+                v.reserve_exact(target.saturating_sub(v.len()));
+            }
+        }
+        match &mut self.kind {
+            Kind::Number(values) => room(values, expected, target),
+            Kind::Category { codes, .. } => room(codes, expected, target),
+        }
+    }
+
+    /// Whether a cell that [`fast_number`] reads (with no spaces around it) may be stored
+    /// with [`Self::push_parsed`]: the column holds numbers and no missing token reads as
+    /// a number (otherwise [`Self::push`] must compare the cell with the tokens).
+    #[inline]
+    pub fn takes_parsed(&self, missing: &MissingTokens) -> bool {
+        self.is_number() && !missing.any_numeric
+    }
+
+    /// Appends a value [`fast_number`] read from a whole cell, exactly as [`Self::push`]
+    /// would store that cell; only where [`Self::takes_parsed`] said so.
+    #[inline]
+    pub fn push_parsed(&mut self, x: f64) {
+        match &mut self.kind {
+            Kind::Number(values) => values.push(x),
+            Kind::Category { .. } => unreachable!("push_parsed on a category column"),
+        }
     }
 
     /// Appends one cell; `row` is the data row counted from 1 (for `first_text`).

@@ -27,11 +27,21 @@ pub struct Ingest {
     /// Options of the CSV reader (the other formats have their own rules).
     options: ReadOptions,
     state: State,
+    /// The file's size when known (see [`TableReader::expect_bytes`]); 0 otherwise.
+    expected_bytes: u64,
 }
 
 impl Ingest {
     pub fn new(name: &str, options: ReadOptions) -> Self {
-        Ingest { name: name.to_string(), options, state: State::Undecided(Vec::new()) }
+        Ingest { name: name.to_string(), options, state: State::Undecided(Vec::new()), expected_bytes: 0 }
+    }
+
+    /// The file's size in bytes, when known: a CSV file's columns are sized for it.
+    pub fn expect_bytes(&mut self, total: u64) {
+        self.expected_bytes = total;
+        if let State::Csv(r) = &mut self.state {
+            r.expect_bytes(total);
+        }
     }
 
     pub fn push(&mut self, chunk: &[u8]) -> Result<()> {
@@ -60,6 +70,7 @@ impl Ingest {
             State::Icartt(head)
         } else {
             let mut r = TableReader::new(&self.name, self.options.clone());
+            r.expect_bytes(self.expected_bytes);
             r.push(&head)?;
             State::Csv(r)
         };

@@ -179,6 +179,115 @@ fn plain_lines_read_as_csv_core_reads_them() {
     }
 }
 
+/// Lines typed as they are split (numbers read where they stand) give the table
+/// `csv-core` gives, cell for cell and with the same report: a seeded file whose cells mix
+/// plain numbers with those the fast parser gives back (20 digits, exponents of 5 digits,
+/// a bare sign or exponent, spaces around, trailing letters, infinite values, decimal
+/// commas), missing tokens, text that turns a number column into categories part-way,
+/// Windows-1252 bytes, quoted cells, CRLF and blank lines; with comma and semicolon
+/// delimiters, with a missing token that reads as a number, with text read as missing
+/// (number columns that meet every kind of cell), and with the file's size
+/// given (too small, exact and too large: room in the columns changes no value). Read
+/// whole and at chunk sizes 1 to 40 (`csv-core`'s state machine is the reference).
+#[test]
+fn typed_lines_read_as_csv_core_reads_them() {
+    let cells = [
+        "1.5", "-0.25", "+3", "42", "7e3", "2.5E-4", "1.", ".5", "0", "-0", "12345678901234567890", "1e99999", "1e", "-",
+        "+.", " 4.5", "4.5 ", "4.5x", "inf", "-1e999", "NA", "", "NaN", "1,5", "-9999", "x", "caf\u{e9}", "\"6\"",
+        "\"a,b\"", "9007199254740993", "3e-23",
+    ];
+    // Cells that keep a column numeric (numbers, missing or infinite), for column a.
+    let numeric = ["12345678901234567890", "1e99999", "9007199254740993", "3e-23", " 4.5", "4.5 ", "inf", "", "NA", "-9999", "+3", "1.", ".5", "-0"];
+    let configurations = [
+        (",", vec!["", "NA"], vec![]),
+        (";", vec!["", "NA"], vec![]),
+        (",", vec!["", "NA", "-9999"], vec![]),
+        // Text read as missing keeps c and d numeric while every kind of cell arrives.
+        (",", vec!["", "NA"], vec!["c", "d"]),
+        (";", vec!["", "NA"], vec!["c", "d"]),
+    ];
+    for (delimiter, missing, as_missing) in configurations {
+        let mut rng = crate::rng::SplitMix64::new(11);
+        let mut text = format!("a{d}b{d}c{d}d\n", d = delimiter);
+        for row in 0..600 {
+            let ncols = 4;
+            for k in 0..ncols {
+                if k > 0 {
+                    text.push_str(delimiter);
+                }
+                // Columns a and b mostly plain numbers; b meets text only near the end; c and d anything.
+                let cell = match k {
+                    0 | 1 if rng.below(8) != 0 => format!("{:.3}", rng.normal() * 50.0),
+                    0 => numeric[rng.below(numeric.len())].to_string(),
+                    1 if row < 500 => "2".to_string(),
+                    _ => cells[rng.below(cells.len())].to_string(),
+                };
+                // A decimal comma is a cell of its own only where commas do not separate.
+                text.push_str(if delimiter == "," && cell == "1,5" { "1.5" } else { &cell });
+            }
+            text.push_str(["\n", "\n", "\n", "\r\n", "\n\n"][rng.below(5)]);
+        }
+        let mut bytes = text.into_bytes();
+        // A Windows-1252 byte in a cell (é), not valid UTF-8.
+        let at = bytes.windows(4).position(|w| w == b"caf\xC3").unwrap_or(0);
+        if at > 0 {
+            bytes.remove(at + 4);
+            bytes[at + 3] = 0xE9;
+        }
+        let options = ReadOptions {
+            missing_tokens: missing.iter().map(|t| t.to_string()).collect(),
+            text_as_missing: as_missing.iter().map(|t| t.to_string()).collect(),
+            ..ReadOptions::default()
+        };
+        let read = |size: usize, how: &str, expect: u64| {
+            let mut r = TableReader::new("t.csv", options.clone());
+            r = match how {
+                "core" => r.csv_core_only(),
+                "untyped" => r.untyped_lines(),
+                _ => r,
+            };
+            r.expect_bytes(expect);
+            for chunk in bytes.chunks(size) {
+                r.push(chunk).unwrap();
+            }
+            r.finish_with_report().unwrap()
+        };
+        let (reference, report) = read(bytes.len(), "core", 0);
+        assert_eq!(reference.n_rows, 600);
+        assert!(reference.column("a").unwrap().as_numbers().is_some(), "a stays numeric");
+        assert!(reference.column("b").unwrap().first_text.is_some(), "b turns into categories part-way");
+        let n = bytes.len() as u64;
+        for size in (1..=40).chain([4096, bytes.len()]) {
+            for (how, expect) in [("typed", 0), ("typed", n / 3), ("typed", n), ("typed", 5 * n), ("untyped", n)] {
+                let what = format!("delimiter {delimiter:?}, missing {missing:?}, text as missing {as_missing:?}, {how} lines, size {expect}, chunks of {size}");
+                let (t, r) = read(size, how, expect);
+                assert_same_table(&reference, &t, &what);
+                assert_eq!(report, r, "{what}");
+            }
+        }
+    }
+}
+
+/// Given the file's size, the number columns are sized for the rows it holds: a little
+/// more than needed, not twice as much (project rule, see `Body::plan_room`).
+#[test]
+fn expected_size_gives_columns_their_room() {
+    let mut text = String::from("x,y\n");
+    for i in 0..100_000 {
+        text.push_str(&format!("{i:06},{}\n", i % 7));
+    }
+    let mut r = TableReader::new("t.csv", ReadOptions::default());
+    r.expect_bytes(text.len() as u64);
+    for chunk in text.as_bytes().chunks(1 << 16) {
+        r.push(chunk).unwrap();
+    }
+    let t = r.finish().unwrap();
+    let ColumnData::Number(x) = &t.column("x").unwrap().data else { panic!("x is numeric") };
+    assert_eq!(x.len(), 100_000);
+    // Growing by doubling would end at 131 072.
+    assert!(x.capacity() < 110_000, "capacity {} for 100 000 rows", x.capacity());
+}
+
 #[test]
 fn corpus_tables_hold_the_expected_cells() {
     let c = corpus();

@@ -4,7 +4,7 @@
 //   node tests/bench/ingest.mjs DATA.csv [--html PAGE.html] [--native BINARY] [--no-chromium] [--repeat N]
 //
 // Each runner does what the page does between "file chosen" and "table shown": the file in
-// 4 MiB slices through begin_table_with / push_chunk, then finish_table (the table checked
+// 4 MiB slices through begin_table_with / expect_bytes / push_chunk, then finish_table (the table checked
 // against the automatic settings, assembled, summarised) and the worker's table message
 // (auto_settings, column_summaries). Times are seconds per phase; `mbPerS` is the file's
 // size over the whole load path, `parseMbPerS` over the push_chunk calls alone (parsing
@@ -52,11 +52,12 @@ function workerSource() {
 
 /** The phases, timed the same way in node and in the worker (this text runs in both). */
 const PHASES = `
-function timeLoad(engine, slices, readSlice) {
+function timeLoad(engine, slices, readSlice, size) {
   const t = { readS: 0, pushS: 0 };
   const now = () => performance.now() / 1000;
   let t0 = now();
   engine.begin_table_with("bench.csv", null);
+  if (engine.expect_bytes) engine.expect_bytes(size);
   for (let i = 0; i < slices; i++) {
     const a = now();
     const bytes = readSlice(i);
@@ -108,7 +109,7 @@ async function runNode() {
   const runs = [];
   for (let r = 0; r < repeat; r++) {
     const engine = new globalThis.wasm_bindgen.Engine();
-    runs.push(globalThis.timeLoad(engine, slices.length, (i) => slices[i]));
+    runs.push(globalThis.timeLoad(engine, slices.length, (i) => slices[i], size));
     engine.free();
   }
   return best(runs);
@@ -128,7 +129,7 @@ self.onmessage = async function (event) {
   for (let r = 0; r < event.data.repeat; r++) {
     const engine = new wasm_bindgen.Engine();
     const n = Math.ceil(file.size / SLICE_BYTES);
-    runs.push(timeLoad(engine, n, (i) => new Uint8Array(reader.readAsArrayBuffer(file.slice(i * SLICE_BYTES, Math.min(file.size, (i + 1) * SLICE_BYTES))))));
+    runs.push(timeLoad(engine, n, (i) => new Uint8Array(reader.readAsArrayBuffer(file.slice(i * SLICE_BYTES, Math.min(file.size, (i + 1) * SLICE_BYTES)))), file.size));
     engine.free();
   }
   self.postMessage(runs);
@@ -173,7 +174,7 @@ function runNative() {
   }
 }
 
-const out = { bytes: size, html: htmlPath };
+const out = { bytes: size, html: htmlPath, repeat };
 out.native = withRates(runNative());
 out.node = withRates(await runNode());
 if (!noChromium) out.chromium = withRates(await runChromium());

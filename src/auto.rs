@@ -28,6 +28,12 @@ use crate::settings::*;
 use crate::table::Table;
 
 pub const AUTO_MAX_COLUMNS: usize = 12;
+
+/// Leaf size of the k-d tree over the whole table that finds the sample's neighbours. A
+/// few hundred queries over up to millions of rows: a shallower tree is quicker to build
+/// than the deeper one saves in queries (1.5 million rows × 12 columns: build and queries
+/// 0.75 s with leaves of 16, 0.57 s with 256, natively). The answer is the same.
+const AUTO_LEAF_SIZE: usize = 256;
 const MIN_POINTS: usize = 5;
 
 pub fn auto_settings(table: &Table) -> Result<Settings> {
@@ -121,7 +127,7 @@ pub fn knn_distance_quantile(points: Vec<f64>, dim: usize, k: usize, q: f64, sam
     let chosen = SplitMix64::new(seed).sample_indices(n, sample);
     let queries: Vec<f64> = chosen.iter().flat_map(|&i| points[i * dim..(i + 1) * dim].iter().copied()).collect();
     let k = k.min(n);
-    let tree = KdTree::from_rows(points, dim);
+    let tree = KdTree::from_rows(points, dim, AUTO_LEAF_SIZE);
     let mut near = Vec::with_capacity(k);
     let mut kth: Vec<f64> = queries
         .chunks_exact(dim)

@@ -68,7 +68,7 @@ impl KdTree {
     /// more than `u32::MAX` rows: these are programming errors upstream, not user input.
     /// Coordinates must be finite (the points stage removes missing values).
     pub fn new(points: &[f64], dim: usize) -> KdTree {
-        let (perm, nodes) = Self::order(points, dim);
+        let (perm, nodes) = Self::order(points, dim, LEAF_SIZE);
         // The rows in tree order first: then a leaf's rows are contiguous for its box.
         let mut data = Vec::with_capacity(points.len());
         for &r in &perm {
@@ -77,11 +77,15 @@ impl KdTree {
         Self::with_rows(dim, data, perm, nodes)
     }
 
-    /// [`KdTree::new`] over rows the caller gives away: they are put in tree order in
-    /// place, so the tree costs no second copy of the points (for one-off trees over a whole
-    /// table, such as the automatic settings').
-    pub fn from_rows(mut points: Vec<f64>, dim: usize) -> KdTree {
-        let (perm, nodes) = Self::order(&points, dim);
+    /// [`KdTree::new`] over rows the caller gives away, with leaves of at most `leaf_size`
+    /// points: the rows are put in tree order in place, so the tree costs no second copy
+    /// of the points (for one-off trees over a whole table, such as the automatic
+    /// settings'). Larger leaves make a shallower tree that is quicker to build (each level
+    /// costs a pass over every row) for the price of longer scans in each leaf a query
+    /// visits: a good trade for a few hundred queries over a million rows. Answers do not
+    /// depend on the leaf size.
+    pub fn from_rows(mut points: Vec<f64>, dim: usize, leaf_size: usize) -> KdTree {
+        let (perm, nodes) = Self::order(&points, dim, leaf_size.max(1));
         // Row p takes row perm[p], following each cycle of the permutation once.
         let mut moved = vec![false; perm.len()];
         let mut held = vec![0.0; dim];
@@ -106,7 +110,7 @@ impl KdTree {
     }
 
     /// The tree order (`perm[pos]` is the caller's row at tree position `pos`) and the nodes.
-    fn order(points: &[f64], dim: usize) -> (Vec<u32>, Vec<Node>) {
+    fn order(points: &[f64], dim: usize, leaf_size: usize) -> (Vec<u32>, Vec<Node>) {
         assert!(dim > 0, "k-d tree: dimension must be at least 1");
         assert!(points.len() % dim == 0, "k-d tree: {} values do not make rows of {dim}", points.len());
         let m = points.len() / dim;
@@ -118,7 +122,7 @@ impl KdTree {
         // While splitting, each node keeps a loose box: its parent's box cut at the split
         // value (enough to choose the widest axis). Tight boxes are made afterwards, bottom
         // up, from the leaves' points: O(m d) in all instead of a scan per level.
-        let mut loose: Vec<f64> = Vec::with_capacity(4 * dim * (m / LEAF_SIZE + 1));
+        let mut loose: Vec<f64> = Vec::with_capacity(4 * dim * (m / leaf_size + 1));
         loose.extend(std::iter::repeat(f64::INFINITY).take(dim));
         loose.extend(std::iter::repeat(f64::NEG_INFINITY).take(dim));
         for row in points.chunks_exact(dim) {
@@ -133,7 +137,7 @@ impl KdTree {
         while i < nodes.len() {
             let Node { start, end, .. } = nodes[i];
             let (s, e) = (start as usize, end as usize);
-            if e - s > LEAF_SIZE {
+            if e - s > leaf_size {
                 let base = 2 * dim * i;
                 let axis = (0..dim)
                     .max_by(|&a, &b| {
@@ -539,7 +543,7 @@ mod tests {
                 if round {
                     points.iter_mut().for_each(|v| *v = v.round());
                 }
-                let (a, b) = (KdTree::new(&points, dim), KdTree::from_rows(points.clone(), dim));
+                let (a, b) = (KdTree::new(&points, dim), KdTree::from_rows(points.clone(), dim, LEAF_SIZE));
                 assert_eq!((&a.data, &a.index, &a.bounds), (&b.data, &b.index, &b.bounds), "{m} x {dim}");
                 assert_eq!(a.nodes.len(), b.nodes.len());
             }
@@ -585,11 +589,12 @@ mod tests {
     fn knn_queries_equal_brute_force() {
         let mut rng = SplitMix64::new(12);
         let mut got = Vec::new();
-        for &dim in &[1usize, 2, 3, 7] {
+        for &dim in &[1usize, 2, 3, 7, 12] {
             for &m in &[1usize, 10, 500, 3000] {
                 let pts = random_points(&mut rng, m, dim);
-                let tree = KdTree::new(&pts, dim);
-                for &k in &[1usize, 5, 16, 40] {
+                // The default leaves, and the large ones the automatic settings use.
+                let trees = [KdTree::new(&pts, dim), KdTree::from_rows(pts.clone(), dim, 256)];
+                for (tree, &k) in trees.iter().flat_map(|t| [1usize, 5, 16, 40].iter().map(move |k| (t, k))) {
                     for _ in 0..20 {
                         let q: Vec<f64> = (0..dim).map(|_| rng.next_f64() * 12.0 - 6.0).collect();
                         tree.nearest(&q, k, &mut got);

@@ -33,11 +33,21 @@ const CIVIDIS = (function () {
   return rgb;
 })();
 
+/** The 256 entries as "rgb(r, g, b)" strings, made once: a graph's fills are thousands
+ *  of look-ups, not thousands of new strings. */
+const CIVIDIS_CSS = cssColours(CIVIDIS);
+
+/** "rgb(r, g, b)" strings of a table of 8-bit channels (r, g, b, r, g, b, ...). */
+function cssColours(rgb) {
+  const out = [];
+  for (let i = 0; i < rgb.length; i += 3) out.push("rgb(" + rgb[i] + ", " + rgb[i + 1] + ", " + rgb[i + 2] + ")");
+  return out;
+}
+
 /** Colour for t in [0, 1] as an "rgb(r, g, b)" string; NaN gives the no-value grey. */
 function colourAt(t) {
   if (!Number.isFinite(t)) return NO_VALUE_COLOUR;
-  const i = Math.max(0, Math.min(255, Math.round(t * 255))) * 3;
-  return "rgb(" + CIVIDIS[i] + ", " + CIVIDIS[i + 1] + ", " + CIVIDIS[i + 2] + ")";
+  return CIVIDIS_CSS[Math.max(0, Math.min(255, Math.round(t * 255)))];
 }
 
 /** Grey for nodes with no value in the colouring column (deliberately outside the map). */

@@ -43,6 +43,11 @@ function GraphView(canvas, callbacks) {
   this.layer = null;        // {canvas, key, ox, oy, w, h}
   this.bounds = null;       // the layout's world bounding box
   this.drawTotalMs = 0;     // and all drawings together
+  this.sliceWork = 2000;    // work a slice of the layer draws (see _itemWork); learnt in _sliceDone
+  this.frameStarted = 0;    // performance.now() when this frame's drawing began
+  this.layerPending = false; // the layer is still being drawn, slice by slice
+  this.lastLayerMs = null;  // milliseconds the last finished layer took, its slices together
+  this.maxShared = 1;       // the most rows an edge's two nodes share (edge widths)
   this.pending = false;
   this.fitted = false;     // true until the user pans or zooms: resizes then refit
   this.insetTop = 0;       // CSS pixels at the top kept clear (the legend sits there)
@@ -63,13 +68,12 @@ GraphView.prototype.setGraph = function (graph, keepView) {
   this.cursor = null;
   this.hovered = null;
   this.highlight = null;
+  let maxShared = 1;
+  if (graph) for (const v of graph.edgeShared) maxShared = Math.max(maxShared, v);
+  this.maxShared = maxShared;
   this._sizeDiscs();
   // Draw big discs first so small ones stay visible on top of them.
-  const n = graph ? graph.nodeSizes.length : 0;
-  const order = new Uint32Array(n);
-  for (let i = 0; i < n; i++) order[i] = i;
-  if (graph) order.sort((a, b) => graph.nodeSizes[b] - graph.nodeSizes[a] || a - b);
-  this.order = order;
+  this.order = largestFirst(graph ? graph.nodeSizes : []);
   this.baseVersion++;
   if (!keepView) this.fit();
   this.requestDraw();
@@ -189,6 +193,8 @@ GraphView.prototype.resize = function () {
   const rect = this.canvas.getBoundingClientRect();
   const dpr = window.devicePixelRatio || 1;
   const oldW = this.width, oldH = this.height;
+  // Nothing changed (draw() may have taken the new size already): the layer stays.
+  if (rect.width === oldW && rect.height === oldH && dpr === this.dpr) return;
   this.width = rect.width;
   this.height = rect.height;
   this.canvas.width = Math.max(1, Math.round(rect.width * dpr));
@@ -227,6 +233,12 @@ GraphView.prototype.requestDraw = function () {
 };
 
 GraphView.prototype.draw = function () {
+  this.frameStarted = performance.now();
+  // A size changed since the last frame (the progress bar came or went as a build ended)
+  // is taken before drawing, so the graph is drawn once, at the size it is shown at, not
+  // once more when the resize observer reports it after this frame.
+  const rect = this.canvas.getBoundingClientRect();
+  if (rect.width !== this.width || rect.height !== this.height || (window.devicePixelRatio || 1) !== this.dpr) this.resize();
   const started = performance.now();
   this._draw();
   this.lastDrawMs = performance.now() - started;
@@ -249,9 +261,16 @@ GraphView.prototype._worldBounds = function () {
 /** Copies the layer (edges, discs, highlight) into the view, drawing the layer first when
  *  what it shows or the scale changed. False when the graph at this scale is too large
  *  for a layer (then the caller draws directly). The layer is placed so that a pan by
- *  whole CSS pixels copies it at whole device pixels: the picture is the same as drawn. */
+ *  whole CSS pixels copies it at whole device pixels: the picture is the same as drawn.
+ *
+ *  A layer is drawn in slices, one per frame, each about SLICE_MS long (the edges, then
+ *  the discs largest first, then the highlight: the order of a drawing in one go, so the
+ *  finished layer is the same picture). A graph of 19 000 nodes takes about 150 ms to draw;
+ *  in one frame that would hold the page still, in slices it fills in over a few frames
+ *  while the page stays responsive. `layerPending` is true until the last slice is in. */
 GraphView.prototype._blitBase = function (ctx) {
   const g = this.graph, n = g.nodeSizes.length;
+  this.layerPending = false;
   if (n === 0) return true;
   const s = this.view.scale, dpr = this.dpr, b = this._worldBounds();
   let maxR = 0;
@@ -259,14 +278,18 @@ GraphView.prototype._blitBase = function (ctx) {
   const pad = maxR + 8;
   const w = (b.x1 - b.x0) * s + 2 * pad, h = (b.y1 - b.y0) * s + 2 * pad;
   let L = this.layer;
+  const started = performance.now();
   // While the wheel turns, the layer drawn at an earlier scale is copied stretched (a
-  // preview, a little blurred); the exact picture follows once the wheel rests.
+  // preview, a little blurred); the exact picture follows once the wheel rests. A layer
+  // still being drawn goes on at its own scale meanwhile.
   if (L && this.zooming && L.version === this.baseVersion && L.dpr === dpr) {
     const k = s / L.s;
     if (k >= 1 / 8 && k <= 8) {
+      const work = L.next < L.total ? this._drawSlice(L) : 0;
       ctx.setTransform(1, 0, 0, 1, 0, 0);
       ctx.drawImage(L.canvas, (this.view.x - L.ox * k) * dpr, (this.view.y - L.oy * k) * dpr, L.cw * k, L.ch * k);
       ctx.setTransform(dpr, 0, 0, dpr, 0, 0);
+      this._sliceDone(L, work, started);
       this.previewCount++;
       return true;
     }
@@ -285,47 +308,100 @@ GraphView.prototype._blitBase = function (ctx) {
     const lctx = canvas.getContext("2d");
     lctx.setTransform(dpr, 0, 0, dpr, 0, 0);
     lctx.clearRect(0, 0, cw / dpr, ch / dpr);
-    L = this.layer = { canvas, key, ox: this.view.x - bx, oy: this.view.y - by, cw, ch, s, dpr, version: this.baseVersion };
-    this._drawBase(lctx, s, L.ox, L.oy, cw / dpr, ch / dpr);
+    L = this.layer = {
+      canvas, ctx: lctx, key, ox: this.view.x - bx, oy: this.view.y - by, cw, ch, s, dpr, version: this.baseVersion,
+      next: 0, total: g.edgeA.length + n + 1, ms: 0,
+    };
   }
+  const work = L.next < L.total ? this._drawSlice(L) : 0;
   ctx.setTransform(1, 0, 0, 1, 0, 0);
   ctx.drawImage(L.canvas, Math.round((this.view.x - L.ox) * dpr), Math.round((this.view.y - L.oy) * dpr));
   ctx.setTransform(dpr, 0, 0, dpr, 0, 0);
+  this._sliceDone(L, work, started);
   return true;
+};
+
+/** Milliseconds one slice of a layer aims at (drawing and copying together); the frame's
+ *  own work (style, layout, paint of the page) comes on top. */
+GraphView.SLICE_MS = 10;
+
+/** Work of drawing item `k` of the layer, in units of about one edge: a disc costs more
+ *  the bigger it is (two fills of its area), so the first discs (the largest) are dear. */
+GraphView.prototype._itemWork = function (k, E, dpr) {
+  const d = k - E;
+  if (d < 0 || d >= this.order.length) return 1;
+  const r = this.radii[this.order[d]] * dpr;
+  return 1 + r * r / 64;
+};
+
+/** Draws the layer's next slice of items; returns the work drawn. Time this frame already
+ *  spent (laying the page out after a build changed the panels) comes off the slice. */
+GraphView.prototype._drawSlice = function (L) {
+  const spent = this.frameStarted ? performance.now() - this.frameStarted : 0;
+  const share = Math.max(0, Math.min(1, (GraphView.SLICE_MS - spent) / GraphView.SLICE_MS));
+  const budget = this.sliceWork * share, E = this.graph.edgeA.length;
+  const from = L.next;
+  let to = from, work = 0;
+  // At least a few items, so a run of busy frames still ends the layer.
+  while (to < L.total && (work < budget || to - from < 16)) work += this._itemWork(to++, E, L.dpr);
+  this._drawItems(L.ctx, L.s, L.ox, L.oy, L.cw / L.dpr, L.ch / L.dpr, from, to);
+  L.next = to;
+  return work;
+};
+
+/** After a slice was drawn and the layer copied: learns how much work fits in SLICE_MS
+ *  (the copy is where the canvas turns the slice into pixels, so it is timed with it) and
+ *  asks for the next frame when the layer is not finished. */
+GraphView.prototype._sliceDone = function (L, work, started) {
+  if (work > 0) {
+    const ms = performance.now() - started;
+    L.ms += ms;
+    if (work >= 64 && ms >= 1) this.sliceWork = Math.max(256, Math.min(1e7, work * GraphView.SLICE_MS / ms));
+    if (L.next >= L.total) this.lastLayerMs = L.ms;
+  }
+  this.layerPending = L.next < L.total;
+  if (this.layerPending) this.requestDraw();
 };
 
 /** Edges, discs (largest first; with a selection or lit nodes the others dimmed) and the
  *  highlight, with screen = world * s + (ox, oy), into a w × h box (CSS pixels); what
  *  lies wholly outside the box is skipped. */
 GraphView.prototype._drawBase = function (ctx, s, ox, oy, w, h) {
-  const g = this.graph, p = g.positions;
-  let maxShared = 1;
-  for (const v of g.edgeShared) maxShared = Math.max(maxShared, v);
-  ctx.lineCap = "round";
-  ctx.strokeStyle = "rgba(62, 74, 86, 0.42)";
-  const m = 8;
-  for (let e = 0; e < g.edgeA.length; e++) {
-    const a = g.edgeA[e], b = g.edgeB[e];
-    const xa = p[2 * a] * s + ox, ya = p[2 * a + 1] * s + oy, xb = p[2 * b] * s + ox, yb = p[2 * b + 1] * s + oy;
-    if ((xa < -m && xb < -m) || (xa > w + m && xb > w + m) || (ya < -m && yb < -m) || (ya > h + m && yb > h + m)) continue;
-    ctx.lineWidth = 1 + 5 * Math.sqrt(g.edgeShared[e] / maxShared);
-    ctx.beginPath();
-    ctx.moveTo(xa, ya);
-    ctx.lineTo(xb, yb);
-    ctx.stroke();
+  this._drawItems(ctx, s, ox, oy, w, h, 0, this.graph.edgeA.length + this.order.length + 1);
+};
+
+/** Items `from` to `to` (exclusive) of the drawing _drawBase makes: items 0 to E - 1 are
+ *  the edges, the next n the discs in drawing order, the last one the highlight. */
+GraphView.prototype._drawItems = function (ctx, s, ox, oy, w, h, from, to) {
+  const g = this.graph, p = g.positions, E = g.edgeA.length, n = this.order.length;
+  if (from < E) {
+    const maxShared = this.maxShared;
+    ctx.lineCap = "round";
+    ctx.strokeStyle = "rgba(62, 74, 86, 0.42)";
+    const m = 8;
+    for (let e = from; e < Math.min(E, to); e++) {
+      const a = g.edgeA[e], b = g.edgeB[e];
+      const xa = p[2 * a] * s + ox, ya = p[2 * a + 1] * s + oy, xb = p[2 * b] * s + ox, yb = p[2 * b + 1] * s + oy;
+      if ((xa < -m && xb < -m) || (xa > w + m && xb > w + m) || (ya < -m && yb < -m) || (ya > h + m && yb > h + m)) continue;
+      ctx.lineWidth = 1 + 5 * Math.sqrt(g.edgeShared[e] / maxShared);
+      ctx.beginPath();
+      ctx.moveTo(xa, ya);
+      ctx.lineTo(xb, yb);
+      ctx.stroke();
+    }
   }
   // Each disc is drawn by ringedDisc (a graph of thousands of nodes spends most of a full
   // drawing on its discs); a faded disc is faded over its white one.
   const dim = this.selection.size > 0 || !!this.lit;
   const ring = GraphView.RING / 2;
-  for (let k = 0; k < this.order.length; k++) {
+  for (let k = Math.max(0, from - E); k < Math.min(n, to - E); k++) {
     const i = this.order[k];
     const x = p[2 * i] * s + ox, y = p[2 * i + 1] * s + oy, r = this.radii[i];
     if (x + r < -2 || x - r > w + 2 || y + r < -2 || y - r > h + 2) continue;
     const faded = dim && !this.selection.has(i) && !(this.lit && this.lit[i]);
     ringedDisc(ctx, x, y, r, ring, this.fills ? this.fills[i] : "rgb(120, 134, 150)", faded ? 0.35 : 1);
   }
-  if (this.highlight) this._drawHighlight(ctx, s, ox, oy);
+  if (to > E + n && this.highlight) this._drawHighlight(ctx, s, ox, oy);
 };
 
 /** Width (CSS pixels) of the white ring around each disc. */
@@ -378,7 +454,7 @@ GraphView.prototype._draw = function () {
     ctx.setLineDash([]);
   }
   this.drawCount++;
-  if (this.callbacks.onDraw) this.callbacks.onDraw(this.drawCount);
+  if (this.callbacks.onDraw) this.callbacks.onDraw(this.drawCount, !this.layerPending);
 };
 
 GraphView.prototype._listen = function () {
@@ -500,12 +576,65 @@ GraphView.prototype.nextNode = function (from, dir) {
   return best;
 };
 
+/** For the tests: whether the finished layer is, pixel for pixel, the drawing _drawBase
+ *  makes in one go of what the view shows now (null while a layer is being drawn, or when
+ *  there is none or it shows an earlier state). */
+GraphView.prototype.layerMatchesOneGo = function () {
+  const L = this.layer;
+  if (!L || L.next < L.total || L.version !== this.baseVersion) return null;
+  const c = document.createElement("canvas");
+  c.width = L.cw;
+  c.height = L.ch;
+  const x = c.getContext("2d");
+  x.setTransform(L.dpr, 0, 0, L.dpr, 0, 0);
+  this._drawBase(x, L.s, L.ox, L.oy, L.cw / L.dpr, L.ch / L.dpr);
+  return samePixels(L.canvas, c);
+};
+
+/** Whether two canvases of one size hold the same pixels. */
+function samePixels(a, b) {
+  if (a.width !== b.width || a.height !== b.height) return false;
+  const p = a.getContext("2d").getImageData(0, 0, a.width, a.height).data;
+  const q = b.getContext("2d").getImageData(0, 0, b.width, b.height).data;
+  for (let i = 0; i < p.length; i++) if (p[i] !== q[i]) return false;
+  return true;
+}
+
+/** Node indices by size, largest first, ties by index: the order discs are drawn in. Each
+ *  node is one number, (largest - size) · n + index, and the numbers are sorted as numbers,
+ *  with no comparison function (which took 5 to 10 ms at 19 000 nodes); when those numbers
+ *  would not all be exact doubles, a sort with a comparison function. */
+function largestFirst(sizes) {
+  const n = sizes.length;
+  let most = 0;
+  for (let i = 0; i < n; i++) most = Math.max(most, sizes[i]);
+  const order = new Uint32Array(n);
+  if ((most + 1) * n < Number.MAX_SAFE_INTEGER) {
+    const keys = new Float64Array(n);
+    for (let i = 0; i < n; i++) keys[i] = (most - sizes[i]) * n + i;
+    keys.sort();
+    for (let k = 0; k < n; k++) order[k] = keys[k] % n;
+  } else {
+    for (let i = 0; i < n; i++) order[i] = i;
+    order.sort((a, b) => sizes[b] - sizes[a] || a - b);
+  }
+  return order;
+}
+
 /** Draws a stored graph (positions, sizes, edges, fills) fitted into a w × h box of a 2-D
  *  context, with no interaction: history thumbnails, the comparison view, the PNG export. */
 function drawGraphStatic(ctx, w, h, graph, fills, pad) {
   ctx.clearRect(0, 0, w, h);
-  const n = graph.nodeSizes.length;
-  if (n === 0) return;
+  const d = staticDrawing(w, h, graph, fills, pad);
+  d.draw(ctx, 0, d.total);
+}
+
+/** The drawing drawGraphStatic makes, as `total` items drawn in order by `draw(ctx, from,
+ *  to)`: the edges, then the discs largest first. Drawn a range at a time (history
+ *  thumbnails of big graphs are drawn in slices), the items make the same picture. */
+function staticDrawing(w, h, graph, fills, pad) {
+  const n = graph.nodeSizes.length, E = graph.edgeA.length;
+  if (n === 0) return { total: 0, draw: function () {} };
   const p = graph.positions;
   let x0 = Infinity, x1 = -Infinity, y0 = Infinity, y1 = -Infinity, maxSize = 1;
   for (let i = 0; i < n; i++) {
@@ -519,21 +648,29 @@ function drawGraphStatic(ctx, w, h, graph, fills, pad) {
   const ox = w / 2 - s * (x0 + x1) / 2, oy = h / 2 - s * (y0 + y1) / 2;
   let maxShared = 1;
   for (const v of graph.edgeShared) maxShared = Math.max(maxShared, v);
-  ctx.strokeStyle = "rgba(62, 74, 86, 0.42)";
-  ctx.lineCap = "round";
-  for (let e = 0; e < graph.edgeA.length; e++) {
-    const a = graph.edgeA[e], b = graph.edgeB[e];
-    ctx.lineWidth = Math.max(0.6, (1 + 5 * Math.sqrt(graph.edgeShared[e] / maxShared)) * maxR / 30);
-    ctx.beginPath();
-    ctx.moveTo(p[2 * a] * s + ox, p[2 * a + 1] * s + oy);
-    ctx.lineTo(p[2 * b] * s + ox, p[2 * b + 1] * s + oy);
-    ctx.stroke();
-  }
-  const order = Array.from({ length: n }, (_, i) => i).sort((a, b) => graph.nodeSizes[b] - graph.nodeSizes[a] || a - b);
-  for (const i of order) {
-    const r = Math.max(1.5, maxR * Math.sqrt(graph.nodeSizes[i] / maxSize));
-    ringedDisc(ctx, p[2 * i] * s + ox, p[2 * i + 1] * s + oy, r, 0.4, fills ? fills[i] : "rgb(120, 134, 150)", 1);
-  }
+  const order = largestFirst(graph.nodeSizes);
+  return {
+    total: E + n,
+    draw: function (ctx, from, to) {
+      if (from < E) {
+        ctx.strokeStyle = "rgba(62, 74, 86, 0.42)";
+        ctx.lineCap = "round";
+      }
+      for (let e = from; e < Math.min(E, to); e++) {
+        const a = graph.edgeA[e], b = graph.edgeB[e];
+        ctx.lineWidth = Math.max(0.6, (1 + 5 * Math.sqrt(graph.edgeShared[e] / maxShared)) * maxR / 30);
+        ctx.beginPath();
+        ctx.moveTo(p[2 * a] * s + ox, p[2 * a + 1] * s + oy);
+        ctx.lineTo(p[2 * b] * s + ox, p[2 * b + 1] * s + oy);
+        ctx.stroke();
+      }
+      for (let k = Math.max(0, from - E); k < Math.min(n, to - E); k++) {
+        const i = order[k];
+        const r = Math.max(1.5, maxR * Math.sqrt(graph.nodeSizes[i] / maxSize));
+        ringedDisc(ctx, p[2 * i] * s + ox, p[2 * i + 1] * s + oy, r, 0.4, fills ? fills[i] : "rgb(120, 134, 150)", 1);
+      }
+    },
+  };
 }
 
 /** A disc of radius r with a white ring 2 × half wide on its edge, drawn as a white disc

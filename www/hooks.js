@@ -39,10 +39,11 @@ const VIK = (function () {
   return rgb;
 })();
 
+const VIK_CSS = cssColours(VIK);
+
 function vikAt(t) {
   if (!Number.isFinite(t)) return NO_VALUE_COLOUR;
-  const i = Math.max(0, Math.min(255, Math.round(t * 255))) * 3;
-  return "rgb(" + VIK[i] + ", " + VIK[i + 1] + ", " + VIK[i + 2] + ")";
+  return VIK_CSS[Math.max(0, Math.min(255, Math.round(t * 255)))];
 }
 
 /* ---------------------------------------------------------------- lens kinds */

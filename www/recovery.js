@@ -262,6 +262,15 @@ const recoveryTestHooks = Object.freeze({
    *  was done ("message": the worker kept; "ended": the worker restarted). */
   onPool: function () { return engine.onPool(); },
   lastCancel: function () { return state.lastCancel || null; },
-  /** The graph view's drawings so far: {count, lastMs, totalMs} (the benchmark's frame times). */
-  drawStats: function () { return { count: view.drawCount, previews: view.previewCount, zooming: view.zooming, lastMs: view.lastDrawMs, totalMs: view.drawTotalMs }; },
+  /** The graph view's drawings so far: {count, lastMs, totalMs} (the benchmark's frame times);
+   *  layerMs: the last finished layer, its slices together; drawing: a layer is being drawn. */
+  drawStats: function () { return { count: view.drawCount, previews: view.previewCount, zooming: view.zooming, lastMs: view.lastDrawMs, totalMs: view.drawTotalMs, layerMs: view.lastLayerMs, drawing: view.layerPending }; },
+  /** Milliseconds a slice of the graph's layer aims at (small: many slices, for the tests). */
+  sliceMs: function (ms) { GraphView.SLICE_MS = Number(ms); },
+  /** Whether the graph's finished layer is, pixel for pixel, the drawing made in one go
+   *  (null while it is being drawn). */
+  layerMatches: function () { return view.layerMatchesOneGo(); },
+  /** Resolves, once the thumbnail of run `id` is drawn, with whether it is pixel for pixel
+   *  the drawing made in one go. */
+  thumbnailMatches: function (id) { return thumbnailMatchesOneGo(id); },
 });

@@ -94,8 +94,11 @@ function createShapePanel(deps) {
     // of them are counted below), so the table stays quick to draw.
     let shown = d.features.map((f, i) => i);
     if (shown.length > FEATURES_LISTED) {
-      const len = (i) => (Number.isFinite(d.features[i].persistence) ? d.features[i].persistence : Infinity);
-      shown = shown.sort((a, b) => len(b) - len(a) || a - b).slice(0, FEATURES_LISTED).sort((a, b) => a - b);
+      // Lengths read once into an array: the sort compares thousands of pairs.
+      const len = new Float64Array(shown.length);
+      d.features.forEach(function (f, i) { len[i] = Number.isFinite(f.persistence) ? f.persistence : Infinity; });
+      const order = Uint32Array.from(shown).sort((a, b) => len[b] - len[a] || a - b);
+      shown = Array.from(order.subarray(0, FEATURES_LISTED)).sort((a, b) => a - b);
     }
     shown.forEach(function (i) {
       const f = d.features[i];
@@ -107,7 +110,7 @@ function createShapePanel(deps) {
       const td = el("td", v ? (v[i] ? "yes" : "no") : "no", verdict);
       td.dataset.verdict = v ? (v[i] ? "yes" : "no") : "unknown";
       tr.append(el("td", null, FEATURE_WORDS[f.kind] || f.kind), el("td", "num", formatNumber(f.birth)), el("td", "num", formatNumber(f.death)), el("td", "num", formatNumber(f.persistence)), td);
-      tr.title = plural(f.nodes.length, "node", "nodes") + "; point to mark them on the graph, click to keep them marked";
+      tr.title = plural(f.to - f.from, "node", "nodes") + "; point to mark them on the graph, click to keep them marked";
       body.append(tr);
     });
     if (shown.length < d.features.length) {
@@ -117,7 +120,9 @@ function createShapePanel(deps) {
       tr.append(td);
       body.append(tr);
     }
-    const count = (k) => d.features.filter((f) => f.kind === k).length;
+    const counts = {};
+    for (const f of d.features) counts[f.kind] = (counts[f.kind] || 0) + 1;
+    const count = (k) => counts[k] || 0;
     const branches = count("downBranch") + count("upBranch");
     let text = plural(count("component"), "component", "components") + ", " + plural(count("loop"), "loop", "loops") + ", " + plural(branches, "branch", "branches") + ".";
     if (v) {
@@ -131,16 +136,19 @@ function createShapePanel(deps) {
   function mark(i, keep) {
     if (keep) sp.marked = sp.marked === i ? null : i;
     const show = i !== null && sp.diagram ? i : sp.marked;
-    deps.view.setHighlight(show !== null && sp.diagram && sp.diagram.features[show] ? sp.diagram.features[show].nodes : null);
+    deps.view.setHighlight(show !== null && sp.diagram && sp.diagram.features[show] ? featureNodes(show) : null);
     for (const tr of byId("sp-features-body").children) tr.classList.toggle("marked", Number(tr.dataset.feature) === sp.marked);
   }
 
   async function refreshDiagram() {
     const seq = ++sp.diagramSeq;
     sp.marked = null;
+    // The previous graph's features name its nodes, not this graph's: not listed (nor
+    // marked) while this graph's are on their way.
+    sp.diagram = null;
     if (!deps.graph()) { sp.diagram = null; render(); return; }
     try {
-      const d = await deps.request("diagram");
+      const d = unpackDiagram(await deps.request("diagram"));
       if (seq !== sp.diagramSeq) return;
       sp.diagram = d;
     } catch (e) {
@@ -205,6 +213,39 @@ function createShapePanel(deps) {
   }
 
   function value_or_null(x) { return x ? JSON.parse(JSON.stringify(x)) : null; }
+
+  /** The diagram from the worker's columns (worker.js, packDiagram): {features: [{kind,
+   *  birth, death, birthNode, deathNode, persistence, from, to}], nodes}, feature i's nodes
+   *  being nodes[from] to nodes[to - 1] (featureNodes); thousands of features then cost
+   *  thousands of small objects, not as many arrays besides. */
+  function unpackDiagram(p) {
+    if (!p) return null;
+    const features = new Array(p.kind.length);
+    for (let i = 0; i < features.length; i++) {
+      features[i] = {
+        kind: p.kinds[p.kind[i]], birth: p.birth[i], death: p.death[i], birthNode: p.birthNode[i], deathNode: p.deathNode[i],
+        persistence: p.persistence[i], from: p.offsets[i], to: p.offsets[i + 1],
+      };
+    }
+    return { features, nodes: p.nodes };
+  }
+
+  /** The nodes of feature `i` of the diagram on screen. */
+  function featureNodes(i) {
+    const f = sp.diagram.features[i];
+    return sp.diagram.nodes.subarray(f.from, f.to);
+  }
+
+  /** The diagram as the engine words it ({features: [{kind, birth, death, birthNode,
+   *  deathNode, persistence, nodes}]}), for scripts. */
+  function diagramValue() {
+    if (!sp.diagram) return null;
+    return {
+      features: sp.diagram.features.map((f, i) => ({
+        kind: f.kind, birth: f.birth, death: f.death, birthNode: f.birthNode, deathNode: f.deathNode, persistence: f.persistence, nodes: Array.from(featureNodes(i)),
+      })),
+    };
+  }
 
   /* ---------------------------------------------------------------- suggestion */
 
@@ -550,7 +591,7 @@ function createShapePanel(deps) {
 
   // For scripts and tests: what the panel shows, as data.
   window.nervureShape = Object.freeze({
-    diagram: () => value_or_null(sp.diagram),
+    diagram: () => value_or_null(diagramValue()),
     confidence: () => value_or_null(sp.confidence),
     verdicts: () => verdicts(),
     grid: () => value_or_null(sp.grid),

@@ -231,3 +231,31 @@ test("zooming a large graph shows stretched copies while the wheel turns, then t
   const layout = await page.evaluate(() => window.nervure.layout());
   assert.ok(layout.scale > 0);
 });
+
+test("a big graph is drawn in slices that end in the whole picture, and so is its history thumbnail", async () => {
+  // The line of the zoom test: about 2 000 nodes, drawn over many frames when each slice
+  // aims at half a millisecond.
+  const rows = ["x,y"];
+  for (let i = 0; i < 8000; i++) rows.push(`${i},${(i % 7) * 0.01}`);
+  await page.evaluate(([t]) => window.nervure.loadCsv(t, "line.csv"), [rows.join("\n") + "\n"]);
+  await waitForGraph(page);
+  const settings = await page.evaluate(() => window.nervure.settings());
+  Object.assign(settings, { columns: ["x", "y"], scaling: "none", lens: { kind: "column", column: "x" }, cover: { intervals: 2000, overlap: 0.25 }, clustering: { kind: "dbscan", eps: 1.5, minPoints: 1 } });
+  await page.evaluate(() => window.nervure.test.sliceMs(0.5));
+  await page.evaluate((s) => window.nervure.applySettings(s), settings);
+  const before = await page.evaluate(() => window.nervure.test.drawStats().count);
+  const summary = await page.evaluate(() => window.nervure.run());
+  assert.ok(summary.nodes >= 1500, `${summary.nodes} nodes`);
+  await waitForIdle(page);
+  await page.waitForFunction(() => !window.nervure.test.drawStats().drawing, null, { timeout: 60000 });
+  const after = await page.evaluate(() => window.nervure.test.drawStats());
+  assert.ok(after.count - before >= 3, `the layer took several frames (${after.count - before})`);
+  assert.equal(await page.evaluate(() => window.nervure.test.layerMatches()), true, "the finished layer is the drawing made in one go");
+  // The history's thumbnail of this run, drawn in slices too.
+  const id = (await page.evaluate(() => window.nervure.history()))[0].id;
+  assert.equal(await page.evaluate((i) => window.nervure.test.thumbnailMatches(i), id), true, "the thumbnail is the drawing made in one go");
+  // A selection dims the other nodes: the layer is drawn again, again whole in the end.
+  await page.evaluate(() => window.nervure.select([0, 1, 2]));
+  await page.waitForFunction(() => window.nervure.test.layerMatches() !== null, null, { timeout: 60000 });
+  assert.equal(await page.evaluate(() => window.nervure.test.layerMatches()), true);
+});

@@ -68,7 +68,7 @@ fi
 
 if [ "$page" = 1 ]; then
   node "$here/bench/page.mjs" "$data" "$settings" > "$out/page.json" || echo '{"failed": true}' > "$out/page.json"
-  node "$here/bench/ingest.mjs" "$data" > "$out/ingest.json" || echo '{"failed": true}' > "$out/ingest.json"
+  node "$here/bench/ingest.mjs" "$data" --repeat 3 > "$out/ingest.json" || echo '{"failed": true}' > "$out/ingest.json"
 else
   echo '{"skipped": true}' > "$out/page.json"
   echo '{"skipped": true}' > "$out/ingest.json"

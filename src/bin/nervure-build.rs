@@ -61,11 +61,14 @@ fn build() -> Result<(), Failure> {
         .map_err(|e| format!("generating the bindings from {}: {e}", wasm_path.display()))?;
     let glue = output.js().to_string();
     // Function names (the wasm "name" section, about 90 KB) only label stack traces in a
-    // debugger; panics are reported with their message and place without them.
+    // debugger; panics are reported with their message and place without them. A profile
+    // needs them: NERVURE_WASM_NAMES=1 keeps them (DEVELOPERS.md, "Profiling the page").
     let module = output.wasm_mut();
-    module.name = None;
-    for f in module.funcs.iter_mut() {
-        f.name = None;
+    if env::var_os("NERVURE_WASM_NAMES").is_none() {
+        module.name = None;
+        for f in module.funcs.iter_mut() {
+            f.name = None;
+        }
     }
     let wasm = module.emit_wasm();
     // Gzipped, then base64: the worker inflates it with the browser's DecompressionStream.

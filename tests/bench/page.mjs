@@ -1,11 +1,14 @@
 // The page part of the benchmark: opens dist/nervure.html from file:// in headless
-// Chromium, gives the file input the data file (as a user's drop would), and measures
-// from the file input to the first graph drawn: the read time the page reports, the
-// tab's peak memory (resident memory of Chromium's renderer processes, the page's and
-// its workers', sampled from /proc every 100 ms), and every main-thread task over 50 ms
-// (PerformanceObserver 'longtask'). Then it times re-colouring, a change of overlap (with
-// where its time went: the worker's parts, the page's), and panning a graph of about
-// 5,000 nodes (frame gaps and drawing times). Prints one JSON line.
+// Chromium with the benchmark's settings in its address (`#s=...`, as a colleague's link
+// carries them), gives the file input the data file (as a user's drop would), and
+// measures from the file input to the first graph drawn, which is built with those
+// settings: the read time the page reports, the tab's peak memory (resident memory of
+// Chromium's renderer processes, the page's and its workers', sampled from /proc every
+// 100 ms), and every main-thread task over 50 ms (PerformanceObserver 'longtask'). Then it
+// times re-colouring, a change of overlap (with where its time went: the worker's parts,
+// the page's), and panning a graph of about 5,000 nodes (frame gaps and drawing times).
+// Last, in a fresh browser, the same file dropped on the page with no settings in its
+// address: the time to the first graph with the automatic settings. Prints one JSON line.
 //
 //   node tests/bench/page.mjs DATA.csv SETTINGS.json
 
@@ -50,9 +53,14 @@ function rendererRss(userDataDir) {
   return total;
 }
 
-const userDataDir = mkdtempSync(join(tmpdir(), "nervure-bench-chromium-"));
-const context = await chromium.launchPersistentContext(userDataDir, { executablePath: process.env.CHROMIUM || "/usr/bin/chromium", headless: true, args: FLAGS, viewport: { width: 1600, height: 900 } });
-try {
+const settingsHash = "#s=" + encodeURIComponent(JSON.stringify(settings));
+
+/** A fresh browser (its own profile) on the page, with `hash` in its address; longtask
+ *  entries recorded with the phase they fell in, and the renderers' memory sampled every
+ *  100 ms until `close` (`peak()` is the largest sample so far). */
+async function openPage(hash) {
+  const userDataDir = mkdtempSync(join(tmpdir(), "nervure-bench-chromium-"));
+  const context = await chromium.launchPersistentContext(userDataDir, { executablePath: process.env.CHROMIUM || "/usr/bin/chromium", headless: true, args: FLAGS, viewport: { width: 1600, height: 900 } });
   const page = await context.newPage();
   await page.addInitScript(() => {
     window.__longTasks = [];
@@ -60,26 +68,47 @@ try {
     window.__phase = "load";
     new PerformanceObserver((list) => { for (const e of list.getEntries()) { window.__longTasks.push(e.duration); window.__longTaskAt.push(window.__phase + " " + Math.round(e.duration)); } }).observe({ type: "longtask", buffered: true });
   });
-  await page.goto(pageUrl);
-  // The first graph is built with the benchmark's settings: the page's automatic
-  // settings are replaced as soon as the table is read.
-  const base = rendererRss(userDataDir);
-  let peak = base;
-  const sampler = setInterval(() => { peak = Math.max(peak, rendererRss(userDataDir)); }, 100);
+  await page.goto(pageUrl + hash);
+  let top = rendererRss(userDataDir);
+  const sampler = setInterval(() => { top = Math.max(top, rendererRss(userDataDir)); }, 100);
+  const peak = () => (top = Math.max(top, rendererRss(userDataDir)));
+  let open = true;
+  const close = async () => {
+    if (!open) return;
+    open = false;
+    clearInterval(sampler);
+    await context.close();
+    rmSync(userDataDir, { recursive: true, force: true });
+  };
+  return { page, peak, close };
+}
+
+/** Drops the data file on the page and waits for the first graph drawn; the wall time
+ *  from the file input to it, the page's own timings and the peak memory by then. */
+async function loadToFirstGraph({ page, peak }) {
   const started = Date.now();
   await page.setInputFiles("#file-input", data);
-  await page.waitForFunction(() => window.nervure.summary() !== null && window.nervure.timings().firstGraphMs !== null, null, { timeout: 900000, polling: 50 });
-  const autoMs = Date.now() - started;
-  peak = Math.max(peak, rendererRss(userDataDir));
-  const peakLoad = peak;
+  await page.waitForFunction(() => (window.nervure.summary() !== null && window.nervure.timings().firstGraphMs !== null) || window.nervure.status().phase === "failed", null, { timeout: 900000, polling: 50 });
+  const wallMs = Date.now() - started;
+  const failed = await page.evaluate(() => (window.nervure.status().phase === "failed" ? window.nervure.message() : null));
+  if (failed) throw new Error("the page could not read the file: " + failed);
+  const peakBytes = peak();
+  // The build's parts are recorded once what follows the drawing is done.
+  await page.waitForFunction(() => window.nervure.timings().lastBuild !== null, null, { timeout: 60000, polling: 50 });
   const timings = await page.evaluate(() => window.nervure.timings());
-  // Now the benchmark's settings (the lens and everything after it recomputed).
-  await page.evaluate(() => { window.__phase = "benchmark build"; });
-  const t0 = Date.now();
-  const summary = await page.evaluate(async (s) => { await window.nervure.applySettings(s); return window.nervure.run(); }, settings);
-  const buildMs = Date.now() - t0;
-  clearInterval(sampler);
-  peak = Math.max(peak, rendererRss(userDataDir));
+  return { wallMs, timings, peak: peakBytes };
+}
+
+const first = await openPage(settingsHash);
+const page = first.page;
+try {
+  // The first graph, built with the benchmark's settings (taken from the address).
+  const load = await loadToFirstGraph(first);
+  const restored = await page.evaluate(() => window.nervure.restored());
+  if (restored !== "fragment") throw new Error("the page did not take the benchmark's settings from its address (restored: " + restored + ")");
+  const summary = await page.evaluate(() => window.nervure.summary());
+  const firstBuild = load.timings.lastBuild;
+  const peakLoad = load.peak;
   // Re-colouring: the mean of a chosen column per node.
   await page.evaluate(() => { window.__phase = "re-colour"; });
   const colourMs = await page.evaluate(async (col) => {
@@ -106,9 +135,11 @@ try {
     const tb = Date.now();
     const bigSummary = await page.evaluate(async (s) => { window.nervure.test.nodeLimit(1e9); await window.nervure.applySettings(s); return window.nervure.run(); }, big);
     const bigBuildMs = Date.now() - tb;
+    // The layer of a big graph is drawn in slices over a few frames: the pan starts once it is whole.
+    await page.waitForFunction(() => !window.nervure.test.drawStats || !window.nervure.test.drawStats().drawing, null, { polling: 50 });
     await page.evaluate(() => new Promise((r) => requestAnimationFrame(() => requestAnimationFrame(r))));
     const stats = () => (window.nervure.test.drawStats ? window.nervure.test.drawStats() : { count: 0, totalMs: 0, lastMs: NaN });
-    const first = await page.evaluate(`(${stats})()`);
+    const drawn0 = await page.evaluate(`(${stats})()`);
     const box = await page.locator("#graph-canvas").boundingBox();
     const cx = box.x + box.width / 2, cy = box.y + box.height / 2;
     await page.evaluate(() => { window.__frames = []; const tick = (t) => { window.__frames.push(t); if (window.__frames.length < 10000) requestAnimationFrame(tick); }; requestAnimationFrame(tick); });
@@ -122,8 +153,8 @@ try {
       d.sort((a, b) => a - b);
       const q = (p) => d[Math.min(d.length - 1, Math.floor(p * d.length))];
       const d1 = window.nervure.test.drawStats ? window.nervure.test.drawStats() : { count: 0, totalMs: 0 };
-      return { frames: d.length, medianFrameMs: q(0.5), p95FrameMs: q(0.95), maxFrameMs: d[d.length - 1], draws: d1.count - d0.count, meanDrawMs: (d1.totalMs - d0.totalMs) / Math.max(1, d1.count - d0.count), firstDrawMs: d0.lastMs };
-    }, first);
+      return { frames: d.length, medianFrameMs: q(0.5), p95FrameMs: q(0.95), maxFrameMs: d[d.length - 1], draws: d1.count - d0.count, meanDrawMs: (d1.totalMs - d0.totalMs) / Math.max(1, d1.count - d0.count), firstDrawMs: d0.layerMs === undefined ? d0.lastMs : d0.layerMs };
+    }, drawn0);
     Object.assign(pan, { nodes: bigSummary.nodes, edges: bigSummary.edges, buildMs: bigBuildMs });
     // Zooming the same graph with the wheel: the frame gaps while it turns, and how many
     // drawings were stretched copies of the layer (the exact one follows when it rests).
@@ -144,11 +175,25 @@ try {
   }
   const longTasks = await page.evaluate(() => window.__longTasks);
   const longTaskPhases = await page.evaluate(() => window.__longTaskAt.filter((t) => Number(t.split(" ").pop()) > 100));
+  const longTasksLoad = await page.evaluate(() => window.__longTaskAt.filter((t) => t.startsWith("load ")).map((t) => Number(t.split(" ").pop())));
+  const peak = first.peak();
+  await first.close();
+  // The same file on a page with no settings in its address: the automatic settings.
+  let auto = null;
+  if (process.env.NERVURE_BENCH_AUTO !== "0") {
+    const second = await openPage("");
+    try {
+      const a = await loadToFirstGraph(second);
+      auto = { wallMs: a.wallMs, readMs: a.timings.tableReadMs, firstGraphMs: a.timings.firstGraphMs, build: a.timings.lastBuild, peakRendererBytes: a.peak, summary: await second.page.evaluate(() => window.nervure.summary()) };
+    } finally {
+      await second.close();
+    }
+  }
   console.log(JSON.stringify({
-    readMs: timings.tableReadMs,
-    firstGraphAutoMs: timings.firstGraphMs,
-    fileToAutoGraphMs: autoMs,
-    benchmarkBuildMs: buildMs,
+    readMs: load.timings.tableReadMs,
+    firstGraphMs: load.timings.firstGraphMs,
+    fileToFirstGraphMs: load.wallMs,
+    firstBuild,
     recolourMs: colourMs,
     overlapChangeMs: overlapMs,
     overlapChangeParts: overlapParts,
@@ -157,11 +202,12 @@ try {
     peakLoadRendererBytes: peakLoad,
     longTasksOver50ms: longTasks.length,
     longestTaskMs: longTasks.length ? Math.max(...longTasks) : 0,
+    longestLoadTaskMs: longTasksLoad.length ? Math.max(...longTasksLoad) : 0,
     tasksOver100ms: longTasks.filter((d) => d > 100).length,
     tasksOver100msWhere: longTaskPhases,
+    auto,
     summary,
   }));
 } finally {
-  await context.close();
-  rmSync(userDataDir, { recursive: true, force: true });
+  await first.close();
 }

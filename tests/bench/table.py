@@ -70,7 +70,7 @@ if page and not page.get("skipped") and not page.get("failed"):
     print(f"page: file input to the first graph {page.get('fileToFirstGraphMs')} ms (settings from the page address; the page's own count {page.get('firstGraphMs', 0):.0f} ms, "
           f"of which reading {page.get('readMs', 0):.0f} ms); re-colour {page.get('recolourMs'):.0f} ms; "
           f"overlap change {page.get('overlapChangeMs'):.0f} ms; main-thread tasks over 100 ms: {page.get('tasksOver100ms')} (longest {page.get('longestTaskMs'):.0f} ms, "
-          f"longest up to the first graph {page.get('longestLoadTaskMs', 0):.0f} ms"
+          f"longest from the file input to the first graph {page.get('longestLoadTaskMs', 0):.0f} ms, longest while the page opened {page.get('longestStartTaskMs', 0):.0f} ms"
           + (f"; where: {', '.join(page['tasksOver100msWhere'])}" if page.get("tasksOver100msWhere") else "") + ")"
           + (f"; tab peak by the first graph {page['peakLoadRendererBytes'] / 1e6:.0f} MB" if page.get("peakLoadRendererBytes") else ""))
     auto = page.get("auto")

@@ -272,38 +272,48 @@ impl<D: Dim> Work<'_, D> {
     /// [`NEAR_LEVELS`] levels up (where its neighbours mostly are), then the rest of the
     /// tree, stopping as soon as it reaches `min_points`; every point is counted once.
     fn core_points(&self, leaves: &[usize], min_points: usize) -> Vec<bool> {
-        let tree = self.tree;
-        let mut core = vec![false; tree.len()];
+        let mut core = vec![false; self.tree.len()];
         let mut stack: Vec<usize> = Vec::new();
-        let parent = tree_parents(tree);
+        let parent = tree_parents(self.tree);
         for &leaf in leaves {
-            let (range, _) = tree.node(leaf);
-            let lb = self.node_box(leaf);
-            // A box against itself: the farthest-corner distance is its diagonal.
-            if range.len() >= min_points && diagonal2(self.dim, lb) <= self.eps2 {
-                core[range].iter_mut().for_each(|c| *c = true);
-                continue;
-            }
-            let mut local = leaf;
-            for _ in 0..NEAR_LEVELS {
-                if local != 0 {
-                    local = parent[local] as usize;
-                }
-            }
-            for p in range.clone() {
-                let q = self.point(p);
-                // Its own leaf first: in dense data that is often enough.
-                let mut count = range.clone().filter(|&r| dist2(self.dim, q, self.point(r)) <= self.eps2).count();
-                if count < min_points && local != leaf {
-                    self.count_from(q, local, leaf, &mut count, min_points, &mut stack);
-                }
-                if count < min_points && local != 0 {
-                    self.count_from(q, 0, local, &mut count, min_points, &mut stack);
-                }
-                core[p] = count >= min_points;
-            }
+            self.core_leaf(leaf, min_points, &parent, &mut core, &mut stack);
         }
         core
+    }
+
+    /// [`Work::core_points`] for the points of one leaf. Kept out of line (here and in the
+    /// other per-unit steps below) so that it is a function called many times per build:
+    /// a wasm engine swaps in its optimised code for a function between calls, never
+    /// inside a running one, so a build that ran as one long call would run the first
+    /// time entirely on the unoptimised code (about a third slower on a large element).
+    #[inline(never)]
+    fn core_leaf(&self, leaf: usize, min_points: usize, parent: &[u32], core: &mut [bool], stack: &mut Vec<usize>) {
+        let tree = self.tree;
+        let (range, _) = tree.node(leaf);
+        let lb = self.node_box(leaf);
+        // A box against itself: the farthest-corner distance is its diagonal.
+        if range.len() >= min_points && diagonal2(self.dim, lb) <= self.eps2 {
+            core[range].iter_mut().for_each(|c| *c = true);
+            return;
+        }
+        let mut local = leaf;
+        for _ in 0..NEAR_LEVELS {
+            if local != 0 {
+                local = parent[local] as usize;
+            }
+        }
+        for p in range.clone() {
+            let q = self.point(p);
+            // Its own leaf first: in dense data that is often enough.
+            let mut count = range.clone().filter(|&r| dist2(self.dim, q, self.point(r)) <= self.eps2).count();
+            if count < min_points && local != leaf {
+                self.count_from(q, local, leaf, &mut count, min_points, stack);
+            }
+            if count < min_points && local != 0 {
+                self.count_from(q, 0, local, &mut count, min_points, stack);
+            }
+            core[p] = count >= min_points;
+        }
     }
 
     /// Adds to `count` the points within eps of `q` in the subtree of `start`, leaving out
@@ -424,36 +434,7 @@ impl<D: Dim> Work<'_, D> {
                         hi[k] = hi[k].max(v);
                     }
                 }
-                let bb = (&lo[..], &hi[..]);
-                found.clear();
-                nodes_todo.clear();
-                nodes_todo.push(0);
-                while let Some(n) = nodes_todo.pop() {
-                    if open[n] == 0 {
-                        continue;
-                    }
-                    let nb = self.node_box(n);
-                    if !box_near(self.dim, bb, nb, self.eps2) {
-                        continue;
-                    }
-                    let (range, children) = tree.node(n);
-                    if box_far_within(self.dim, bb, nb, self.eps2) {
-                        // Every point of the node is within eps of every batch point.
-                        found.extend(range.filter(|&q| core[q] && label[q] == NONE));
-                    } else if let Some(ch) = children {
-                        nodes_todo.extend([ch + 1, ch]);
-                    } else {
-                        for q in range {
-                            if !core[q] || label[q] != NONE {
-                                continue;
-                            }
-                            let x = self.point(q);
-                            if point_box_near(self.dim, x, bb, self.eps2) && batch.iter().any(|&b| dist2(self.dim, self.point(b), x) <= self.eps2) {
-                                found.push(q);
-                            }
-                        }
-                    }
-                }
+                self.unlabelled_core_near((&lo[..], &hi[..]), &batch, core, &label, &open, &mut found, &mut nodes_todo);
                 for &q in &found {
                     label[q] = c;
                     take(&mut open, q);
@@ -463,31 +444,77 @@ impl<D: Dim> Work<'_, D> {
         }
         // Border points: the lowest cluster number among the core points within eps.
         for p in 0..m {
-            if core[p] {
+            if !core[p] {
+                label[p] = self.border_label(p, core, &cores, &label, &mut nodes_todo);
+            }
+        }
+        label
+    }
+
+    /// Into `found`, the core points without a cluster yet that lie within eps of some
+    /// point of `batch` (whose bounding box is `bb`), skipping nodes with no open core
+    /// point left. Out of line: see [`Work::core_leaf`].
+    #[inline(never)]
+    #[allow(clippy::too_many_arguments)]
+    fn unlabelled_core_near(&self, bb: Bounds, batch: &[usize], core: &[bool], label: &[u32], open: &[u32], found: &mut Vec<usize>, nodes_todo: &mut Vec<usize>) {
+        let tree = self.tree;
+        found.clear();
+        nodes_todo.clear();
+        nodes_todo.push(0);
+        while let Some(n) = nodes_todo.pop() {
+            if open[n] == 0 {
                 continue;
             }
-            let q = self.point(p);
-            let mut best = NONE;
-            nodes_todo.clear();
-            nodes_todo.push(0);
-            while let Some(n) = nodes_todo.pop() {
-                if cores[n] == 0 || !point_box_near(self.dim, q, self.node_box(n), self.eps2) {
-                    continue;
-                }
-                let (range, children) = tree.node(n);
-                if let Some(ch) = children {
-                    nodes_todo.extend([ch + 1, ch]);
-                    continue;
-                }
-                for r in range {
-                    if core[r] && label[r] < best && dist2(self.dim, q, self.point(r)) <= self.eps2 {
-                        best = label[r];
+            let nb = self.node_box(n);
+            if !box_near(self.dim, bb, nb, self.eps2) {
+                continue;
+            }
+            let (range, children) = tree.node(n);
+            if box_far_within(self.dim, bb, nb, self.eps2) {
+                // Every point of the node is within eps of every batch point.
+                found.extend(range.filter(|&q| core[q] && label[q] == NONE));
+            } else if let Some(ch) = children {
+                nodes_todo.extend([ch + 1, ch]);
+            } else {
+                for q in range {
+                    if !core[q] || label[q] != NONE {
+                        continue;
+                    }
+                    let x = self.point(q);
+                    if point_box_near(self.dim, x, bb, self.eps2) && batch.iter().any(|&b| dist2(self.dim, self.point(b), x) <= self.eps2) {
+                        found.push(q);
                     }
                 }
             }
-            label[p] = best;
         }
-        label
+    }
+
+    /// The cluster of non-core point `p`: the lowest cluster number among the core points
+    /// within eps, or [`NONE`]. `cores` counts each node's core points. Out of line: see
+    /// [`Work::core_leaf`].
+    #[inline(never)]
+    fn border_label(&self, p: usize, core: &[bool], cores: &[u32], label: &[u32], nodes_todo: &mut Vec<usize>) -> u32 {
+        let tree = self.tree;
+        let q = self.point(p);
+        let mut best = NONE;
+        nodes_todo.clear();
+        nodes_todo.push(0);
+        while let Some(n) = nodes_todo.pop() {
+            if cores[n] == 0 || !point_box_near(self.dim, q, self.node_box(n), self.eps2) {
+                continue;
+            }
+            let (range, children) = tree.node(n);
+            if let Some(ch) = children {
+                nodes_todo.extend([ch + 1, ch]);
+                continue;
+            }
+            for r in range {
+                if core[r] && label[r] < best && dist2(self.dim, q, self.point(r)) <= self.eps2 {
+                    best = label[r];
+                }
+            }
+        }
+        best
     }
 }
 

@@ -136,42 +136,52 @@ impl KdTree {
         let mut i = 0;
         while i < nodes.len() {
             let Node { start, end, .. } = nodes[i];
-            let (s, e) = (start as usize, end as usize);
-            if e - s > leaf_size {
-                let base = 2 * dim * i;
-                let axis = (0..dim)
-                    .max_by(|&a, &b| {
-                        let wa = loose[base + dim + a] - loose[base + a];
-                        let wb = loose[base + dim + b] - loose[base + b];
-                        wa.total_cmp(&wb)
-                    })
-                    .unwrap_or(0);
-                let mid = s + (e - s) / 2;
-                // The node's coordinates on the axis, gathered beside their rows, so the
-                // selection reads one contiguous array instead of jumping through `points`
-                // at each comparison (a read from memory per comparison on large tables).
-                // Same comparisons in the same order as selecting `perm` through `points`,
-                // so the same permutation (a test checks it).
-                keyed.clear();
-                keyed.extend(perm[s..e].iter().map(|&r| (points[r as usize * dim + axis], r)));
-                keyed.select_nth_unstable_by(mid - s, |a, b| a.0.total_cmp(&b.0));
-                for (p, &(_, r)) in perm[s..e].iter_mut().zip(&keyed) {
-                    *p = r;
-                }
-                let split = points[perm[mid] as usize * dim + axis];
-                let children = nodes.len() as u32;
-                nodes[i].children = children;
-                nodes.push(Node { start, end: mid as u32, children: 0 });
-                nodes.push(Node { start: mid as u32, end, children: 0 });
-                let parent: Vec<f64> = loose[base..base + 2 * dim].to_vec();
-                loose.extend_from_slice(&parent);
-                loose[base + 2 * dim * (children as usize - i) + dim + axis] = split;
-                loose.extend_from_slice(&parent);
-                loose[base + 2 * dim * (children as usize + 1 - i) + axis] = split;
+            if (end - start) as usize > leaf_size {
+                Self::split(points, dim, i, &mut perm, &mut nodes, &mut loose, &mut keyed);
             }
             i += 1;
         }
         (perm, nodes)
+    }
+
+    /// Splits node `i` at the median of its loose box's widest axis: its rows in `perm`
+    /// ordered around the median, its two children pushed, their loose boxes added. Out of
+    /// line so that a build is many calls of it: a wasm engine swaps in its optimised code
+    /// for a function between calls, never inside a running one.
+    #[inline(never)]
+    fn split(points: &[f64], dim: usize, i: usize, perm: &mut [u32], nodes: &mut Vec<Node>, loose: &mut Vec<f64>, keyed: &mut Vec<(f64, u32)>) {
+        let Node { start, end, .. } = nodes[i];
+        let (s, e) = (start as usize, end as usize);
+        let base = 2 * dim * i;
+        let axis = (0..dim)
+            .max_by(|&a, &b| {
+                let wa = loose[base + dim + a] - loose[base + a];
+                let wb = loose[base + dim + b] - loose[base + b];
+                wa.total_cmp(&wb)
+            })
+            .unwrap_or(0);
+        let mid = s + (e - s) / 2;
+        // The node's coordinates on the axis, gathered beside their rows, so the
+        // selection reads one contiguous array instead of jumping through `points`
+        // at each comparison (a read from memory per comparison on large tables).
+        // Same comparisons in the same order as selecting `perm` through `points`,
+        // so the same permutation (a test checks it).
+        keyed.clear();
+        keyed.extend(perm[s..e].iter().map(|&r| (points[r as usize * dim + axis], r)));
+        keyed.select_nth_unstable_by(mid - s, |a, b| a.0.total_cmp(&b.0));
+        for (p, &(_, r)) in perm[s..e].iter_mut().zip(keyed.iter()) {
+            *p = r;
+        }
+        let split = points[perm[mid] as usize * dim + axis];
+        let children = nodes.len() as u32;
+        nodes[i].children = children;
+        nodes.push(Node { start, end: mid as u32, children: 0 });
+        nodes.push(Node { start: mid as u32, end, children: 0 });
+        let parent: Vec<f64> = loose[base..base + 2 * dim].to_vec();
+        loose.extend_from_slice(&parent);
+        loose[base + 2 * dim * (children as usize - i) + dim + axis] = split;
+        loose.extend_from_slice(&parent);
+        loose[base + 2 * dim * (children as usize + 1 - i) + axis] = split;
     }
 
     /// The tree over `data`, the rows in tree order (`perm` and `nodes` from [`KdTree::order`]):

@@ -205,15 +205,20 @@ test("a large table: the scatter draws a seeded sample of 50 000 points and says
   console.log(`rings.csv: 60 000 rows; scatter sample fetched and drawn in ${Date.now() - t0} ms as the test saw it`);
 });
 
-test("zooming a large graph shows stretched copies while the wheel turns, then the exact drawing", async () => {
-  // A line of 8 000 evenly spaced rows under 2 000 intervals: one node per interval by
-  // construction (each interval's rows are a run of neighbours closer than eps).
+/** Loads a line of 8 000 evenly spaced rows and returns settings that put it under 2 000
+ *  intervals: one node per interval by construction (each interval's rows are a run of
+ *  neighbours closer than eps), so about 2 000 nodes. */
+async function loadLine(page) {
   const rows = ["x,y"];
   for (let i = 0; i < 8000; i++) rows.push(`${i},${(i % 7) * 0.01}`);
   await page.evaluate(([t]) => window.nervure.loadCsv(t, "line.csv"), [rows.join("\n") + "\n"]);
   await waitForGraph(page);
   const settings = await page.evaluate(() => window.nervure.settings());
-  Object.assign(settings, { columns: ["x", "y"], scaling: "none", lens: { kind: "column", column: "x" }, cover: { intervals: 2000, overlap: 0.25 }, clustering: { kind: "dbscan", eps: 1.5, minPoints: 1 } });
+  return Object.assign(settings, { columns: ["x", "y"], scaling: "none", lens: { kind: "column", column: "x" }, cover: { intervals: 2000, overlap: 0.25 }, clustering: { kind: "dbscan", eps: 1.5, minPoints: 1 } });
+}
+
+test("zooming a large graph shows stretched copies while the wheel turns, then the exact drawing", async () => {
+  const settings = await loadLine(page);
   await page.evaluate((s) => window.nervure.applySettings(s), settings);
   const summary = await page.evaluate(() => window.nervure.run());
   assert.ok(summary.nodes >= 1500, `${summary.nodes} nodes`);
@@ -235,12 +240,7 @@ test("zooming a large graph shows stretched copies while the wheel turns, then t
 test("a big graph is drawn in slices that end in the whole picture, and so is its history thumbnail", async () => {
   // The line of the zoom test: about 2 000 nodes, drawn over many frames when each slice
   // aims at half a millisecond.
-  const rows = ["x,y"];
-  for (let i = 0; i < 8000; i++) rows.push(`${i},${(i % 7) * 0.01}`);
-  await page.evaluate(([t]) => window.nervure.loadCsv(t, "line.csv"), [rows.join("\n") + "\n"]);
-  await waitForGraph(page);
-  const settings = await page.evaluate(() => window.nervure.settings());
-  Object.assign(settings, { columns: ["x", "y"], scaling: "none", lens: { kind: "column", column: "x" }, cover: { intervals: 2000, overlap: 0.25 }, clustering: { kind: "dbscan", eps: 1.5, minPoints: 1 } });
+  const settings = await loadLine(page);
   await page.evaluate(() => window.nervure.test.sliceMs(0.5));
   await page.evaluate((s) => window.nervure.applySettings(s), settings);
   const before = await page.evaluate(() => window.nervure.test.drawStats().count);

@@ -268,6 +268,39 @@ fn typed_lines_read_as_csv_core_reads_them() {
     }
 }
 
+/// A table of one column: empty lines (LF and CRLF) are skipped, as `csv-core` skips
+/// them, while a line of spaces is a row with an empty cell (project rule: blank lines
+/// are skipped only when the table has more than one column); typed lines, untyped lines
+/// and `csv-core` alone agree at every chunk size.
+#[test]
+fn one_column_tables_read_alike_every_way() {
+    let bytes = b"x\n1\n\n2\r\n\r\n3\n  \n4.5\r\nNA\n\n5";
+    let read = |size: usize, how: &str| {
+        let mut r = TableReader::new("t.csv", ReadOptions::default());
+        r = match how {
+            "core" => r.csv_core_only(),
+            "untyped" => r.untyped_lines(),
+            _ => r,
+        };
+        for chunk in bytes.chunks(size) {
+            r.push(chunk).unwrap();
+        }
+        r.finish_with_report().unwrap()
+    };
+    let (reference, report) = read(bytes.len(), "core");
+    let x = numbers(&reference, "x");
+    assert_eq!(x.len(), 7, "{x:?}");
+    assert_eq!((x[0], x[1], x[2], x[4], x[6]), (1.0, 2.0, 3.0, 4.5, 5.0));
+    assert!(x[3].is_nan() && x[5].is_nan(), "a line of spaces and NA are missing cells");
+    for size in 1..=bytes.len() {
+        for how in ["typed", "untyped"] {
+            let (t, r) = read(size, how);
+            assert_same_table(&reference, &t, &format!("{how}, chunks of {size}"));
+            assert_eq!(report, r, "{how}, chunks of {size}");
+        }
+    }
+}
+
 /// Given the file's size, the number columns are sized for the rows it holds: a little
 /// more than needed, not twice as much (project rule, see `Body::plan_room`).
 #[test]

@@ -6,7 +6,7 @@
 //! [`crate::engine::Workbench`] and is tested natively; errors carry the engine's own
 //! message unchanged, because that message is what the page shows.
 
-use js_sys::{Array, Float64Array, Function, Int32Array, Object, Reflect, Uint32Array};
+use js_sys::{Array, Float64Array, Function, Int32Array, Object, Reflect, Uint32Array, Uint8Array};
 use serde::Serialize;
 use wasm_bindgen::prelude::*;
 
@@ -488,15 +488,39 @@ impl Engine {
 /// `*_drop` (cancel). Logic lives in [`crate::shape`].
 #[wasm_bindgen]
 impl Engine {
-    /// The extended persistence diagram of the last graph: `{features: [{kind, birth,
-    /// death, birthNode, deathNode, persistence, nodes}]}`, `nodes` being the nodes that
-    /// carry the feature ([`shape::support`]); `null` before the first run.
+    /// The extended persistence diagram of the last graph, one typed array per field
+    /// (a graph of 19 000 nodes has some 8 000 features: as objects with arrays of nodes
+    /// they held the page for 20 ms on arrival): `{kinds: [name], kind: Uint8Array (index
+    /// into kinds), birth, death, persistence: Float64Array, birthNode, deathNode:
+    /// Uint32Array, nodes: Uint32Array, offsets: Uint32Array}`, feature `i` being carried
+    /// by `nodes[offsets[i] .. offsets[i + 1]]` ([`shape::support`]); `null` before the
+    /// first run.
     pub fn diagram(&self) -> Result<JsValue, JsValue> {
         let Some(b) = self.bench.last() else { return Ok(JsValue::NULL) };
         let edges: Vec<(u32, u32)> = b.nerve.edges.iter().map(|e| (e.a, e.b)).collect();
         let d = shape::extended_persistence(&b.node_lens, &edges);
-        let nodes = shape::supports(&b.node_lens, &edges, &d);
-        to_js(&DiagramOut { features: d.features.iter().zip(nodes).map(|(f, nodes)| FeatureOut::new(f, Some(nodes), None)).collect() })
+        let supports = shape::supports(&b.node_lens, &edges, &d);
+        let f = &d.features;
+        let kind: Vec<u8> = f.iter().map(|x| shape::Kind::ALL.iter().position(|k| *k == x.kind).unwrap_or(0) as u8).collect();
+        let mut offsets = Vec::with_capacity(f.len() + 1);
+        offsets.push(0u32);
+        for s in &supports {
+            offsets.push(offsets[offsets.len() - 1] + s.len() as u32);
+        }
+        let nodes: Vec<u32> = supports.concat();
+        let floats = |g: fn(&shape::Feature) -> f64| Float64Array::from(&f.iter().map(g).collect::<Vec<_>>()[..]);
+        let ints = |g: fn(&shape::Feature) -> u32| Uint32Array::from(&f.iter().map(g).collect::<Vec<_>>()[..]);
+        let out = Object::new();
+        set(&out, "kinds", &to_js(&shape::Kind::ALL)?);
+        set(&out, "kind", &Uint8Array::from(&kind[..]).into());
+        set(&out, "birth", &floats(|x| x.birth).into());
+        set(&out, "death", &floats(|x| x.death).into());
+        set(&out, "persistence", &floats(|x| x.persistence()).into());
+        set(&out, "birthNode", &ints(|x| x.birth_node).into());
+        set(&out, "deathNode", &ints(|x| x.death_node).into());
+        set(&out, "nodes", &Uint32Array::from(&nodes[..]).into());
+        set(&out, "offsets", &Uint32Array::from(&offsets[..]).into());
+        Ok(out.into())
     }
 
     pub fn bootstrap_begin(&mut self, settings: JsValue, draws: usize, alpha: f64, seed: f64) -> Result<usize, JsValue> {
@@ -656,21 +680,13 @@ struct FeatureOut {
     birth_node: u32,
     death_node: u32,
     persistence: f64,
-    #[serde(skip_serializing_if = "Option::is_none")]
-    nodes: Option<Vec<u32>>,
-    #[serde(skip_serializing_if = "Option::is_none")]
-    significant: Option<bool>,
+    significant: bool,
 }
 
 impl FeatureOut {
-    fn new(f: &shape::Feature, nodes: Option<Vec<u32>>, significant: Option<bool>) -> FeatureOut {
-        FeatureOut { kind: f.kind, birth: f.birth, death: f.death, birth_node: f.birth_node, death_node: f.death_node, persistence: f.persistence(), nodes, significant }
+    fn new(f: &shape::Feature, significant: bool) -> FeatureOut {
+        FeatureOut { kind: f.kind, birth: f.birth, death: f.death, birth_node: f.birth_node, death_node: f.death_node, persistence: f.persistence(), significant }
     }
-}
-
-#[derive(Serialize)]
-struct DiagramOut {
-    features: Vec<FeatureOut>,
 }
 
 #[derive(Serialize)]
@@ -690,7 +706,7 @@ impl ConfidenceOut {
             draws: c.distances.len(),
             threshold: c.threshold,
             distances: c.distances.clone(),
-            features: c.diagram.features.iter().zip(&c.significant).map(|(f, &s)| FeatureOut::new(f, None, Some(s))).collect(),
+            features: c.diagram.features.iter().zip(&c.significant).map(|(f, &s)| FeatureOut::new(f, s)).collect(),
         }
     }
 }

@@ -146,7 +146,7 @@ function createShapePanel(deps) {
     // The previous graph's features name its nodes, not this graph's: not listed (nor
     // marked) while this graph's are on their way.
     sp.diagram = null;
-    if (!deps.graph()) { sp.diagram = null; render(); return; }
+    if (!deps.graph()) { render(); return; }
     try {
       const d = unpackDiagram(await deps.request("diagram"));
       if (seq !== sp.diagramSeq) return;
@@ -214,7 +214,7 @@ function createShapePanel(deps) {
 
   function value_or_null(x) { return x ? JSON.parse(JSON.stringify(x)) : null; }
 
-  /** The diagram from the worker's columns (worker.js, packDiagram): {features: [{kind,
+  /** The diagram from the engine's columns (Engine::diagram in src/web.rs): {features: [{kind,
    *  birth, death, birthNode, deathNode, persistence, from, to}], nodes}, feature i's nodes
    *  being nodes[from] to nodes[to - 1] (featureNodes); thousands of features then cost
    *  thousands of small objects, not as many arrays besides. */

@@ -260,33 +260,6 @@ async function runBuild(engine, settings, progress, times, runId) {
   return summary;
 }
 
-/** The diagram's features as columns of typed arrays, transferred rather than copied: a
- *  graph of 19 000 nodes has some 8 000 features, and receiving them as objects with arrays
- *  of nodes held the page for 20 ms. shape-panel.js (unpackDiagram) makes the objects again.
- *  {kinds: [name], kind: Uint8Array (index into kinds), birth, death, persistence:
- *  Float64Array, birthNode, deathNode: Uint32Array, nodes: Uint32Array of every feature's
- *  nodes one after the other, offsets: Uint32Array (feature i's nodes: offsets[i] to
- *  offsets[i + 1])}; null stays null. */
-function packDiagram(d) {
-  if (!d) return { value: null };
-  const f = d.features, n = f.length;
-  const kinds = [], kind = new Uint8Array(n);
-  const birth = new Float64Array(n), death = new Float64Array(n), persistence = new Float64Array(n);
-  const birthNode = new Uint32Array(n), deathNode = new Uint32Array(n), offsets = new Uint32Array(n + 1);
-  for (let i = 0; i < n; i++) offsets[i + 1] = offsets[i] + f[i].nodes.length;
-  const nodes = new Uint32Array(offsets[n]);
-  for (let i = 0; i < n; i++) {
-    let k = kinds.indexOf(f[i].kind);
-    if (k < 0) { k = kinds.length; kinds.push(f[i].kind); }
-    kind[i] = k;
-    birth[i] = f[i].birth; death[i] = f[i].death; persistence[i] = f[i].persistence;
-    birthNode[i] = f[i].birthNode; deathNode[i] = f[i].deathNode;
-    nodes.set(f[i].nodes, offsets[i]);
-  }
-  const value = { kinds, kind, birth, death, persistence, birthNode, deathNode, nodes, offsets };
-  return { value, transfer: [kind.buffer, birth.buffer, death.buffer, persistence.buffer, birthNode.buffer, deathNode.buffer, nodes.buffer, offsets.buffer] };
-}
-
 function graphMessage(engine) {
   const g = engine.graph();
   if (!g) return { value: null, transfer: [] };
@@ -378,8 +351,12 @@ async function handle(engine, msg) {
       return { value: engine.column_summaries(new Float64Array(msg.fillValues || [])) };
     case "check":
       return { value: engine.check_settings(msg.settings) };
-    case "diagram":
-      return packDiagram(engine.diagram());
+    case "diagram": {
+      // Columns of typed arrays (Engine::diagram), handed over rather than copied.
+      const d = engine.diagram();
+      if (!d) return { value: null };
+      return { value: d, transfer: [d.kind.buffer, d.birth.buffer, d.death.buffer, d.persistence.buffer, d.birthNode.buffer, d.deathNode.buffer, d.nodes.buffer, d.offsets.buffer] };
+    }
     case "suggest":
       return { value: engine.suggest(msg.settings, msg.seed) };
     case "loadB": {

@@ -10,6 +10,7 @@ need_wasm_target
 need_chromium
 need_node_modules
 need_python_reader
+need_open_tables
 
 step "native tests (cargo test)"
 cargo test --quiet 2>&1 | tee /tmp/nervure-cargo-test.log

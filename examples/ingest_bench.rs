@@ -25,7 +25,7 @@ fn main() {
     let t1 = Instant::now();
     // finish_table: the automatic settings' check, the campaign, the table info.
     let part = ingest.finish(None).expect("read");
-    let auto = nervure::auto::auto_settings(&part.table).expect("automatic settings");
+    let auto = nervure::auto::auto_choice(&part.table).expect("automatic settings");
     let mut campaign = Campaign::new();
     campaign.add(part);
     let mut bench = Workbench::new();

@@ -72,8 +72,13 @@ pub struct Summary {
     /// Loops of the nerve once the triangles where three nodes share rows are filled
     /// ([`Nerve::filled_loops`]); equal to `loops` unless three cover elements meet.
     pub filled_loops: usize,
-    /// Rows that took part but fell in no node (DBSCAN noise in every element they are in).
+    /// Rows that took part but fell in no node (DBSCAN noise in every element they are in,
+    /// or only in clusters below `minClusterShare`).
     pub noise_rows: usize,
+    /// Rows that had every value but were set aside by denoising (`settings.denoise`);
+    /// not counted in `rows`.
+    #[serde(default)]
+    pub rows_set_aside: usize,
     /// Cover elements that held at least one row.
     pub elements: usize,
     pub left_out_by_column: Vec<(String, usize)>,
@@ -220,7 +225,8 @@ struct Clustered {
 
 type LensKey = (PointsKey, Lens, Option<Lens>, u64);
 type CoverKey = (LensKey, CoverSettings, Option<CoverSettings>);
-type ClusterKey = (CoverKey, Clustering);
+/// The clustering, and the smallest share of its element a cluster needs (as bits).
+type ClusterKey = (CoverKey, Clustering, u64);
 type GraphKey = (ClusterKey, EdgeRule);
 
 fn lens_key(s: &Settings) -> LensKey {
@@ -246,7 +252,7 @@ fn make_cover(l: &Lenses, s: &Settings) -> Cover {
     cover::build(&l.first, &s.cover, l.second.as_deref().map(|v| (v, second_cover(s))))
 }
 fn cluster_key(s: &Settings) -> ClusterKey {
-    (cover_key(s), s.clustering.clone())
+    (cover_key(s), s.clustering.clone(), s.min_cluster_share.to_bits())
 }
 fn graph_key(s: &Settings) -> GraphKey {
     (cluster_key(s), s.edges.clone())
@@ -273,7 +279,7 @@ pub struct Workbench {
     /// [`crate::auto::auto_settings`] of the table with its present columns, kept because the
     /// page asks for it more than once per file and it costs a k-d tree over every row.
     /// Dropped whenever the columns change.
-    auto: Option<Settings>,
+    auto: Option<crate::auto::AutoChoice>,
 }
 
 impl Workbench {
@@ -288,9 +294,9 @@ impl Workbench {
     }
 
     /// [`Workbench::set_table`] with the table's automatic settings already made by the
-    /// caller (`auto` must be `crate::auto::auto_settings(&table)`), so that
+    /// caller (`auto` must be `crate::auto::auto_choice(&table)`), so that
     /// [`Workbench::auto_settings`] does not make them again.
-    pub fn set_table_with_auto(&mut self, table: Table, auto: Settings) {
+    pub fn set_table_with_auto(&mut self, table: Table, auto: crate::auto::AutoChoice) {
         self.set_table(table);
         self.auto = Some(auto);
     }
@@ -308,17 +314,19 @@ impl Workbench {
     }
 
     pub fn auto_settings(&mut self) -> Result<Settings> {
-        let mut s = match &self.auto {
-            Some(s) => s.clone(),
-            None => {
-                let s = crate::auto::auto_settings(self.need_table()?)?;
-                self.auto = Some(s.clone());
-                s
-            }
-        };
+        let mut s = self.auto_choice()?.settings.clone();
         // Keep the derived columns already made, so the names auto may choose resolve.
         s.derived = self.derived.as_ref().map(|((d, _), _)| d.clone()).unwrap_or_default();
         Ok(s)
+    }
+
+    /// The automatic settings with the columns they left out and why (made once per set of
+    /// columns, see [`Workbench::auto_settings`]).
+    pub fn auto_choice(&mut self) -> Result<&crate::auto::AutoChoice> {
+        if self.auto.is_none() {
+            self.auto = Some(crate::auto::auto_choice(self.need_table()?)?);
+        }
+        Ok(self.auto.as_ref().expect("just made"))
     }
 
     /// What the last run's derived columns found (missing values, undefined operations).
@@ -388,7 +396,7 @@ impl Workbench {
         let cov = &self.cover.as_ref().expect("prepared").1;
         let kk = cluster_key(s);
         if self.clustered.as_ref().map(|(k, _)| k) != Some(&kk) {
-            self.clustered = Some((kk, cluster_elements(pts, cov, &s.clustering, progress)));
+            self.clustered = Some((kk, cluster_elements(pts, cov, &s.clustering, s.min_cluster_share, progress)));
         }
         Ok(())
     }
@@ -474,7 +482,7 @@ impl Workbench {
         if labels.len() != cov.elements.len() || labels.iter().zip(&cov.elements).any(|(l, m)| l.len() != m.len()) {
             return Err(Error::Data("internal: the clusters given do not match the cover's elements".into()));
         }
-        let groups = cov.elements.iter().zip(labels).map(|(members, l)| groups_from_labels(members, &l)).collect();
+        let groups = cov.elements.iter().zip(labels).map(|(members, l)| groups_from_labels(members, &l, s.min_cluster_share)).collect();
         self.clustered = Some((cluster_key(s), clustered_from(pts, groups, &mut |_: &str, _: f64| {})));
         Ok(())
     }
@@ -724,7 +732,7 @@ pub fn build(table: &Table, s: &Settings) -> Result<Build> {
     let pts = points::build_points(table, s)?;
     let lens = lens_values(table, &pts, s)?;
     let cov = make_cover(&lens, s);
-    let clustered = cluster_elements(&pts, &cov, &s.clustering, &mut quiet);
+    let clustered = cluster_elements(&pts, &cov, &s.clustering, s.min_cluster_share, &mut quiet);
     Ok(assemble(table, &pts, &lens, &cov, &clustered, s, &mut quiet))
 }
 
@@ -801,11 +809,12 @@ impl Resampler {
             left_out: 0,
             left_out_by_column: Vec::new(),
             filled_by_column: Vec::new(),
+            set_aside: Vec::new(),
         };
         let lens2: Option<Vec<f64>> = self.lens2.as_ref().map(|l2| draws.iter().map(|&p| l2[p as usize]).collect());
         let second = self.axis2.as_ref().zip(lens2.as_deref());
         let cov = cover::within(&self.axis, &lens, second);
-        let clustered = cluster_elements(&pts, &cov, &s.clustering, &mut |_: &str, _: f64| {});
+        let clustered = cluster_elements(&pts, &cov, &s.clustering, s.min_cluster_share, &mut |_: &str, _: f64| {});
         let nerve = Nerve::new(clustered.nodes, draws.len(), s.edges.min_shared);
         let node_lens = nerve.nodes.iter().map(|n| n.members.iter().map(|&r| lens[r as usize]).sum::<f64>() / n.members.len() as f64).collect();
         (nerve, node_lens)
@@ -827,8 +836,8 @@ fn lens_values(table: &Table, pts: &Points, s: &Settings) -> Result<Lenses> {
     Ok(Lenses { first, second })
 }
 
-fn cluster_elements(pts: &Points, cov: &Cover, method: &Clustering, progress: &mut dyn FnMut(&str, f64)) -> Clustered {
-    let per_element = cluster_all(pts, cov, method, progress);
+fn cluster_elements(pts: &Points, cov: &Cover, method: &Clustering, min_share: f64, progress: &mut dyn FnMut(&str, f64)) -> Clustered {
+    let per_element = cluster_all(pts, cov, method, min_share, progress);
     clustered_from(pts, per_element, progress)
 }
 
@@ -849,13 +858,15 @@ fn clustered_from(pts: &Points, per_element: Vec<Vec<Vec<u32>>>, progress: &mut 
 }
 
 /// The clusters of one cover element, as lists of point indices (increasing), in the
-/// clustering's label order. Elements are independent: the natural unit of parallel work.
-pub fn cluster_element(pts: &Points, members: &[u32], method: &Clustering) -> Vec<Vec<u32>> {
+/// clustering's label order, less those with fewer rows than `min_share` of the element's
+/// ([`Settings::min_cluster_share`]). Elements are independent: the natural unit of
+/// parallel work.
+pub fn cluster_element(pts: &Points, members: &[u32], method: &Clustering, min_share: f64) -> Vec<Vec<u32>> {
     if members.is_empty() {
         return Vec::new();
     }
     let labels = cluster::cluster(&element_buffer(pts, members), pts.data.ncols(), method);
-    groups_from_labels(members, &labels)
+    groups_from_labels(members, &labels, min_share)
 }
 
 /// The points of `members`, row-major, in that order.
@@ -869,8 +880,9 @@ fn element_buffer(pts: &Points, members: &[u32]) -> Vec<f64> {
     buf
 }
 
-/// One list of point indices per cluster (labels numbered as [`cluster::cluster`] does).
-fn groups_from_labels(members: &[u32], labels: &cluster::Labels) -> Vec<Vec<u32>> {
+/// One list of point indices per cluster (labels numbered as [`cluster::cluster`] does),
+/// keeping the clusters of at least `min_share` of the element's rows.
+fn groups_from_labels(members: &[u32], labels: &cluster::Labels, min_share: f64) -> Vec<Vec<u32>> {
     let k = labels.iter().flatten().map(|&c| c as usize + 1).max().unwrap_or(0);
     let mut groups: Vec<Vec<u32>> = vec![Vec::new(); k];
     for (&p, l) in members.iter().zip(labels) {
@@ -878,14 +890,15 @@ fn groups_from_labels(members: &[u32], labels: &cluster::Labels) -> Vec<Vec<u32>
             groups[*c as usize].push(p);
         }
     }
-    groups.retain(|g| !g.is_empty());
+    let least = ((min_share * members.len() as f64).ceil() as usize).max(1);
+    groups.retain(|g| g.len() >= least);
     groups
 }
 
 /// Every element's clusters, in element order. Natively the elements are shared among
 /// all cores (largest first, taken from a shared counter); results do not depend on the
 /// number of threads. In wasm one worker runs them in order.
-fn cluster_all(pts: &Points, cov: &Cover, method: &Clustering, progress: &mut dyn FnMut(&str, f64)) -> Vec<Vec<Vec<u32>>> {
+fn cluster_all(pts: &Points, cov: &Cover, method: &Clustering, min_share: f64, progress: &mut dyn FnMut(&str, f64)) -> Vec<Vec<Vec<u32>>> {
     progress("clusters", 0.0);
     let total: usize = cov.elements.iter().map(|e| e.len()).sum::<usize>().max(1);
     let threads = if cfg!(target_arch = "wasm32") { 1 } else { std::thread::available_parallelism().map_or(1, |n| n.get()) };
@@ -897,7 +910,7 @@ fn cluster_all(pts: &Points, cov: &Cover, method: &Clustering, progress: &mut dy
             .map(|members| {
                 progress("clusters", done as f64 / total as f64);
                 done += members.len();
-                cluster_element(pts, members, method)
+                cluster_element(pts, members, method, min_share)
             })
             .collect();
     }
@@ -911,7 +924,7 @@ fn cluster_all(pts: &Points, cov: &Cover, method: &Clustering, progress: &mut dy
     let work = || {
         let k = next.fetch_add(1, Ordering::Relaxed);
         let &e = order.get(k)?;
-        let groups = cluster_element(pts, &cov.elements[e], method);
+        let groups = cluster_element(pts, &cov.elements[e], method, min_share);
         done.fetch_add(cov.elements[e].len(), Ordering::Relaxed);
         results.lock().expect("no thread panics holding the lock")[e] = Some(groups);
         Some(())
@@ -956,6 +969,7 @@ fn assemble(table: &Table, pts: &Points, lens: &Lenses, cov: &Cover, c: &Cluster
         loops,
         filled_loops: nerve.filled_loops(s.edges.min_shared),
         noise_rows: c.noise_rows,
+        rows_set_aside: pts.set_aside.len(),
         elements: cov.elements.iter().filter(|e| !e.is_empty()).count(),
         left_out_by_column: pts.left_out_by_column.clone(),
         filled_by_column: pts.filled_by_column.clone(),
@@ -1014,7 +1028,7 @@ mod tests {
         .unwrap();
         let fresh = crate::auto::auto_settings(&table).unwrap();
         let mut bench = Workbench::new();
-        bench.set_table_with_auto(table.clone(), fresh.clone());
+        bench.set_table_with_auto(table.clone(), crate::auto::auto_choice(&table).unwrap());
         assert_eq!(bench.auto_settings().unwrap(), fresh);
         let mut bench = Workbench::new();
         bench.set_table(table);

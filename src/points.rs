@@ -2,7 +2,10 @@
 //! (and counted), scaled, as one contiguous row-major n × d matrix for distance work.
 //!
 //! This module decides which rows take part; every later stage works on point indices
-//! and maps back to table rows through [`Points::rows`].
+//! and maps back to table rows through [`Points::rows`]. The optional denoising stage
+//! ([`crate::settings::Denoise`], [`set_aside_far_rows`]) runs last here, after scaling
+//! and before any filter: the rows it sets aside are not points, and are listed in
+//! [`Points::set_aside`].
 
 use ndarray::Array2;
 
@@ -25,6 +28,8 @@ pub struct Points {
     /// For each column under the median policy, how many of the points took its median
     /// (rows left out for another column are not counted).
     pub filled_by_column: Vec<(String, usize)>,
+    /// Table rows that had every value but were set aside by denoising, increasing.
+    pub set_aside: Vec<u32>,
 }
 
 /// The part of the settings this stage reads; equal keys give equal points.
@@ -37,6 +42,7 @@ pub struct PointsKey {
     lens_columns: Vec<String>,
     /// Derived columns change the values behind their names.
     derived: Vec<crate::settings::Derived>,
+    denoise: Option<crate::settings::Denoise>,
 }
 
 impl PointsKey {
@@ -54,6 +60,7 @@ impl PointsKey {
                 })
                 .collect(),
             derived: s.derived.clone(),
+            denoise: s.denoise.clone(),
         }
     }
 }
@@ -136,7 +143,60 @@ pub fn build_points(table: &Table, s: &Settings) -> Result<Points> {
         }));
     }
     let data = Array2::from_shape_vec((m, d), flat).expect("m rows of d values");
-    Ok(Points { data, rows, columns: key.columns, left_out: n - m, left_out_by_column: by_column, filled_by_column })
+    let pts = Points { data, rows, columns: key.columns, left_out: n - m, left_out_by_column: by_column, filled_by_column, set_aside: Vec::new() };
+    match &s.denoise {
+        Some(dn) => set_aside_far_rows(pts, dn),
+        None => Ok(pts),
+    }
+}
+
+/// The denoising stage: each point's value under `dn.measure` with `dn.k` neighbours
+/// ([`crate::filter::knn`], the point itself counted first), and the points whose value
+/// lies strictly above the `dn.quantile` quantile of all values (NumPy's default,
+/// linear interpolation) moved to [`Points::set_aside`]. Checked against scikit-learn's
+/// `NearestNeighbors` in `tests/reference.rs`.
+pub fn set_aside_far_rows(mut pts: Points, dn: &crate::settings::Denoise) -> Result<Points> {
+    let n = pts.rows.len();
+    if dn.k > n {
+        return Err(Error::settings("denoise.k", format!("{} neighbours asked for but only {n} rows take part; choose k at most {n}", dn.k)));
+    }
+    let what = match dn.measure {
+        crate::settings::DenoiseMeasure::DistanceToMeasure => crate::filter::knn::KnnValue::DistanceToMeasure,
+        crate::settings::DenoiseMeasure::NeighbourDistance => crate::filter::knn::KnnValue::KthDistance,
+    };
+    let values = crate::filter::knn::knn_lens(pts.data.view(), dn.k, what).map_err(|e| match e {
+        Error::Settings { message, .. } => Error::settings("denoise.k", message),
+        e => e,
+    })?;
+    let cut = quantile(&values, dn.quantile);
+    let keep: Vec<usize> = (0..n).filter(|&i| values[i] <= cut).collect();
+    if keep.len() == n {
+        return Ok(pts);
+    }
+    let d = pts.data.ncols();
+    let flat = pts.data.as_slice().expect("points are contiguous");
+    let mut data = Vec::with_capacity(keep.len() * d);
+    for &i in &keep {
+        data.extend_from_slice(&flat[i * d..(i + 1) * d]);
+    }
+    pts.set_aside = (0..n).filter(|&i| values[i] > cut).map(|i| pts.rows[i]).collect();
+    pts.rows = keep.iter().map(|&i| pts.rows[i]).collect();
+    pts.data = Array2::from_shape_vec((keep.len(), d), data).expect("kept rows of d values");
+    Ok(pts)
+}
+
+/// The `q` quantile of `values` with NumPy's default rule: the sorted values at position
+/// (n - 1) q, interpolated linearly between the two neighbouring order statistics.
+pub fn quantile(values: &[f64], q: f64) -> f64 {
+    let mut v = values.to_vec();
+    v.sort_unstable_by(f64::total_cmp);
+    if v.is_empty() {
+        return f64::NAN;
+    }
+    let pos = (v.len() - 1) as f64 * q;
+    let lo = pos.floor() as usize;
+    let hi = (lo + 1).min(v.len() - 1);
+    v[lo] + (pos - lo as f64) * (v[hi] - v[lo])
 }
 
 /// (shift, scale) so that (x - shift) / scale is the scaled value, from the used values.
@@ -183,6 +243,8 @@ mod tests {
             derived: Vec::new(),
             lens2: None,
             cover2: None,
+            denoise: None,
+            min_cluster_share: 0.0,
         }
     }
 
@@ -197,6 +259,32 @@ mod tests {
             ],
         )
         .unwrap()
+    }
+
+    #[test]
+    fn quantile_is_numpys_linear_rule() {
+        // numpy.quantile([1, 2, 4, 8], q): 0.5 -> 3.0, 0.9 -> 6.8, 1.0 -> 8 (by hand from
+        // the definition: position 3 q between the order statistics).
+        assert_eq!(quantile(&[8.0, 1.0, 4.0, 2.0], 0.5), 3.0);
+        assert!((quantile(&[8.0, 1.0, 4.0, 2.0], 0.9) - 6.8).abs() < 1e-12);
+        assert_eq!(quantile(&[8.0, 1.0, 4.0, 2.0], 1.0), 8.0);
+    }
+
+    #[test]
+    fn denoising_sets_aside_the_far_rows_and_lists_them() {
+        // Points 0..=9 on a line and one at 100: its 2nd-neighbour distance (91) is the
+        // only one above the 0.9 quantile (neighbours at distance 1 elsewhere).
+        let mut v: Vec<f64> = (0..10).map(f64::from).collect();
+        v.push(100.0);
+        let t = Table::from_columns("t", vec![Column::number("a", v)]).unwrap();
+        let mut s = settings(&["a"], Scaling::None);
+        s.denoise = Some(Denoise { measure: DenoiseMeasure::NeighbourDistance, k: 2, quantile: 0.9 });
+        let p = build_points(&t, &s).unwrap();
+        assert_eq!(p.set_aside, vec![10]);
+        assert_eq!(p.rows, (0..10).collect::<Vec<u32>>());
+        assert_eq!(p.data.nrows(), 10);
+        s.denoise = Some(Denoise { measure: DenoiseMeasure::DistanceToMeasure, k: 20, quantile: 0.9 });
+        assert!(build_points(&t, &s).unwrap_err().to_string().contains("denoise.k"));
     }
 
     #[test]

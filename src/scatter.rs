@@ -153,6 +153,8 @@ mod tests {
             cover: CoverSettings::uniform(4, 0.2),
             lens2: None,
             cover2: None,
+            denoise: None,
+            min_cluster_share: 0.0,
             clustering: Clustering::Dbscan { eps: 0.5, min_points: 2 },
             edges: EdgeRule::default(),
             seed: 1,

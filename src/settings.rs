@@ -9,8 +9,9 @@ use serde::{Deserialize, Serialize};
 
 use crate::error::{Error, Result};
 
-/// The settings format this build writes and reads.
-pub const SETTINGS_VERSION: u32 = 1;
+/// The settings format this build writes. Version 2 added `denoise` and
+/// `minClusterShare`; a version-1 document (which has neither) still reads, with neither.
+pub const SETTINGS_VERSION: u32 = 2;
 
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 #[serde(rename_all = "camelCase", deny_unknown_fields)]
@@ -41,6 +42,45 @@ pub struct Settings {
     /// The second filter's 1-D cover; absent means the same as `cover`. Refused without `lens2`.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub cover2: Option<CoverSettings>,
+    /// Rows set aside before the filter because they lie far from the others (see
+    /// [`Denoise`]); absent (the default) sets none aside.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub denoise: Option<Denoise>,
+    /// A cluster with fewer rows than this share of its cover element's rows is not made a
+    /// node: its rows count as in no cluster there (they may still be in a node of an
+    /// overlapping element). 0 (the default) keeps every cluster. In [0, 0.5].
+    #[serde(default, skip_serializing_if = "is_zero")]
+    pub min_cluster_share: f64,
+}
+
+fn is_zero(x: &f64) -> bool {
+    *x == 0.0
+}
+
+/// Denoising before the graph: each point's distance to the empirical measure (Chazal,
+/// Cohen-Steiner, Mérigot 2011) or distance to its k-th nearest point (itself counted
+/// first, as in [`crate::filter::knn`]) is computed over the points, and the rows whose
+/// value lies strictly above the `quantile` of those values are set aside: they take no
+/// part in the filter, the cover or the clusters, and the summary counts them apart
+/// (`rowsSetAside`). The quantile is NumPy's default (linear interpolation between the
+/// order statistics). JSON: `{"measure": "distanceToMeasure", "k": 10, "quantile": 0.95}`.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(rename_all = "camelCase", deny_unknown_fields)]
+pub struct Denoise {
+    pub measure: DenoiseMeasure,
+    /// Neighbours counted, the point itself first; at least 2.
+    pub k: usize,
+    /// In (0, 1): 0.95 sets aside about one row in twenty.
+    pub quantile: f64,
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "camelCase")]
+pub enum DenoiseMeasure {
+    /// sqrt of the mean squared distance to the k nearest points.
+    DistanceToMeasure,
+    /// The distance to the k-th nearest point.
+    NeighbourDistance,
 }
 
 /// Most cells a product cover may have (intervals × intervals2), so that an unlucky
@@ -230,7 +270,7 @@ impl Settings {
     /// no derived column, one filter. For scripts and tests that state only what matters.
     pub fn plain(columns: Vec<String>, lens: Lens, cover: CoverSettings, clustering: Clustering) -> Settings {
         Settings {
-            version: 1,
+            version: SETTINGS_VERSION,
             columns,
             scaling: Scaling::None,
             missing: Missing::default(),
@@ -242,6 +282,8 @@ impl Settings {
             derived: Vec::new(),
             lens2: None,
             cover2: None,
+            denoise: None,
+            min_cluster_share: 0.0,
         }
     }
 
@@ -254,11 +296,11 @@ impl Settings {
 
     pub fn from_value(value: serde_json::Value) -> Result<Settings> {
         match value.get("version").and_then(|v| v.as_u64()) {
-            None => return Err(Error::settings("version", "missing; this build reads version 1")),
+            None => return Err(Error::settings("version", format!("missing; this build reads versions 1 to {SETTINGS_VERSION}"))),
             Some(v) if v as u32 > SETTINGS_VERSION => {
                 return Err(Error::settings(
                     "version",
-                    format!("the file is version {v}, written by a newer Nervure; this build reads version {SETTINGS_VERSION}"),
+                    format!("the file is version {v}, written by a newer Nervure; this build reads versions 1 to {SETTINGS_VERSION}"),
                 ))
             }
             _ => {}
@@ -328,6 +370,17 @@ impl Settings {
                 ));
             }
         }
+        if !(0.0..=0.5).contains(&self.min_cluster_share) {
+            return Err(Error::settings("minClusterShare", format!("{} is outside [0, 0.5]", self.min_cluster_share)));
+        }
+        if let Some(d) = &self.denoise {
+            if d.k < 2 {
+                return Err(Error::settings("denoise.k", "must be at least 2 (the point itself is its first neighbour)"));
+            }
+            if !(d.quantile > 0.0 && d.quantile < 1.0) {
+                return Err(Error::settings("denoise.quantile", format!("{} is outside (0, 1); 0.95 sets aside about one row in twenty", d.quantile)));
+            }
+        }
         crate::derive::validate(&self.derived)?;
         Ok(())
     }
@@ -335,11 +388,15 @@ impl Settings {
 
 /// Fields of the document and of its plain sub-objects, for naming an unknown field with
 /// its place (serde's own message names the field but not where it is).
-const KNOWN_FIELDS: [(&str, &[&str]); 5] = [
+const KNOWN_FIELDS: [(&str, &[&str]); 6] = [
     (
         "",
-        &["version", "columns", "scaling", "missing", "lens", "cover", "clustering", "edges", "seed", "derived", "lens2", "cover2"],
+        &[
+            "version", "columns", "scaling", "missing", "lens", "cover", "clustering", "edges", "seed", "derived", "lens2", "cover2",
+            "denoise", "minClusterShare",
+        ],
     ),
+    ("denoise", &["measure", "k", "quantile"]),
     ("cover", &["intervals", "overlap", "kind"]),
     ("cover2", &["intervals", "overlap", "kind"]),
     ("edges", &["minShared"]),
@@ -347,7 +404,8 @@ const KNOWN_FIELDS: [(&str, &[&str]); 5] = [
 ];
 
 /// Whole-number fields, each at least 1 (`seed` at least 0).
-const COUNT_FIELDS: [(&str, &str); 10] = [
+const COUNT_FIELDS: [(&str, &str); 11] = [
+    ("denoise", "k"),
     ("cover", "intervals"),
     ("cover2", "intervals"),
     ("lens", "k"),
@@ -361,8 +419,15 @@ const COUNT_FIELDS: [(&str, &str); 10] = [
 ];
 
 /// Number fields.
-const NUMBER_FIELDS: [(&str, &str); 5] =
-    [("cover", "overlap"), ("cover2", "overlap"), ("clustering", "eps"), ("lens", "bandwidth"), ("lens2", "bandwidth")];
+const NUMBER_FIELDS: [(&str, &str); 7] = [
+    ("cover", "overlap"),
+    ("cover2", "overlap"),
+    ("clustering", "eps"),
+    ("lens", "bandwidth"),
+    ("lens2", "bandwidth"),
+    ("denoise", "quantile"),
+    ("", "minClusterShare"),
+];
 
 fn path(parent: &str, field: &str) -> String {
     if parent.is_empty() {
@@ -445,7 +510,7 @@ mod tests {
 
     fn sample() -> Settings {
         Settings {
-            version: 1,
+            version: SETTINGS_VERSION,
             columns: vec!["a".into(), "b".into()],
             scaling: Scaling::Zscore,
             missing: Missing { fill_values: vec![-9999.0], ..Default::default() },
@@ -457,6 +522,8 @@ mod tests {
             derived: vec![Derived { name: "ratio".into(), expression: "a / b".into() }],
             lens2: None,
             cover2: None,
+            denoise: None,
+            min_cluster_share: 0.0,
         }
     }
 
@@ -488,9 +555,38 @@ mod tests {
     #[test]
     fn refuses_newer_version() {
         let mut v: serde_json::Value = serde_json::from_str(&sample().to_json()).unwrap();
-        v["version"] = serde_json::json!(2);
+        v["version"] = serde_json::json!(SETTINGS_VERSION + 1);
         let e = Settings::from_value(v).unwrap_err().to_string();
         assert!(e.contains("newer"), "{e}");
+    }
+
+    #[test]
+    fn version_2_fields_round_trip_and_version_1_documents_still_read() {
+        let mut s = sample();
+        s.denoise = Some(Denoise { measure: DenoiseMeasure::DistanceToMeasure, k: 10, quantile: 0.95 });
+        s.min_cluster_share = 0.02;
+        let text = s.to_json();
+        assert!(text.contains("\"denoise\"") && text.contains("\"distanceToMeasure\"") && text.contains("\"minClusterShare\": 0.02"), "{text}");
+        assert_eq!(Settings::from_json(&text).unwrap(), s);
+        // Neither field is written when unused.
+        assert!(!sample().to_json().contains("denoise") && !sample().to_json().contains("minClusterShare"));
+        let old = r#"{"version":1,"columns":["a"],"scaling":"none","lens":{"kind":"principal","component":1},
+            "cover":{"intervals":3,"overlap":0.2},"clustering":{"kind":"dbscan","eps":0.5,"minPoints":5}}"#;
+        let t = Settings::from_json(old).unwrap();
+        assert_eq!((t.version, t.denoise.clone(), t.min_cluster_share), (1, None, 0.0));
+        let err = |v: serde_json::Value| Settings::from_value(v).unwrap_err().to_string();
+        let mut v: serde_json::Value = serde_json::from_str(&text).unwrap();
+        v["denoise"]["quantile"] = serde_json::json!(1.0);
+        assert!(err(v).contains("'denoise.quantile'"));
+        let mut v: serde_json::Value = serde_json::from_str(&text).unwrap();
+        v["denoise"]["k"] = serde_json::json!(1);
+        assert!(err(v).contains("'denoise.k'"));
+        let mut v: serde_json::Value = serde_json::from_str(&text).unwrap();
+        v["denoise"]["radius"] = serde_json::json!(1);
+        assert!(err(v).contains("denoise.radius"));
+        let mut v: serde_json::Value = serde_json::from_str(&text).unwrap();
+        v["minClusterShare"] = serde_json::json!(0.7);
+        assert!(err(v).contains("'minClusterShare'"));
     }
 
     #[test]

@@ -219,7 +219,7 @@ impl Engine {
         let reader = self.reader.take().ok_or_else(|| fail("internal: finish_table before begin_table"))?;
         let part = reader.finish(None).map_err(fail)?;
         // A table the page cannot start from is refused before it replaces the one shown.
-        let auto = crate::auto::auto_settings(&part.table).map_err(fail)?;
+        let auto = crate::auto::auto_choice(&part.table).map_err(fail)?;
         self.notices = part.note.notes.clone();
         self.encoding = part.note.encoding;
         self.campaign.clear();
@@ -296,6 +296,11 @@ impl Engine {
     /// Concrete first settings for the table.
     pub fn auto_settings(&mut self) -> Result<JsValue, JsValue> {
         to_js(&self.bench.auto_settings().map_err(fail)?)
+    }
+
+    /// The numeric columns the automatic settings left out, each `{column, reason, why}`.
+    pub fn auto_left_out(&mut self) -> Result<JsValue, JsValue> {
+        to_js(&self.bench.auto_choice().map_err(fail)?.left_out)
     }
 
     /// Validates a settings object and returns it as the engine reads it.

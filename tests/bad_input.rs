@@ -38,6 +38,8 @@ fn base(columns: &[&str]) -> Settings {
         derived: Vec::new(),
         lens2: None,
         cover2: None,
+        denoise: None,
+        min_cluster_share: 0.0,
     }
 }
 

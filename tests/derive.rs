@@ -263,6 +263,8 @@ fn settings(lens: &str) -> Settings {
         derived: Vec::new(),
         lens2: None,
         cover2: None,
+        denoise: None,
+        min_cluster_share: 0.0,
     }
 }
 

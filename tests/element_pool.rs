@@ -28,6 +28,8 @@ fn settings(clustering: Clustering, overlap: f64) -> Settings {
         cover: CoverSettings::uniform(10, overlap),
         lens2: None,
         cover2: None,
+        denoise: None,
+        min_cluster_share: 0.0,
         clustering,
         edges: EdgeRule { min_shared: 1 },
         seed: 1,

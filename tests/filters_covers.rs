@@ -50,6 +50,8 @@ fn settings(columns: &[&str], lens: Lens) -> Settings {
         derived: Vec::new(),
         lens2: None,
         cover2: None,
+        denoise: None,
+        min_cluster_share: 0.0,
     };
     s.validate().unwrap();
     s

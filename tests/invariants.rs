@@ -42,6 +42,8 @@ fn settings(d: usize, lens: Lens, clustering: Clustering) -> Settings {
         derived: Vec::new(),
         lens2: None,
         cover2: None,
+        denoise: None,
+        min_cluster_share: 0.0,
     }
 }
 

@@ -249,6 +249,8 @@ fn valid_settings() -> impl Strategy<Value = Settings> {
             derived: Vec::new(),
             lens2: None,
             cover2: None,
+            denoise: None,
+            min_cluster_share: 0.0,
         })
 }
 

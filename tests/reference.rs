@@ -79,6 +79,8 @@ fn settings(columns: &[String], lens: Lens, intervals: usize, overlap: f64, clus
         derived: Vec::new(),
         lens2: None,
         cover2: None,
+        denoise: None,
+        min_cluster_share: 0.0,
     };
     s.validate().expect("test settings are valid");
     s

@@ -298,6 +298,8 @@ fn settings() -> Settings {
         derived: Vec::new(),
         lens2: None,
         cover2: None,
+        denoise: None,
+        min_cluster_share: 0.0,
         lens: Lens::Column { column: "x".into() },
         cover: CoverSettings::uniform(6, 0.3),
         clustering: Clustering::Dbscan { eps: 0.35, min_points: 3 },

@@ -98,6 +98,8 @@ fn run(name: &str, pts: &Cloud, lens: Lens, intervals: usize, overlap: f64, eps:
         derived: Vec::new(),
         lens2: None,
         cover2: None,
+        denoise: None,
+        min_cluster_share: 0.0,
     };
     nervure::build(&table, &s).unwrap_or_else(|e| panic!("{name}: {e}"))
 }
@@ -269,6 +271,8 @@ fn demo_temperature_and_oxygen_make_one_loop() {
         derived: Vec::new(),
         lens2: None,
         cover2: None,
+        denoise: None,
+        min_cluster_share: 0.0,
     };
     let b = nervure::build(&table, &s).unwrap();
     expect("demo temperature-oxygen", &b, 1, 1);
@@ -304,6 +308,8 @@ fn run_grid(name: &str, pts: &Cloud, intervals: usize, overlap: f64, eps: f64) -
         derived: Vec::new(),
         lens2: Some(Lens::Column { column: "c1".into() }),
         cover2: None,
+        denoise: None,
+        min_cluster_share: 0.0,
     };
     nervure::build(&table, &s).unwrap_or_else(|e| panic!("{name}: {e}"))
 }

@@ -104,6 +104,8 @@ pub const SELECTION_ROWS: usize = 256;
 /// Principal components whose most correlated columns are taken in turn.
 pub const SELECTION_COMPONENTS: usize = 6;
 pub const MIN_POINTS: usize = 5;
+/// The neighbour whose distance sets eps (the row itself counted first).
+pub const SCALE_NEIGHBOURS: usize = 15;
 /// Smallest share of its cover element a cluster needs to be a node.
 pub const MIN_CLUSTER_SHARE: f64 = 0.02;
 pub const OVERLAP: f64 = 0.4;
@@ -112,6 +114,8 @@ pub const MAX_INTERVALS: usize = 40;
 pub const ROWS_PER_INTERVAL: usize = 20;
 /// Rows sampled for the neighbour distances behind eps and the interval length.
 pub const SCALE_SAMPLE: usize = 500;
+/// Share of the rows that eps joins in one piece on small tables (see the module comment).
+pub const MAIN_SHARE: f64 = 0.8;
 
 /// Leaf size of the k-d tree over the whole table that finds the sample's neighbours. A
 /// few hundred queries over up to millions of rows: a shallower tree is quicker to build
@@ -196,7 +200,12 @@ pub fn auto_choice(table: &Table) -> Result<AutoChoice> {
     let lens = crate::filter::compute_lens(table, &pts, &s)?;
     let n = pts.rows.len();
     let dim = pts.data.ncols();
-    let scale = scale_of(pts.data.into_raw_vec_and_offset().0, dim, &lens, MIN_POINTS, s.seed);
+    let joining = if n <= SCALE_SAMPLE { joining_scale(pts.data.as_slice().expect("contiguous"), dim, MAIN_SHARE) } else { 0.0 };
+    let mut scale = scale_of(pts.data.into_raw_vec_and_offset().0, dim, &lens, SCALE_NEIGHBOURS, s.seed);
+    if KTH_FACTOR * joining > scale.eps {
+        scale.eps = KTH_FACTOR * joining;
+        scale.jump = scale.jump.max(joining);
+    }
     s.clustering = Clustering::Dbscan { eps: scale.eps, min_points: MIN_POINTS };
     let (lo, hi) = lens.iter().fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), &v| (a.min(v), b.max(v)));
     let most = MAX_INTERVALS.min(n / ROWS_PER_INTERVAL).max(MIN_INTERVALS);
@@ -355,10 +364,8 @@ fn by_main_directions(table: &Table, candidates: &[usize], fills: &[f64], seed: 
             gram[[b, a]] = g;
         }
     }
-    let (vals, vecs) = crate::filter::linalg::symmetric_eigen(&gram);
-    let mut idx: Vec<usize> = (0..m).collect();
-    idx.sort_by(|&a, &b| vals[b].total_cmp(&vals[a]));
-    let top: Vec<usize> = idx.into_iter().take(SELECTION_COMPONENTS).filter(|&k| vals[k] > 1e-9 * vals.iter().cloned().fold(0.0, f64::max)).collect();
+    let (vals, vecs) = leading_eigenvectors(&gram, SELECTION_COMPONENTS.min(m), seed);
+    let top: Vec<usize> = (0..vals.len()).filter(|&k| vals[k] > 1e-9 * vals[0].max(f64::MIN_POSITIVE)).collect();
     if top.is_empty() {
         return candidates.to_vec();
     }
@@ -401,6 +408,36 @@ fn by_main_directions(table: &Table, candidates: &[usize], fills: &[f64], seed: 
         }
     }
     order
+}
+
+/// The `k` leading eigenvalues (decreasing) and eigenvectors (columns) of the symmetric
+/// positive semi-definite `a`, by orthogonal iteration (Golub, Van Loan, "Matrix
+/// Computations", §8.2.4: Q ← orth(A Q), here 200 rounds from a seeded Gaussian start).
+/// Only the ranking of columns by these directions is read, so a few digits suffice.
+fn leading_eigenvectors(a: &ndarray::Array2<f64>, k: usize, seed: u64) -> (Vec<f64>, ndarray::Array2<f64>) {
+    let m = a.nrows();
+    let mut r = SplitMix64::new(seed ^ 0xE16E);
+    let mut q = ndarray::Array2::from_shape_fn((m, k), |_| r.normal());
+    let orth = |q: &mut ndarray::Array2<f64>| {
+        for j in 0..q.ncols() {
+            for i in 0..j {
+                let dot = q.column(i).dot(&q.column(j));
+                let ci = q.column(i).to_owned();
+                q.column_mut(j).scaled_add(-dot, &ci);
+            }
+            let norm = q.column(j).dot(&q.column(j)).sqrt();
+            if norm > 0.0 {
+                q.column_mut(j).mapv_inplace(|x| x / norm);
+            }
+        }
+    };
+    orth(&mut q);
+    for _ in 0..200 {
+        q = a.dot(&q);
+        orth(&mut q);
+    }
+    let vals: Vec<f64> = (0..k).map(|j| q.column(j).dot(&a.dot(&q.column(j)))).collect();
+    (vals, q)
 }
 
 /// The clustering scale and the filter's movement at that scale (see the module comment).
@@ -466,6 +503,61 @@ pub fn scale_of(points: Vec<f64>, dim: usize, lens: &[f64], k: usize, seed: u64)
         })
         .collect();
     Scale { eps, kth: q98, distinct: med, jump: crate::points::quantile(&jumps, 0.98) }
+}
+
+/// The smallest distance t at which the graph joining rows closer than t has a component
+/// holding `share` of the rows: the edges of the minimum spanning tree (Prim, O(n² d),
+/// for small tables only) taken shortest first, as Kruskal's algorithm takes them.
+pub fn joining_scale(points: &[f64], dim: usize, share: f64) -> f64 {
+    let n = points.len() / dim.max(1);
+    if n < 2 {
+        return 0.0;
+    }
+    let p = |i: usize| &points[i * dim..(i + 1) * dim];
+    let d = |a: &[f64], b: &[f64]| a.iter().zip(b).map(|(x, y)| (x - y) * (x - y)).sum::<f64>().sqrt();
+    let mut best = vec![f64::INFINITY; n];
+    let mut from = vec![0usize; n];
+    let mut done = vec![false; n];
+    let mut edges: Vec<(f64, usize, usize)> = Vec::with_capacity(n - 1);
+    let mut cur = 0;
+    done[0] = true;
+    for _ in 1..n {
+        for j in 0..n {
+            if !done[j] {
+                let dj = d(p(cur), p(j));
+                if dj < best[j] {
+                    best[j] = dj;
+                    from[j] = cur;
+                }
+            }
+        }
+        let next = (0..n).filter(|&j| !done[j]).min_by(|&a, &b| best[a].total_cmp(&best[b])).expect("rows remain");
+        edges.push((best[next], from[next], next));
+        done[next] = true;
+        cur = next;
+    }
+    edges.sort_by(|a, b| a.0.total_cmp(&b.0));
+    let mut parent: Vec<usize> = (0..n).collect();
+    let mut size = vec![1usize; n];
+    fn root(p: &mut [usize], mut i: usize) -> usize {
+        while p[i] != i {
+            p[i] = p[p[i]];
+            i = p[i];
+        }
+        i
+    }
+    let want = (share * n as f64).ceil() as usize;
+    for (len, a, b) in edges {
+        let (ra, rb) = (root(&mut parent, a), root(&mut parent, b));
+        if ra != rb {
+            parent[rb] = ra;
+            size[ra] += size[rb];
+            if size[ra] >= want {
+                return len;
+            }
+        }
+    }
+    0.0
 }
 
 /// Sentinels that the table's numeric columns use as "no value"; see the module comment.
@@ -627,6 +719,17 @@ mod tests {
         assert_eq!(s.kth, 0.0);
         assert_eq!(s.distinct, 1.0);
         assert!(s.eps > 1.0 && s.eps < 2.0, "eps {}", s.eps);
+    }
+
+    #[test]
+    fn joining_scale_is_the_spanning_tree_edge_that_makes_the_main_piece() {
+        // Three groups on a line, by hand: 0, 1, 2 (gaps 1), then 10, 11 (gap 8 before
+        // them), then 30 (gap 19). 4 of 6 rows (two thirds) need the edge of length 8;
+        // 5 of 6 need 8 too; all 6 need 19.
+        let p = [0.0, 1.0, 2.0, 10.0, 11.0, 30.0];
+        assert_eq!(joining_scale(&p, 1, 0.5), 1.0);
+        assert_eq!(joining_scale(&p, 1, 0.8), 8.0);
+        assert_eq!(joining_scale(&p, 1, 1.0), 19.0);
     }
 
     #[test]

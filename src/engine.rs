@@ -700,11 +700,98 @@ impl Workbench {
         }
     }
 
+    /// Help for a graph that is mostly noise or dust (see [`ScaleHelp`]), `None` when the
+    /// last graph is neither. The scale is computed on the last graph's points.
+    pub fn scale_help(&self) -> Result<Option<ScaleHelp>> {
+        let (_, b) = self.table_and_build()?;
+        let s = &b.summary;
+        let mut sizes: Vec<usize> = b.nerve.nodes.iter().map(|n| n.members.len()).collect();
+        sizes.sort_unstable();
+        let noise = s.rows > 0 && s.noise_rows * 2 >= s.rows;
+        let dust = sizes.len() >= DUST_NODES && sizes[sizes.len() / 2] <= 2;
+        if !noise && !dust {
+            return Ok(None);
+        }
+        let pts = self.points.as_ref().filter(|(k, _)| *k == PointsKey::of(&b.settings)).map(|(_, p)| p);
+        let pts = pts.ok_or_else(|| Error::Data("the points of the last graph are gone; build the graph again".into()))?;
+        let lens = self.lens.as_ref().filter(|(k, _)| *k == lens_key(&b.settings)).map(|(_, l)| l.first.clone());
+        let lens = lens.unwrap_or_else(|| vec![0.0; pts.rows.len()]);
+        let (eps_now, min_points) = match b.settings.clustering {
+            Clustering::Dbscan { eps, min_points } => (Some(eps), min_points),
+            Clustering::SingleLinkage { .. } => (None, crate::auto::MIN_POINTS),
+        };
+        let k = min_points.max(crate::auto::SCALE_NEIGHBOURS).min(pts.rows.len().max(1));
+        let scale = crate::auto::scale_of(pts.data.as_slice().expect("contiguous").to_vec(), pts.data.ncols(), &lens, k, b.settings.seed);
+        let (eps, min_points, lowered) = match eps_now {
+            Some(now) if scale.eps <= now => (now, crate::auto::MIN_POINTS.min(min_points), true),
+            _ => (scale.eps, min_points, false),
+        };
+        let mut settings = b.settings.clone();
+        settings.clustering = Clustering::Dbscan { eps, min_points };
+        let what = if noise {
+            format!(
+                "{} of {} rows ({:.0} %) are in no cluster: at this scale most rows have too few neighbours to form one.",
+                s.noise_rows,
+                s.rows,
+                100.0 * s.noise_rows as f64 / s.rows as f64
+            )
+        } else {
+            format!(
+                "The graph has {} nodes, half of them of {} row{} or fewer: it is dust, not a shape.",
+                sizes.len(),
+                sizes[sizes.len() / 2],
+                if sizes[sizes.len() / 2] == 1 { "" } else { "s" }
+            )
+        };
+        let how = if lowered {
+            format!(
+                "The clustering scale is already wide enough (eps {eps:.4}); the minimum of {} points per cluster is what leaves rows out. \
+                 DBSCAN with minimum points {min_points} keeps eps and lets most rows join a cluster.",
+                match b.settings.clustering {
+                    Clustering::Dbscan { min_points, .. } => min_points,
+                    _ => crate::auto::MIN_POINTS,
+                }
+            )
+        } else {
+            format!(
+                "At eps = {eps:.4} (computed on these points), 49 rows in 50 have at least {k} rows within eps in the whole table, \
+                 so most rows can join a cluster{}; the cover's slabs cut some neighbours off, so a few may stay out.",
+                if eps_now.is_none() { " (DBSCAN, minimum points {min_points})" } else { "" }
+            )
+        };
+        let how = how.replace("{min_points}", &min_points.to_string());
+        Ok(Some(ScaleHelp { kind: if noise { "noise" } else { "dust" }, what, how, eps, min_points, settings }))
+    }
+
     fn table_and_build(&self) -> Result<(&Table, &Build)> {
         let t = self.need_table()?;
         let b = self.last.as_ref().ok_or_else(|| Error::Data("no graph has been built yet".into()))?;
         Ok((t, b))
     }
+}
+
+/// Nodes past which a graph whose median node holds at most 2 rows counts as dust.
+pub const DUST_NODES: usize = 1000;
+
+/// What the page says above the canvas when most rows are in no cluster (`kind` "noise":
+/// at least half of the rows that took part) or the graph is dust (`kind` "dust": at
+/// least [`DUST_NODES`] nodes, the median of at most 2 rows), and the clustering that
+/// would make most rows part of a cluster: DBSCAN at the scale the automatic rule reads
+/// off these points ([`crate::auto::scale_of`]: 2^(1/4) times the 98th percentile of the
+/// distance to the k-th nearest row, k = max(minimum points, 15)), or, when eps is already
+/// that wide, the same eps with fewer minimum points.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+#[serde(rename_all = "camelCase")]
+pub struct ScaleHelp {
+    pub kind: &'static str,
+    /// What is wrong, in one sentence.
+    pub what: String,
+    /// What the proposed setting does, in one sentence.
+    pub how: String,
+    pub eps: f64,
+    pub min_points: usize,
+    /// The last graph's settings with the proposed clustering.
+    pub settings: Settings,
 }
 
 /// Cells of chosen rows: `cells[i][j]` is column `j` at data row `data_rows[i]` (1-based),

@@ -298,6 +298,12 @@ impl Engine {
         to_js(&self.bench.auto_settings().map_err(fail)?)
     }
 
+    /// Help for a last graph that is mostly noise or dust: `{kind, what, how, eps,
+    /// minPoints, settings}`, or null.
+    pub fn scale_help(&self) -> Result<JsValue, JsValue> {
+        to_js(&self.bench.scale_help().map_err(fail)?)
+    }
+
     /// The numeric columns the automatic settings left out, each `{column, reason, why}`.
     pub fn auto_left_out(&mut self) -> Result<JsValue, JsValue> {
         to_js(&self.bench.auto_choice().map_err(fail)?.left_out)

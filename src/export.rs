@@ -206,6 +206,17 @@ pub fn report(b: &Build, file_name: &str) -> String {
             s.loops - s.filled_loops
         );
     }
+    if let Some(d) = &b.settings.denoise {
+        let what = match d.measure {
+            crate::settings::DenoiseMeasure::DistanceToMeasure => "distance to a measure",
+            crate::settings::DenoiseMeasure::NeighbourDistance => "k-th neighbour distance",
+        };
+        let _ = writeln!(
+            t,
+            "Rows set aside before the filter: {} (their {what} with k = {} lies above its {} quantile); they are in no node and not counted in the rows used",
+            s.rows_set_aside, d.k, d.quantile
+        );
+    }
     let _ = writeln!(t, "Cover elements holding rows: {}; rows in no node (noise): {}", s.elements, s.noise_rows);
     let _ = writeln!(t, "Lens range: {} to {}", b.lens_range.0, b.lens_range.1);
     let _ = writeln!(t, "\nSettings (load this to rebuild the same graph):\n{}\n", b.settings.to_json());
@@ -233,6 +244,21 @@ mod tests {
     }
 
     const NAME: &str = "a&b <c> \"d\" 'e'";
+
+    #[test]
+    fn the_report_says_how_many_rows_were_set_aside() {
+        // 0, 1, ..., 38 and 1000: 3rd-neighbour distances 1 inside, 2 at the two ends, 962
+        // at 1000; the 0.95 quantile is 2 (NumPy's rule), so 1000 alone is set aside.
+        let x: Vec<f64> = (0..40).map(|i| if i == 39 { 1000.0 } else { i as f64 }).collect();
+        let t = Table::from_columns("t", vec![Column::number("x", x)]).unwrap();
+        let mut s = Settings::plain(vec!["x".into()], Lens::Column { column: "x".into() }, CoverSettings::uniform(4, 0.3), Clustering::Dbscan { eps: 0.3, min_points: 1 });
+        s.denoise = Some(Denoise { measure: DenoiseMeasure::NeighbourDistance, k: 3, quantile: 0.95 });
+        let b = crate::engine::build(&t, &s).unwrap();
+        assert_eq!(b.summary.rows_set_aside, 1);
+        let r = report(&b, "t.csv");
+        assert!(r.contains("Rows set aside before the filter: 1 (their k-th neighbour distance with k = 3 lies above its 0.95 quantile)"), "{r}");
+        assert!(graph_json(&b).contains("\"rowsSetAside\":1"));
+    }
 
     #[test]
     fn escapes_every_special_character() {

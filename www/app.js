@@ -28,6 +28,8 @@ const state = {
   table: null,             // {name, rows, columns: [ColumnSummary]}
   settings: null,          // the settings document, as the engine reads it
   summary: null,           // the last build's summary
+  help: null,              // the engine's help for a graph of noise or dust (scale_help), or null
+  leftOut: [],             // numeric columns the automatic settings left out: {column, reason, why}
   graph: null,             // typed arrays from the engine
   stale: false,            // the graph on screen does not match the settings (last build failed)
   colour: { column: null, stat: "mean", values: null, min: NaN, max: NaN },
@@ -220,6 +222,7 @@ async function loadTable(source, ask) {
   state.timing.tableRead = performance.now();
   state.table = loaded.table;
   state.settings = loaded.settings;
+  state.leftOut = loaded.leftOut || [];
   state.files = loaded.files || null;
   state.restored = null;
   if (typeof restoreSettingsFor === "function") await restoreSettingsFor(loaded);
@@ -311,6 +314,7 @@ async function build(seq, nodeLimit) {
   state.progress = null;
   state.builds++;
   state.summary = out.summary;
+  state.help = out.help || null;
   state.graph = out.graph;
   state.stale = false;
   resetSelection();
@@ -429,6 +433,14 @@ function settingsFromForm() {
   s.columns = chosenColumns(s.columns, Array.from(document.querySelectorAll("#columns-body input[type=checkbox]:checked")).map((c) => c.dataset.column));
   s.scaling = byId("s-scaling").value;
   s.missing = { fillValues: parseNumberList(byId("s-fill").value) };
+  const dn = byId("s-denoise").value;
+  if (!dn) delete s.denoise;
+  else {
+    const was = s.denoise || { k: 10, quantile: 0.95 };
+    const k = byId("s-denoise-k").value === "" ? was.k : intValue("s-denoise-k");
+    const q = byId("s-denoise-q").value === "" ? was.quantile : Number(byId("s-denoise-q").value);
+    s.denoise = { measure: dn, k, quantile: q };
+  }
 
   const kind = byId("s-lens").value;
   if (s.lens.kind !== kind) {
@@ -492,6 +504,7 @@ function renderAll() {
   renderLegend();
   renderProgress();
   renderMessage();
+  renderScaleHelp();
   renderDetail();
   renderDerived();
   renderRestored();
@@ -534,6 +547,8 @@ function renderColumns() {
     if (c.kind !== "number" && c.levels !== null && c.levels !== undefined) kind.textContent += " · " + plural(c.levels, "value", "values");
     if (c.unit) kind.textContent += " · " + c.unit;
     tdName.append(kind);
+    const out = (state.leftOut || []).find((l) => l.column === c.name);
+    if (out && !box.checked) tdName.append(el("span", "left-out", "not chosen automatically: " + out.why));
     tdName.title = c.name + (c.kind === "number" ? " (numbers)" : " (text values)");
     if (c.firstText) tdName.title += "; read as text because data row " + c.firstText.row + " holds “" + c.firstText.text + "”";
     const tdMissing = el("td", "num" + (c.missing > 0 ? " has-missing" : ""), formatCount(c.missing));
@@ -563,6 +578,9 @@ function renderSettings() {
 
   put("s-scaling", s.scaling);
   put("s-fill", ((s.missing && s.missing.fillValues) || []).join(", "));
+  put("s-denoise", s.denoise ? s.denoise.measure : "");
+  byId("denoise-fields").hidden = !s.denoise;
+  if (s.denoise) { put("s-denoise-k", s.denoise.k); put("s-denoise-q", s.denoise.quantile); }
   put("s-lens", s.lens.kind);
   if (s.lens.kind === "principal") put("s-component", s.lens.component);
   const numeric = numericColumns();
@@ -616,6 +634,7 @@ function renderSummary() {
   });
   const rows = [plural(s.rows, "row used", "rows used"), plural(s.rowsLeftOut, "row left out", "rows left out")];
   if (s.noiseRows > 0) rows.push(plural(s.noiseRows, "row in no cluster", "rows in no cluster"));
+  if (s.rowsSetAside > 0) rows.push(plural(s.rowsSetAside, "far row set aside", "far rows set aside"));
   const rowLine = byId("summary-rows");
   rowLine.textContent = rows.join(" · ");
   rowLine.hidden = false;
@@ -654,6 +673,17 @@ function renderProgress() {
   byId("progress-label").textContent = p.label + " · " + Math.round(100 * Math.max(0, Math.min(1, p.fraction))) + " %";
   byId("cancel-button").hidden = !(state.phase === "building" || state.phase === "reading") || recovery.recovering;
   byId("progress-fill").style.width = (100 * Math.max(0, Math.min(1, p.fraction))).toFixed(1) + "%";
+}
+
+/** Above the canvas: the graph is mostly noise or dust, what the engine proposes, one button. */
+function renderScaleHelp() {
+  const box = byId("scale-help");
+  const h = state.help;
+  box.hidden = !h || !state.graph;
+  if (box.hidden) return;
+  byId("scale-help-what").textContent = h.what;
+  byId("scale-help-how").textContent = h.how;
+  byId("scale-help-apply").textContent = "Use eps " + formatNumber(h.eps) + (h.minPoints !== undefined ? ", minimum points " + h.minPoints : "");
 }
 
 function renderMessage() {
@@ -754,6 +784,13 @@ function wire() {
     byId("s-overlap-out").textContent = Math.round(Number(byId("s-overlap").value) * 100) + " %";
   });
   byId("columns-body").addEventListener("change", onFormChange);
+  byId("scale-help-apply").addEventListener("click", function () {
+    if (!state.help) return;
+    const next = JSON.parse(JSON.stringify(state.help.settings));
+    state.help = null;
+    renderScaleHelp();
+    applySettings(next).catch(function () { /* shown on the page */ });
+  });
 
   byId("colour-select").addEventListener("change", function () {
     setColourColumn(byId("colour-select").value).catch(function () { /* shown on the page */ });

@@ -273,7 +273,7 @@ function tableMessage(engine) {
   // The column list counts the automatic fill values as missing, as the build will.
   const fill = (settings.missing && settings.missing.fillValues) || [];
   const table = engine.column_summaries(new Float64Array(fill));
-  return { table, settings, files: engine.files() };
+  return { table, settings, files: engine.files(), leftOut: engine.auto_left_out() };
 }
 
 async function handle(engine, msg) {
@@ -337,7 +337,8 @@ async function handle(engine, msg) {
         graph.transfer.push(colour.values.buffer);
       }
       times.graphAndColourMs = performance.now() - t0;
-      return { value: { summary, graph: graph.value, colour, times }, transfer: graph.transfer };
+      const help = engine.scale_help();
+      return { value: { summary, graph: graph.value, colour, times, help }, transfer: graph.transfer };
     }
     case "colour": {
       const values = msg.lens ? engine.node_lens_values(0) : engine.node_values(msg.column, msg.stat || "mean");

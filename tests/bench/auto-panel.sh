@@ -23,5 +23,8 @@ if [ "${1:-}" = "--before" ]; then
   cp examples/auto_panel.rs "$dir/examples/"
   cp tests/common/shapes.rs "$dir/tests/common/"
   cd "$dir"
+  # A build folder of its own: the archive's files carry the commit's times, older than
+  # this checkout's build, and cargo would take that build as up to date for them.
+  export CARGO_TARGET_DIR="${CARGO_TARGET_DIR}/panel-before"
 fi
 cargo run --quiet --profile panel --example auto_panel

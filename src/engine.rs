@@ -691,7 +691,14 @@ impl Workbench {
     pub fn scatter(&self, axes: &crate::scatter::Axes, limit: usize) -> Result<crate::scatter::ScatterData> {
         let (table, b) = self.table_and_build()?;
         match axes {
-            crate::scatter::Axes::Columns(x, y) => crate::scatter::column_pair(table, &b.settings.missing.fill_values, x, y, limit, b.settings.seed),
+            crate::scatter::Axes::Columns(x, y) => {
+                let mut d = crate::scatter::column_pair(table, &b.settings.missing.fill_values, x, y, limit, b.settings.seed)?;
+                let pts = self.points.as_ref().filter(|(k, _)| *k == PointsKey::of(&b.settings)).map(|(_, p)| p);
+                if let Some(p) = pts.filter(|p| !p.set_aside.is_empty()) {
+                    d.set_aside = d.rows.iter().enumerate().filter(|(_, r)| p.set_aside.binary_search(r).is_ok()).map(|(i, _)| i as u32).collect();
+                }
+                Ok(d)
+            }
             crate::scatter::Axes::Principal => {
                 let pts = self.points.as_ref().filter(|(k, _)| *k == PointsKey::of(&b.settings)).map(|(_, p)| p);
                 let pts = pts.ok_or_else(|| Error::Data("the points of the last graph are gone; build the graph again".into()))?;
@@ -1098,6 +1105,28 @@ fn dominant(codes: &[u32], n_levels: usize, rows: &[u32]) -> Option<(u32, f64)> 
 mod tests {
     use super::*;
     use crate::table::Column;
+
+    /// Denoising counts its rows apart, keeps them out of every node, and the scatter of
+    /// two columns marks exactly them.
+    #[test]
+    fn rows_set_aside_are_counted_apart_and_marked_in_the_scatter() {
+        // 0, 1, ..., 98 on a line and two far rows (1000, 2000): their 3rd-neighbour
+        // distances are the two largest, above the 0.97 quantile (NumPy's rule: 2).
+        let mut x: Vec<f64> = (0..99).map(f64::from).collect();
+        x.extend([1000.0, 2000.0]);
+        let y: Vec<f64> = x.iter().map(|v| v * 0.5).collect();
+        let t = Table::from_columns("t", vec![Column::number("x", x), Column::number("y", y)]).unwrap();
+        let mut s = Settings::plain(vec!["x".into(), "y".into()], Lens::Column { column: "x".into() }, CoverSettings::uniform(4, 0.3), Clustering::Dbscan { eps: 3.0, min_points: 2 });
+        s.denoise = Some(crate::settings::Denoise { measure: crate::settings::DenoiseMeasure::NeighbourDistance, k: 3, quantile: 0.97 });
+        let mut w = Workbench::new();
+        w.set_table(t);
+        let sum = w.run(&s, &mut |_, _| {}).unwrap();
+        assert_eq!((sum.rows, sum.rows_set_aside, sum.rows_left_out), (99, 2, 0));
+        assert!(w.last().unwrap().nerve.nodes.iter().all(|n| n.members.iter().all(|&r| r < 99)));
+        let d = w.scatter(&crate::scatter::Axes::Columns("x".into(), "y".into()), 1000).unwrap();
+        let marked: Vec<u32> = d.set_aside.iter().map(|&i| d.rows[i as usize]).collect();
+        assert_eq!(marked, vec![99, 100]);
+    }
 
     /// The kept automatic settings are exactly those made afresh, before and after the
     /// table's columns change (derived columns appended can be chosen by them).

@@ -282,7 +282,7 @@ mod tests {
             assert!(["&amp;", "&lt;", "&gt;", "&quot;", "&apos;"].iter().any(|e| rest.starts_with(e)), "bad entity at {i}");
         }
         assert!(!g.contains("<c>"));
-        assert!(g.contains("&quot;version&quot;:1"), "settings JSON as an escaped string");
+        assert!(g.contains(&format!("&quot;version&quot;:{}", crate::settings::SETTINGS_VERSION)), "settings JSON as an escaped string");
     }
 
     #[test]

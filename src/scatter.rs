@@ -39,6 +39,11 @@ pub struct ScatterData {
     pub total: usize,
     pub x_label: String,
     pub y_label: String,
+    /// Positions in `rows` of the rows the last graph's denoising set aside (filled by
+    /// [`crate::engine::Workbench::scatter`]; empty for principal components, whose points
+    /// have none of them).
+    #[serde(default)]
+    pub set_aside: Vec<u32>,
 }
 
 fn numeric<'a>(table: &'a Table, name: &str, axis: &str) -> Result<&'a [f64]> {
@@ -70,6 +75,7 @@ pub fn column_pair(table: &Table, fill_values: &[f64], x: &str, y: &str, limit: 
         total: both.len(),
         x_label: x.to_string(),
         y_label: y.to_string(),
+        set_aside: Vec::new(),
     })
 }
 
@@ -88,6 +94,7 @@ pub fn principal_pair(points: &Points, limit: usize, seed: u64) -> Result<Scatte
         total: points.rows.len(),
         x_label: "principal component 1".into(),
         y_label: "principal component 2".into(),
+        set_aside: Vec::new(),
     })
 }
 

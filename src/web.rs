@@ -465,6 +465,7 @@ impl Engine {
         set(&out, "total", &JsValue::from_f64(d.total as f64));
         set(&out, "xLabel", &JsValue::from_str(&d.x_label));
         set(&out, "yLabel", &JsValue::from_str(&d.y_label));
+        set(&out, "setAside", &Uint32Array::from(&d.set_aside[..]).into());
         Ok(out.into())
     }
 

@@ -200,7 +200,7 @@ fn bad_settings_documents_name_the_field() {
     );
     assert_eq!(
         refused(|v| v["version"] = json!(7)),
-        "setting 'version': the file is version 7, written by a newer Nervure; this build reads version 1"
+        "setting 'version': the file is version 7, written by a newer Nervure; this build reads versions 1 to 2"
     );
     assert_eq!(
         refused(|v| v["colour"] = json!("red")),

@@ -355,3 +355,37 @@ fn penguins_csv_reads_as_the_package_ships_it() {
         assert_eq!(s.levels, Some(want["levels"].as_array().unwrap().len()), "{name} levels");
     }
 }
+
+// ---------------------------------------------------------------------------------------
+// Denoising: denoise.json (scikit-learn's NearestNeighbors and NumPy's quantile on the
+// palmerpenguins measurements; see make_fixtures.py, denoise_fixture).
+
+/// The rows set aside by `settings.denoise` are exactly those scikit-learn's distances and
+/// NumPy's quantile set aside, for both measures and three (k, quantile) pairs.
+#[test]
+fn denoising_sets_aside_the_rows_scikit_learn_sets_aside() {
+    use nervure::settings::{Denoise, DenoiseMeasure};
+    let f = fixture("denoise.json");
+    let path = format!("{}/tests/reference/fixtures/penguins.csv", env!("CARGO_MANIFEST_DIR"));
+    let t = Table::from_csv_bytes("penguins.csv", &std::fs::read(&path).unwrap(), &ReadOptions::default()).unwrap();
+    let columns: Vec<String> = f["columns"].as_array().unwrap().iter().map(|c| c.as_str().unwrap().to_string()).collect();
+    let cases = f["cases"].as_array().unwrap();
+    assert_eq!(cases.len(), 6);
+    for c in cases {
+        // The comparison is exact only if no value sits on the threshold within rounding.
+        assert!(c["nearest_to_threshold"].as_f64().unwrap() > 1e-9, "{c}");
+        let mut s = Settings::plain(columns.clone(), Lens::Principal { component: 1 }, CoverSettings::uniform(5, 0.3), Clustering::Dbscan { eps: 0.5, min_points: 5 });
+        s.scaling = nervure::settings::Scaling::Zscore;
+        s.denoise = Some(Denoise {
+            measure: if c["measure"] == "distanceToMeasure" { DenoiseMeasure::DistanceToMeasure } else { DenoiseMeasure::NeighbourDistance },
+            k: c["k"].as_u64().unwrap() as usize,
+            quantile: c["quantile"].as_f64().unwrap(),
+        });
+        let p = nervure::points::build_points(&t, &s).unwrap();
+        let got: Vec<u64> = p.set_aside.iter().map(|&r| r as u64 + 1).collect();
+        let want: Vec<u64> = c["set_aside_data_rows"].as_array().unwrap().iter().map(|v| v.as_u64().unwrap()).collect();
+        assert!(!want.is_empty());
+        assert_eq!(got, want, "{c}");
+        assert_eq!(p.rows.len() + p.set_aside.len() + p.left_out, t.n_rows);
+    }
+}

@@ -403,6 +403,55 @@ fn suggested_settings_follow_the_rule_and_recover_the_circle() {
     assert!(len <= sg.resolution + 1e-12, "interval length {len} above resolution {}", sg.resolution);
 }
 
+/// The paper's setting (Carrière, Michel, Oudot 2018): points sampled on a curve with a
+/// filter whose Reeb graph is known, here a unit circle under its height y (Reeb graph: a
+/// loop). As n grows the estimated scale δ_n shrinks (their estimator goes to 0 with the
+/// sampling distance), the resolution follows it, and the suggested graph has the Reeb
+/// graph's 1 component and 1 loop at every size, with the paper's own count in use.
+#[test]
+fn suggested_settings_behave_as_the_paper_describes_on_a_circle_under_its_height() {
+    let mut deltas = Vec::new();
+    for n in [500, 2000, 8000] {
+        let mut rng = nervure::rng::SplitMix64::new(n as u64);
+        let (x, y): (Vec<f64>, Vec<f64>) = (0..n)
+            .map(|_| {
+                let t = 2.0 * std::f64::consts::PI * rng.next_f64();
+                (t.cos() + 0.01 * rng.normal(), t.sin() + 0.01 * rng.normal())
+            })
+            .unzip();
+        let t = Table::from_columns("circle", vec![Column::number("x", x), Column::number("y", y)]).unwrap();
+        let s = Settings::plain(vec!["x".into(), "y".into()], Lens::Column { column: "y".into() }, CoverSettings::uniform(5, 0.3), Clustering::Dbscan { eps: 0.1, min_points: 5 });
+        let sg = suggest(&t, &s, 1).unwrap();
+        assert!(!sg.fallback, "n = {n}: {:?}", sg.warnings);
+        assert_eq!(sg.settings.cover.intervals, sg.paper_intervals);
+        let b = nervure::build(&t, &sg.settings).unwrap();
+        assert_eq!((b.summary.components, b.summary.loops), (1, 1), "n = {n}: {:?} with {:?}", b.summary, sg.settings.cover);
+        deltas.push(sg.delta);
+    }
+    assert!(deltas[0] > deltas[1] && deltas[1] > deltas[2], "δ_n should shrink as n grows: {deltas:?}");
+}
+
+/// Wide data: the demo's rows in its 12 columns (invented data; the point is the shape of
+/// the table, a few thousand rows in 12 dimensions). The paper's count is below 3 there
+/// (see the module comment of `nervure::shape::suggest`); the suggestion says why and
+/// gives the automatic rule's cover, a usable count.
+#[test]
+fn suggestion_on_wide_data_says_why_and_gives_a_usable_count() {
+    let path = format!("{}/demo/river-sensors.csv", env!("CARGO_MANIFEST_DIR"));
+    let table = Table::from_csv_bytes("river-sensors.csv", &std::fs::read(&path).unwrap(), &Default::default()).unwrap();
+    let mut s = nervure::auto::auto_settings(&table).unwrap();
+    let numeric: Vec<String> = table.columns.iter().filter(|c| c.as_numbers().is_some()).map(|c| c.name.clone()).take(12).collect();
+    s.columns = numeric;
+    s.lens = Lens::Principal { component: 1 };
+    let sg = suggest(&table, &s, 1).unwrap();
+    assert!(sg.paper_intervals < nervure::shape::suggest::MIN_USABLE, "paper's count {}", sg.paper_intervals);
+    assert!(sg.fallback);
+    assert!(sg.settings.cover.intervals >= nervure::auto::MIN_INTERVALS, "{:?}", sg.settings.cover);
+    assert!(sg.warnings.iter().any(|w| w.contains("dimensions") && w.contains("automatic rule")), "{:?}", sg.warnings);
+    let b = nervure::build(&table, &sg.settings).unwrap();
+    assert!(b.summary.nodes >= sg.settings.cover.intervals, "{:?}", b.summary);
+}
+
 // ---------------------------------------------------------------------------------------
 // Sweep.
 

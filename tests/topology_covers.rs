@@ -38,6 +38,8 @@ fn settings(cover: CoverSettings, lens2: Option<Lens>) -> Settings {
         derived: Vec::new(),
         cover2: lens2.as_ref().map(|_| cover),
         lens2,
+        denoise: None,
+        min_cluster_share: 0.0,
     };
     s.validate().unwrap();
     s

@@ -63,6 +63,7 @@ async function refreshScatter() {
   byId("scatter-note").textContent = n < data.total
     ? "Showing " + formatCount(n) + " of " + formatCount(data.total) + " rows: a random sample drawn from the settings’ seed (the same sample every time)."
     : "Showing all " + plural(data.total, "row", "rows") + " with a value on both axes.";
+  if (data.setAside && data.setAside.length) byId("scatter-note").textContent += " Open rings: " + plural(data.setAside.length, "row", "rows") + " set aside as far from the others (not in the graph).";
   scatterSelectionChanged();
   return data;
 }
@@ -144,6 +145,17 @@ function drawScatter() {
   for (let i = 0; i < d.x.length; i++) {
     if (lit && lit[i]) continue;
     ctx.fillRect(sx(d.x[i]) - size / 2, sy(d.y[i]) - size / 2, size, size);
+  }
+  if (d.setAside && d.setAside.length) {
+    // Rows the denoising set aside: open rings, so they read as "not in the graph".
+    ctx.strokeStyle = "rgba(150, 96, 10, 0.9)";
+    ctx.lineWidth = 1;
+    ctx.beginPath();
+    for (const i of d.setAside) {
+      ctx.moveTo(sx(d.x[i]) + size + 0.5, sy(d.y[i]));
+      ctx.arc(sx(d.x[i]), sy(d.y[i]), size + 0.5, 0, 2 * Math.PI);
+    }
+    ctx.stroke();
   }
   if (lit) {
     ctx.fillStyle = "rgba(181, 54, 31, 0.85)";

@@ -275,7 +275,8 @@ function createShapePanel(deps) {
     const add = (list, text) => list.append(el("li", null, text));
     add(values, "Scale δ = " + formatNumber(g.delta) + ": mean distance from all rows to " + g.hausdorff.length + " random subsets of " + g.subsampleSize + " rows.");
     add(values, "Largest lens change between rows within δ: " + formatNumber(g.largestLensJump) + "; overlap " + g.gain + ", so intervals at most " + formatNumber(g.resolution) + " long.");
-    add(values, "That gives " + plural(g.settings.cover.intervals, "interval", "intervals") + ", overlap " + g.settings.cover.overlap + ", and clusters joined within δ (DBSCAN, radius δ, 1 point).");
+    if (g.fallback) add(values, "The paper's rule gives " + plural(g.paperIntervals, "interval", "intervals") + ", too few to draw a shape (see below); the automatic rule's cover is proposed instead: " + plural(g.settings.cover.intervals, "interval", "intervals") + ", overlap " + g.settings.cover.overlap + ", DBSCAN eps " + formatNumber(g.settings.clustering.eps) + ".");
+    else add(values, "That gives " + plural(g.settings.cover.intervals, "interval", "intervals") + ", overlap " + g.settings.cover.overlap + ", and clusters joined within δ (DBSCAN, radius δ, 1 point).");
     if (g.changes.length === 0) add(values, "These are the settings already in use.");
     const warnings = byId("sp-suggest-warnings");
     warnings.textContent = "";

@@ -1,24 +1,54 @@
 //! Settings suggested from the data by the parameter-selection rule of Carrière, Michel,
-//! Oudot 2018 (§3, "parameter selection"; the rule as we recall it, written out here so
-//! it can be checked against the paper):
+//! Oudot, "Statistical analysis and parameter selection for Mapper", JMLR 19 (2018), the
+//! section on parameter selection (their §4 in the versions we recall).
 //!
-//! 1. the clustering scale δ is estimated by subsampling: draw N subsamples S_1..S_N of
-//!    size s(n) = ceil(n / (ln n)^(1 + β)) without replacement and take the mean of the
-//!    Hausdorff distances d_H(X_n, S_k) = max over x in X_n of the distance from x to S_k;
-//! 2. the clustering is single linkage cut at δ, i.e. the connected components of the
-//!    δ-neighbourhood graph; here DBSCAN with eps = δ and min points 1 (every point is a
-//!    core point, so DBSCAN's clusters are exactly those components);
-//! 3. the gain g is taken in (1/3, 1/2): here g = 0.4, the overlap of our cover;
-//! 4. the resolution (interval length) is r = max{|f(X_i) - f(X_j)| : |X_i - X_j| ≤ δ} / g,
-//!    the largest jump of the lens along a neighbour pair at scale δ, divided by the gain;
-//!    our cover takes an interval count, so the count is the smallest n whose interval
-//!    length (hi - lo) / (n - (n - 1) g) is at most r.
+//! **Where the formulas come from.** The stored copies of the paper that could be reached
+//! while this was written (the arXiv 1706.00204 HTML, the HAL and JMLR PDFs as indexed
+//! pages) gave only the abstract and the introduction, not the section itself, so the
+//! formulas below are written from memory and their equation numbers could not be
+//! checked; they are marked "(from memory)". They agree with the paper's abstract: the
+//! Mapper is an estimator of the Reeb graph, and the rule tunes it so that it converges.
 //!
-//! Choices the paper leaves open, ours: β = 0.5 and N = 10 (the paper asks only β > 0).
-//! Distances are those of the scaled points the graph uses. Cost: N nearest-neighbour
-//! passes over the rows and one range search per row at radius δ.
+//! In the paper's notation, X_n = {X_1, ..., X_n} are the points and f the filter:
 //!
-//! Not here: checking the suggested graph ([`super::confidence`], [`super::sweep`]).
+//! 1. the scale (the Rips parameter δ) is estimated by subsampling (from memory):
+//!    δ_n = (1/N) Σ_{k=1..N} d_H(X_n, X_n^{s(n),k}), with s(n) = n / (log n)^(1+β),
+//!    β > 0, where X_n^{s(n),k} is the k-th of N subsamples of s(n) points drawn without
+//!    replacement and d_H(X_n, S) = max_{x ∈ X_n} min_{y ∈ S} ‖x − y‖ (S ⊂ X_n);
+//! 2. the clusters of a cover element are the connected components of the δ_n-neighbourhood
+//!    graph (the 1-skeleton of the Rips complex) restricted to it;
+//! 3. the gain (our overlap) g is taken in (1/3, 1/2);
+//! 4. the resolution (interval length) is (from memory)
+//!    r_n = max{ |f(X_i) − f(X_j)| : ‖X_i − X_j‖ ≤ δ_n } / g,
+//!    so that two points within δ_n of each other always share an interval.
+//!
+//! **Ours, and where it differs.**
+//! - β = 0.5 and N = 10 (the paper asks β > 0 and leaves N to the user); distances are
+//!   those of the scaled points the graph uses; log is the natural logarithm.
+//! - Step 2 is DBSCAN with eps = δ and minimum points 1: every point is then a core
+//!   point, and DBSCAN's clusters are exactly the components of the δ-neighbourhood graph.
+//! - g = 0.4, inside (1/3, 1/2).
+//! - Our cover takes an interval count, not a length: the count is the smallest n whose
+//!   length (hi − lo) / (n − (n − 1) g) is at most r_n ([`interval_count`]).
+//! - **Wide data.** The rule estimates how far the rows are from the shape they sample; in
+//!   d dimensions a subsample of s(n) rows covers the rows only at a distance that shrinks
+//!   like (log n / n)^(1/d), so with a few thousand rows in 10 or more dimensions δ_n is a
+//!   large part of the data's spread, neighbours at δ_n span most of the filter's range,
+//!   and the rule's count is 1 or 2 (1 on the demo's 12 columns). That is the rule's
+//!   honest answer for such a table: its guarantee needs many more rows for the
+//!   dimension. A count below [`MIN_USABLE`] is therefore not used: the suggestion then
+//!   takes the automatic rule's cover and clustering on the same points and filter
+//!   ([`crate::auto`]: eps from the 15th-neighbour distances, intervals from the filter's
+//!   movement at that scale and the row count), says so in `warnings`, and keeps the
+//!   paper's numbers in `paperIntervals`, `delta` and `resolution` so they can be read.
+//!
+//! The paper's behaviour on a shape it treats (points on a curve, with a filter whose
+//! Reeb graph is known: a circle under its height has a loop) is checked in
+//! `tests/shape.rs`: the suggested graph has the Reeb graph's one component and one loop,
+//! and δ_n shrinks as n grows.
+//!
+//! Cost: N nearest-neighbour passes over the rows and one range search per row at
+//! radius δ. Not here: checking the suggested graph ([`super::confidence`], [`super::sweep`]).
 
 use serde::Serialize;
 
@@ -32,6 +62,9 @@ use crate::table::Table;
 pub const BETA: f64 = 0.5;
 pub const SUBSAMPLES: usize = 10;
 pub const GAIN: f64 = 0.4;
+/// Fewest intervals of the paper's rule that the suggestion uses as they are (see the
+/// module comment on wide data).
+pub const MIN_USABLE: usize = 3;
 
 #[derive(Debug, Clone, PartialEq, Serialize)]
 #[serde(rename_all = "camelCase")]
@@ -48,6 +81,12 @@ pub struct Suggestion {
     pub gain: f64,
     /// Interval length r = largest_lens_jump / gain.
     pub resolution: f64,
+    /// The interval count of the paper's rule; the suggested cover has it unless it is
+    /// below [`MIN_USABLE`] (then `fallback` is true).
+    pub paper_intervals: usize,
+    /// True when the paper's count was too small to use and the automatic rule's cover
+    /// and clustering were taken instead.
+    pub fallback: bool,
     /// What changed, one line per setting, "field: old -> new".
     pub changes: Vec<String>,
     /// Reasons to doubt the suggestion, in words for the user.
@@ -99,9 +138,18 @@ pub fn suggest(table: &Table, settings: &Settings, seed: u64) -> Result<Suggesti
     let resolution = jump / GAIN;
     let intervals = interval_count(hi - lo, resolution, GAIN);
     let mut s = settings.clone();
-    s.cover.intervals = intervals;
-    s.cover.overlap = GAIN;
-    s.clustering = Clustering::Dbscan { eps: delta, min_points: 1 };
+    let fallback = intervals < MIN_USABLE;
+    if fallback {
+        let scale = crate::auto::scale_of(flat.to_vec(), d, lens, crate::auto::SCALE_NEIGHBOURS, seed);
+        let most = crate::auto::MAX_INTERVALS.min(n / crate::auto::ROWS_PER_INTERVAL).max(crate::auto::MIN_INTERVALS);
+        s.cover.intervals = interval_count(hi - lo, scale.jump / crate::auto::OVERLAP, crate::auto::OVERLAP).clamp(crate::auto::MIN_INTERVALS, most);
+        s.cover.overlap = crate::auto::OVERLAP;
+        s.clustering = Clustering::Dbscan { eps: scale.eps, min_points: crate::auto::MIN_POINTS };
+    } else {
+        s.cover.intervals = intervals;
+        s.cover.overlap = GAIN;
+        s.clustering = Clustering::Dbscan { eps: delta, min_points: 1 };
+    }
     let mut changes = Vec::new();
     if s.cover.intervals != settings.cover.intervals {
         changes.push(format!("cover.intervals: {} -> {}", settings.cover.intervals, s.cover.intervals));
@@ -110,17 +158,36 @@ pub fn suggest(table: &Table, settings: &Settings, seed: u64) -> Result<Suggesti
         changes.push(format!("cover.overlap: {} -> {}", settings.cover.overlap, s.cover.overlap));
     }
     if s.clustering != settings.clustering {
-        changes.push(format!("clustering: {:?} -> DBSCAN eps {delta:.4} minPoints 1 (single linkage at scale δ)", settings.clustering));
+        match &s.clustering {
+            Clustering::Dbscan { eps, min_points: 1 } => {
+                changes.push(format!("clustering: {:?} -> DBSCAN eps {eps:.4} minPoints 1 (single linkage at scale δ)", settings.clustering))
+            }
+            c => changes.push(format!("clustering: {:?} -> {c:?} (the automatic rule's scale)", settings.clustering)),
+        }
     }
     let mut warnings = Vec::new();
-    if intervals < 3 {
+    if fallback {
         warnings.push(format!(
-            "the rule gives {intervals} interval(s): at the estimated scale δ = {delta:.3} neighbouring rows already span most of the filter's range, \
-             so the graph would show one blob. This happens when the rows are few for their {d} dimensions (a subsample then covers them only coarsely); \
-             try fewer columns, or keep your own cover and use a sweep instead"
+            "the paper's rule gives {intervals} interval(s): at its estimated scale δ = {delta:.3} neighbouring rows already span most of the filter's range, \
+             because {n} rows are few for their {d} dimensions (a subsample then covers them only coarsely, and the rule's guarantee needs many more rows). \
+             One or two intervals would draw one blob, so the suggestion takes the automatic rule's cover ({} intervals) and clustering instead; \
+             fewer columns, or a sweep of settings, are other ways forward",
+            s.cover.intervals
         ));
     }
-    Ok(Suggestion { settings: s, delta, hausdorff, subsample_size: size, largest_lens_jump: jump, gain: GAIN, resolution, changes, warnings })
+    Ok(Suggestion {
+        settings: s,
+        delta,
+        hausdorff,
+        subsample_size: size,
+        largest_lens_jump: jump,
+        gain: GAIN,
+        resolution,
+        paper_intervals: intervals,
+        fallback,
+        changes,
+        warnings,
+    })
 }
 
 /// Smallest interval count n ≥ 1 whose interval length span / (n - (n - 1) g) is at

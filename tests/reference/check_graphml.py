@@ -51,7 +51,7 @@ def main():
     if len(sys.argv) > 5 and shared != int(sys.argv[5]):
         fail(f"shared counts sum to {shared}, expected {sys.argv[5]}")
     settings = json.loads(g.graph.get("settings", "null"))
-    if not isinstance(settings, dict) or settings.get("version") != 1:
+    if not isinstance(settings, dict) or settings.get("version") not in (1, 2):
         fail(f"graph attribute 'settings' is not the settings JSON: {g.graph.get('settings')!r}")
     print(f"check_graphml: networkx {networkx.__version__} read {n_nodes} nodes, {n_edges} edges, "
           f"shared sum {shared}, settings version {settings['version']}")

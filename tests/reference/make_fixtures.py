@@ -536,6 +536,41 @@ def neighbours_fixture(iris_z):
     })
 
 
+def denoise_fixture():
+    """The rows the denoising stage sets aside on palmerpenguins' penguins.csv (the copy in
+    fixtures/): the four body measurements, rows with an 'NA' in any of them left out,
+    z-scored with the population spread (StandardScaler); each row's distance to a measure
+    (Chazal, Cohen-Steiner, Merigot 2011) or k-th neighbour distance from scikit-learn's
+    NearestNeighbors (each row its own first neighbour); the rows whose value lies
+    strictly above numpy.quantile(values, q) (linear interpolation) are set aside."""
+    with open(os.path.join(OUT, "penguins.csv"), encoding="utf-8", newline="") as f:
+        recs = list(csv.reader(f))
+    header, body = recs[0], recs[1:]
+    cols = ["bill_length_mm", "bill_depth_mm", "flipper_length_mm", "body_mass_g"]
+    idx = [header.index(c) for c in cols]
+    keep = [i for i, r in enumerate(body) if all(r[j] != "NA" for j in idx)]
+    x = np.array([[float(body[i][j]) for j in idx] for i in keep])
+    z = zscore(x)
+    cases = []
+    for measure in ("distanceToMeasure", "neighbourDistance"):
+        for k, q in ((5, 0.9), (10, 0.95), (20, 0.8)):
+            dist, _ = NearestNeighbors(n_neighbors=k).fit(z).kneighbors(z)
+            v = np.sqrt((dist ** 2).mean(axis=1)) if measure == "distanceToMeasure" else dist[:, -1]
+            cut = float(np.quantile(v, q))
+            out = [keep[i] + 1 for i in range(len(keep)) if v[i] > cut]
+            gap = float(np.min(np.abs(v - cut)))
+            cases.append({"measure": measure, "k": k, "quantile": q, "threshold": cut,
+                          "nearest_to_threshold": gap, "set_aside_data_rows": out})
+    write("denoise.json", {
+        "source": (f"palmerpenguins {V['palmerpenguins']} penguins.csv (fixtures copy), columns {cols}; "
+                   f"{lib('scikit-learn')}: NearestNeighbors(n_neighbors=k).fit(Z).kneighbors(Z) on Z z-scored "
+                   f"(population spread); {lib('numpy')}: dtm = sqrt(mean(dist ** 2, axis=1)), kth = dist[:, -1], "
+                   "threshold = numpy.quantile(values, q); rows with value > threshold set aside (1-based data rows)"),
+        "columns": cols,
+        "cases": cases,
+    })
+
+
 def rank_intervals(n, g):
     """The uniform cover of [0, 1] with the same floating-point steps as the engine's
     cover::intervals: len = 1 / (n - (n - 1) g), start i * len * (1 - g), end start + len,
@@ -720,6 +755,7 @@ def main():
     xlsx_fixture()
     neighbours_fixture(iris_z)
     quantiles_fixture()
+    denoise_fixture()
 
 
 if __name__ == "__main__":

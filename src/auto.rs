@@ -76,10 +76,11 @@
 //! sample, of each row's largest filter difference to a row within eps; they take the
 //! maximum over all pairs, which one far row decides), so that rows within eps of each
 //! other share an interval. The count is the smallest whose length is at most r,
-//! clamped to [[`MIN_INTERVALS`], min([`MAX_INTERVALS`], n / [`ROWS_PER_INTERVAL`])]: the
-//! row count bounds the count from above (an interval of a few rows is all noise), and on
-//! wide tables, where eps is a large part of the filter's range, the lower bound keeps the
-//! graph from being one blob. When the filter's values crowd into a small part of their
+//! clamped to [min([`MIN_INTERVALS`], n / [`ROWS_PER_INTERVAL`]) but at least 5,
+//! min([`MAX_INTERVALS`], n / [`ROWS_PER_INTERVAL`])] ([`interval_bounds`]): the row count
+//! bounds the count from above (an interval of a few rows is all noise), and on wide
+//! tables, where eps is a large part of the filter's range, the lower bound keeps the
+//! graph from being one blob or a short path. When the filter's values crowd into a small part of their
 //! range (the 5th to 95th percentile span less than a third of it, a long tail of a few
 //! extreme rows), the cover is balanced (quantile edges, equal rows per interval) so that
 //! the bulk of the rows is not in one or two intervals.
@@ -109,7 +110,7 @@ pub const SCALE_NEIGHBOURS: usize = 15;
 /// Smallest share of its cover element a cluster needs to be a node.
 pub const MIN_CLUSTER_SHARE: f64 = 0.02;
 pub const OVERLAP: f64 = 0.4;
-pub const MIN_INTERVALS: usize = 6;
+pub const MIN_INTERVALS: usize = 10;
 pub const MAX_INTERVALS: usize = 40;
 pub const ROWS_PER_INTERVAL: usize = 20;
 /// Rows sampled for the neighbour distances behind eps and the interval length.
@@ -208,14 +209,22 @@ pub fn auto_choice(table: &Table) -> Result<AutoChoice> {
     }
     s.clustering = Clustering::Dbscan { eps: scale.eps, min_points: MIN_POINTS };
     let (lo, hi) = lens.iter().fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), &v| (a.min(v), b.max(v)));
-    let most = MAX_INTERVALS.min(n / ROWS_PER_INTERVAL).max(MIN_INTERVALS);
+    let (least, most) = interval_bounds(n);
     let wanted = crate::shape::suggest::interval_count(hi - lo, scale.jump / OVERLAP, OVERLAP);
-    s.cover.intervals = wanted.clamp(MIN_INTERVALS, most);
+    s.cover.intervals = wanted.clamp(least, most);
     let (q05, q95) = (crate::points::quantile(&lens, 0.05), crate::points::quantile(&lens, 0.95));
     if hi > lo && (q95 - q05) < (hi - lo) / 3.0 {
         s.cover.kind = CoverKind::Balanced;
     }
     Ok(AutoChoice { settings: s, left_out, kth_distance: scale.kth, nearest_distinct: scale.distinct })
+}
+
+/// The fewest and most intervals for `n` rows: [min(MIN_INTERVALS, n / ROWS_PER_INTERVAL)
+/// but at least 5, min(MAX_INTERVALS, n / ROWS_PER_INTERVAL) but at least the fewest].
+pub fn interval_bounds(n: usize) -> (usize, usize) {
+    let by_rows = n / ROWS_PER_INTERVAL;
+    let least = MIN_INTERVALS.min(by_rows).max(5);
+    (least, MAX_INTERVALS.min(by_rows).max(least))
 }
 
 /// The chosen columns (file order) and the numeric columns left out (file order).
@@ -642,7 +651,9 @@ mod tests {
         assert_eq!(s.lens, Lens::Principal { component: 1 });
         let reasons: Vec<(&str, Reason)> = c.left_out.iter().map(|l| (l.column.as_str(), l.reason)).collect();
         assert_eq!(reasons, vec![("flat", Reason::Constant), ("gappy", Reason::Gaps), ("record", Reason::Identifier)]);
-        assert!((MIN_INTERVALS..=MAX_INTERVALS).contains(&s.cover.intervals));
+        assert_eq!(interval_bounds(300), (10, 15));
+        assert_eq!(interval_bounds(64), (5, 5));
+        assert!((10..=15).contains(&s.cover.intervals));
         assert!(s.cover.intervals <= 300 / ROWS_PER_INTERVAL);
         match s.clustering {
             Clustering::Dbscan { eps, min_points } => {

@@ -141,8 +141,8 @@ pub fn suggest(table: &Table, settings: &Settings, seed: u64) -> Result<Suggesti
     let fallback = intervals < MIN_USABLE;
     if fallback {
         let scale = crate::auto::scale_of(flat.to_vec(), d, lens, crate::auto::SCALE_NEIGHBOURS, seed);
-        let most = crate::auto::MAX_INTERVALS.min(n / crate::auto::ROWS_PER_INTERVAL).max(crate::auto::MIN_INTERVALS);
-        s.cover.intervals = interval_count(hi - lo, scale.jump / crate::auto::OVERLAP, crate::auto::OVERLAP).clamp(crate::auto::MIN_INTERVALS, most);
+        let (least, most) = crate::auto::interval_bounds(n);
+        s.cover.intervals = interval_count(hi - lo, scale.jump / crate::auto::OVERLAP, crate::auto::OVERLAP).clamp(least, most);
         s.cover.overlap = crate::auto::OVERLAP;
         s.clustering = Clustering::Dbscan { eps: scale.eps, min_points: crate::auto::MIN_POINTS };
     } else {

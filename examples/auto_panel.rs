@@ -15,6 +15,8 @@
 
 #[path = "../tests/common/shapes.rs"]
 mod shapes;
+#[path = "../tests/common/panel.rs"]
+mod panel;
 
 use std::time::Instant;
 
@@ -73,34 +75,7 @@ fn measure(name: &str, source: &str, table: &Table, want_loops: Option<usize>) -
         }
     };
     let s = &b.summary;
-    // Rows in nodes, and the rows of the largest component (by rows, not nodes).
-    let n_nodes = b.nerve.nodes.len();
-    let mut comp: Vec<usize> = (0..n_nodes).collect();
-    fn root(c: &mut [usize], mut i: usize) -> usize {
-        while c[i] != i {
-            c[i] = c[c[i]];
-            i = c[i];
-        }
-        i
-    }
-    for e in &b.nerve.edges {
-        let (a, c) = (root(&mut comp, e.a as usize), root(&mut comp, e.b as usize));
-        comp[a.max(c)] = a.min(c);
-    }
-    let mut rows_of: std::collections::HashMap<usize, Vec<u32>> = std::collections::HashMap::new();
-    for (k, node) in b.nerve.nodes.iter().enumerate() {
-        let r = root(&mut comp, k);
-        rows_of.entry(r).or_default().extend_from_slice(&node.members);
-    }
-    let mut in_nodes = 0;
-    let mut largest = 0;
-    for rows in rows_of.values_mut() {
-        rows.sort_unstable();
-        rows.dedup();
-        in_nodes += rows.len();
-        largest = largest.max(rows.len());
-    }
-    let share = if in_nodes > 0 { largest as f64 / in_nodes as f64 } else { 0.0 };
+    let share = panel::largest_share(&b);
     let mut misses = Vec::new();
     if s.nodes == 0 {
         misses.push("empty".to_string());

@@ -76,7 +76,7 @@
 //! sample, of each row's largest filter difference to a row within eps; they take the
 //! maximum over all pairs, which one far row decides), so that rows within eps of each
 //! other share an interval. The count is the smallest whose length is at most r,
-//! clamped to [min([`MIN_INTERVALS`], n / [`ROWS_PER_INTERVAL`]) but at least 5,
+//! clamped to [min([`MIN_INTERVALS`], n / [`ROWS_PER_LEAST_INTERVAL`]) but at least 5,
 //! min([`MAX_INTERVALS`], n / [`ROWS_PER_INTERVAL`])] ([`interval_bounds`]): the row count
 //! bounds the count from above (an interval of a few rows is all noise), and on wide
 //! tables, where eps is a large part of the filter's range, the lower bound keeps the
@@ -113,6 +113,9 @@ pub const OVERLAP: f64 = 0.4;
 pub const MIN_INTERVALS: usize = 10;
 pub const MAX_INTERVALS: usize = 40;
 pub const ROWS_PER_INTERVAL: usize = 20;
+/// Rows per interval below which the lower bound on the count gives way (to 5): on a few
+/// hundred rows, ten slabs part groups that are one piece in the whole table (penguins).
+pub const ROWS_PER_LEAST_INTERVAL: usize = 60;
 /// Rows sampled for the neighbour distances behind eps and the interval length.
 pub const SCALE_SAMPLE: usize = 500;
 /// Share of the rows that eps joins in one piece on small tables (see the module comment).
@@ -219,12 +222,11 @@ pub fn auto_choice(table: &Table) -> Result<AutoChoice> {
     Ok(AutoChoice { settings: s, left_out, kth_distance: scale.kth, nearest_distinct: scale.distinct })
 }
 
-/// The fewest and most intervals for `n` rows: [min(MIN_INTERVALS, n / ROWS_PER_INTERVAL)
-/// but at least 5, min(MAX_INTERVALS, n / ROWS_PER_INTERVAL) but at least the fewest].
+/// The fewest and most intervals for `n` rows: [min(MIN_INTERVALS, n / 60) but at least
+/// 5, min(MAX_INTERVALS, n / ROWS_PER_INTERVAL) but at least the fewest].
 pub fn interval_bounds(n: usize) -> (usize, usize) {
-    let by_rows = n / ROWS_PER_INTERVAL;
-    let least = MIN_INTERVALS.min(by_rows).max(5);
-    (least, MAX_INTERVALS.min(by_rows).max(least))
+    let least = MIN_INTERVALS.min(n / ROWS_PER_LEAST_INTERVAL).max(5);
+    (least, MAX_INTERVALS.min(n / ROWS_PER_INTERVAL).max(least))
 }
 
 /// The chosen columns (file order) and the numeric columns left out (file order).
@@ -651,9 +653,10 @@ mod tests {
         assert_eq!(s.lens, Lens::Principal { component: 1 });
         let reasons: Vec<(&str, Reason)> = c.left_out.iter().map(|l| (l.column.as_str(), l.reason)).collect();
         assert_eq!(reasons, vec![("flat", Reason::Constant), ("gappy", Reason::Gaps), ("record", Reason::Identifier)]);
-        assert_eq!(interval_bounds(300), (10, 15));
+        assert_eq!(interval_bounds(300), (5, 15));
         assert_eq!(interval_bounds(64), (5, 5));
-        assert!((10..=15).contains(&s.cover.intervals));
+        assert_eq!(interval_bounds(7000), (10, 40));
+        assert!((5..=15).contains(&s.cover.intervals));
         assert!(s.cover.intervals <= 300 / ROWS_PER_INTERVAL);
         match s.clustering {
             Clustering::Dbscan { eps, min_points } => {

@@ -8,51 +8,14 @@
 
 #[path = "common/shapes.rs"]
 mod shapes;
+#[path = "common/panel.rs"]
+mod panel;
+
+use panel::{largest_share, open_table};
 
 use nervure::auto::{auto_choice, auto_settings, Reason};
 use nervure::settings::Clustering;
-use nervure::{build, Build, ReadOptions, Table, Workbench};
-
-fn open_table(name: &str) -> Option<Table> {
-    let Ok(dir) = std::env::var("NERVURE_DATA") else {
-        eprintln!("skipped: NERVURE_DATA is not set (tests/run.sh sets it); {name} not read");
-        return None;
-    };
-    let path = std::path::Path::new(&dir).join(format!("{name}.csv"));
-    let bytes = std::fs::read(&path).unwrap_or_else(|e| panic!("{}: {e} (run tests/data/open_tables.py)", path.display()));
-    Some(Table::from_csv_bytes(&format!("{name}.csv"), &bytes, &ReadOptions::default()).expect("the open table reads"))
-}
-
-/// Share of the rows in nodes that the largest component (by rows) holds.
-fn largest_share(b: &Build) -> f64 {
-    let n = b.nerve.nodes.len();
-    let mut comp: Vec<usize> = (0..n).collect();
-    fn root(c: &mut [usize], mut i: usize) -> usize {
-        while c[i] != i {
-            c[i] = c[c[i]];
-            i = c[i];
-        }
-        i
-    }
-    for e in &b.nerve.edges {
-        let (a, c) = (root(&mut comp, e.a as usize), root(&mut comp, e.b as usize));
-        comp[a.max(c)] = a.min(c);
-    }
-    let mut by: std::collections::HashMap<usize, Vec<u32>> = Default::default();
-    for (k, node) in b.nerve.nodes.iter().enumerate() {
-        let r = root(&mut comp, k);
-        by.entry(r).or_default().extend_from_slice(&node.members);
-    }
-    let mut total = 0;
-    let mut most = 0;
-    for rows in by.values_mut() {
-        rows.sort_unstable();
-        rows.dedup();
-        total += rows.len();
-        most = most.max(rows.len());
-    }
-    most as f64 / total.max(1) as f64
-}
+use nervure::{build, Table, Workbench};
 
 /// Every shape of the panel of at most 2 000 points: circles evenly spaced (where the old
 /// rule's eps landed on the spacing and left every row in no cluster) and noisy, in the

@@ -3,19 +3,12 @@
 //! `NERVURE_DATA` each test prints that it was skipped and passes, so a plain `cargo test`
 //! on a machine without the tables still runs the rest.
 
-use nervure::table::marks::{mark, Mark};
-use nervure::{ReadOptions, Table};
+#[path = "common/panel.rs"]
+mod panel;
 
-/// The table `name` from `$NERVURE_DATA`, or `None` (with a line saying so) when unset.
-fn open_table(name: &str) -> Option<Table> {
-    let Ok(dir) = std::env::var("NERVURE_DATA") else {
-        eprintln!("skipped: NERVURE_DATA is not set (tests/run.sh sets it); {name} not read");
-        return None;
-    };
-    let path = std::path::Path::new(&dir).join(format!("{name}.csv"));
-    let bytes = std::fs::read(&path).unwrap_or_else(|e| panic!("{}: {e} (run tests/data/open_tables.py)", path.display()));
-    Some(Table::from_csv_bytes(&format!("{name}.csv"), &bytes, &ReadOptions::default()).expect("the open table reads"))
-}
+use nervure::table::marks::{mark, Mark};
+use nervure::Table;
+use panel::open_table;
 
 fn marks_of(t: &Table) -> Vec<(String, Option<Mark>)> {
     t.columns.iter().map(|c| (c.name.clone(), mark(c))).collect()

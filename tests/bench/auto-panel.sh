@@ -21,7 +21,7 @@ if [ "${1:-}" = "--before" ]; then
   git archive "$rev" | tar -x -C "$dir"
   mkdir -p "$dir/examples" "$dir/tests/common"
   cp examples/auto_panel.rs "$dir/examples/"
-  cp tests/common/shapes.rs "$dir/tests/common/"
+  cp tests/common/shapes.rs tests/common/panel.rs "$dir/tests/common/"
   cd "$dir"
   # A build folder of its own: the archive's files carry the commit's times, older than
   # this checkout's build, and cargo would take that build as up to date for them.

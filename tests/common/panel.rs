@@ -1,0 +1,52 @@
+//! Helpers shared by the automatic settings' panel (`examples/auto_panel.rs`) and the tests
+//! that read real open tables (`tests/auto_panel.rs`, `tests/open_tables.rs`).
+
+use nervure::{Build, ReadOptions, Table};
+
+/// The table `name` from `$NERVURE_DATA` (written by `tests/data/open_tables.py`), or
+/// `None`, with a line saying so, when the variable is unset.
+#[allow(dead_code)]
+pub fn open_table(name: &str) -> Option<Table> {
+    let Ok(dir) = std::env::var("NERVURE_DATA") else {
+        eprintln!("skipped: NERVURE_DATA is not set (tests/run.sh sets it); {name} not read");
+        return None;
+    };
+    let path = std::path::Path::new(&dir).join(format!("{name}.csv"));
+    let bytes = std::fs::read(&path).unwrap_or_else(|e| panic!("{}: {e} (run tests/data/open_tables.py)", path.display()));
+    Some(Table::from_csv_bytes(&format!("{name}.csv"), &bytes, &ReadOptions::default()).expect("the open table reads"))
+}
+
+/// Share of the rows in nodes that the largest component (counted in rows) holds; 0 for an
+/// empty graph.
+pub fn largest_share(b: &Build) -> f64 {
+    let n = b.nerve.nodes.len();
+    let mut comp: Vec<usize> = (0..n).collect();
+    fn root(c: &mut [usize], mut i: usize) -> usize {
+        while c[i] != i {
+            c[i] = c[c[i]];
+            i = c[i];
+        }
+        i
+    }
+    for e in &b.nerve.edges {
+        let (a, c) = (root(&mut comp, e.a as usize), root(&mut comp, e.b as usize));
+        comp[a.max(c)] = a.min(c);
+    }
+    let mut by: std::collections::HashMap<usize, Vec<u32>> = Default::default();
+    for (k, node) in b.nerve.nodes.iter().enumerate() {
+        let r = root(&mut comp, k);
+        by.entry(r).or_default().extend_from_slice(&node.members);
+    }
+    let (mut total, mut most) = (0, 0);
+    for rows in by.values_mut() {
+        rows.sort_unstable();
+        rows.dedup();
+        total += rows.len();
+        most = most.max(rows.len());
+    }
+    if total == 0 {
+        0.0
+    } else {
+        most as f64 / total as f64
+    }
+}

@@ -64,6 +64,17 @@
 //! where most 5th neighbours are at distance 0) from a scale of nothing. eps is written
 //! unrounded for the same reason.
 //!
+//! **Small tables.** On a table of at most [`SCALE_SAMPLE`] rows (where the sample is the
+//! whole table and a graph costs milliseconds) eps is raised, when needed, first to 2^(1/4)
+//! times the spanning tree's edge at which 4 rows in 5 are joined in one piece (Kruskal's
+//! order), then, at the first miss, the cover is made balanced (a gap in the filter's values
+//! can leave two consecutive uniform intervals with no row in common, which no eps
+//! mends), then eps grows by factors of 1.5, up to [`JOIN_STEPS`] builds in all, until the first graph's
+//! largest component holds 80 % of the rows in nodes with at most 10 components: a first
+//! graph in one main piece rather than a few islands of a few dozen rows. The groups this
+//! joins (the penguins' species) show in the colouring, and a smaller eps parts them again;
+//! the rule states what it aims at and stops there.
+//!
 //! **Dust.** A cluster with fewer rows than [`MIN_CLUSTER_SHARE`] of its cover element is
 //! not a node (`minClusterShare`): on a large table DBSCAN finds many small dense groups
 //! at the edge of each slab, and each would be a node and often a component of its own.
@@ -118,8 +129,13 @@ pub const ROWS_PER_INTERVAL: usize = 20;
 pub const ROWS_PER_LEAST_INTERVAL: usize = 60;
 /// Rows sampled for the neighbour distances behind eps and the interval length.
 pub const SCALE_SAMPLE: usize = 500;
-/// Share of the rows that eps joins in one piece on small tables (see the module comment).
+/// Share of the rows in nodes that the first graph's largest component holds on small
+/// tables (see the module comment).
 pub const MAIN_SHARE: f64 = 0.8;
+/// Most components the first graph of a small table may have.
+pub const MAX_PIECES: usize = 10;
+/// Most times eps is raised on a small table.
+pub const JOIN_STEPS: usize = 6;
 
 /// Leaf size of the k-d tree over the whole table that finds the sample's neighbours. A
 /// few hundred queries over up to millions of rows: a shallower tree is quicker to build
@@ -218,6 +234,9 @@ pub fn auto_choice(table: &Table) -> Result<AutoChoice> {
     let (q05, q95) = (crate::points::quantile(&lens, 0.05), crate::points::quantile(&lens, 0.95));
     if hi > lo && (q95 - q05) < (hi - lo) / 3.0 {
         s.cover.kind = CoverKind::Balanced;
+    }
+    if n <= SCALE_SAMPLE {
+        one_main_piece(table, &mut s)?;
     }
     Ok(AutoChoice { settings: s, left_out, kth_distance: scale.kth, nearest_distinct: scale.distinct })
 }
@@ -514,6 +533,31 @@ pub fn scale_of(points: Vec<f64>, dim: usize, lens: &[f64], k: usize, seed: u64)
         })
         .collect();
     Scale { eps, kth: q98, distinct: med, jump: crate::points::quantile(&jumps, 0.98) }
+}
+
+/// On a small table (a build costs milliseconds): eps raised by factors of 1.5 (at most
+/// [`JOIN_STEPS`] times) until the graph's largest component holds [`MAIN_SHARE`] of the
+/// rows in nodes and there are at most [`MAX_PIECES`] components. 1.5² is rational and
+/// 2^(1/4)² is not, so eps stays off every lattice distance.
+///
+/// A gap in the filter's values (an empty stretch between two groups) can leave two
+/// consecutive intervals with no row in common, and then no eps joins them: at the first
+/// miss the cover becomes balanced, whose consecutive intervals always share rows.
+fn one_main_piece(table: &Table, s: &mut Settings) -> Result<()> {
+    for step in 0..JOIN_STEPS {
+        let b = crate::engine::build(table, s)?;
+        if b.nerve.largest_share() >= MAIN_SHARE && b.summary.components <= MAX_PIECES {
+            break;
+        }
+        if step == 0 && s.cover.kind == CoverKind::Uniform {
+            s.cover.kind = CoverKind::Balanced;
+            continue;
+        }
+        if let Clustering::Dbscan { eps, .. } = &mut s.clustering {
+            *eps *= 1.5;
+        }
+    }
+    Ok(())
 }
 
 /// The smallest distance t at which the graph joining rows closer than t has a component

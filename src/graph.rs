@@ -96,6 +96,40 @@ impl Nerve {
         counts(self.nodes.len(), &pairs)
     }
 
+    /// The number of distinct rows in each connected component, largest first (a row in
+    /// two nodes of one component counts once).
+    pub fn component_rows(&self) -> Vec<usize> {
+        let mut uf = UnionFind::<u32>::new(self.nodes.len());
+        for e in &self.edges {
+            uf.union(e.a, e.b);
+        }
+        let mut by: HashMap<u32, Vec<u32>> = HashMap::new();
+        for (k, node) in self.nodes.iter().enumerate() {
+            by.entry(uf.find(k as u32)).or_default().extend_from_slice(&node.members);
+        }
+        let mut out: Vec<usize> = by
+            .into_values()
+            .map(|mut rows| {
+                rows.sort_unstable();
+                rows.dedup();
+                rows.len()
+            })
+            .collect();
+        out.sort_unstable_by(|a, b| b.cmp(a));
+        out
+    }
+
+    /// Share of the rows in nodes that the largest component holds (0 for no node).
+    pub fn largest_share(&self) -> f64 {
+        let rows = self.component_rows();
+        let total: usize = rows.iter().sum();
+        if total == 0 {
+            0.0
+        } else {
+            rows[0] as f64 / total as f64
+        }
+    }
+
     /// Triangles of the nerve: triples of nodes `a < b < c`, pairwise joined by edges, that
     /// share at least `min_shared` rows all three (the same minimum as for edges), sorted.
     /// Nodes of one cover element hold disjoint rows, so the three come from three elements.
@@ -250,6 +284,17 @@ mod tests {
 
     fn node(element: usize, m: &[u32]) -> Node {
         Node { element, members: m.to_vec() }
+    }
+
+    #[test]
+    fn component_rows_count_each_row_once() {
+        // Nodes 0-1 joined (rows 0, 1, 2, 3: row 2 in both), node 2 alone (row 5), node 3
+        // alone (rows 6, 7, 8).
+        let nodes = vec![node(0, &[0, 1, 2]), node(1, &[2, 3]), node(1, &[5]), node(2, &[6, 7, 8])];
+        let n = Nerve::new(nodes, 9, 1);
+        assert_eq!(n.component_rows(), vec![4, 3, 1]);
+        assert_eq!(n.largest_share(), 0.5);
+        assert_eq!(Nerve::new(Vec::new(), 3, 1).largest_share(), 0.0);
     }
 
     #[test]

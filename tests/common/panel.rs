@@ -19,34 +19,5 @@ pub fn open_table(name: &str) -> Option<Table> {
 /// Share of the rows in nodes that the largest component (counted in rows) holds; 0 for an
 /// empty graph.
 pub fn largest_share(b: &Build) -> f64 {
-    let n = b.nerve.nodes.len();
-    let mut comp: Vec<usize> = (0..n).collect();
-    fn root(c: &mut [usize], mut i: usize) -> usize {
-        while c[i] != i {
-            c[i] = c[c[i]];
-            i = c[i];
-        }
-        i
-    }
-    for e in &b.nerve.edges {
-        let (a, c) = (root(&mut comp, e.a as usize), root(&mut comp, e.b as usize));
-        comp[a.max(c)] = a.min(c);
-    }
-    let mut by: std::collections::HashMap<usize, Vec<u32>> = Default::default();
-    for (k, node) in b.nerve.nodes.iter().enumerate() {
-        let r = root(&mut comp, k);
-        by.entry(r).or_default().extend_from_slice(&node.members);
-    }
-    let (mut total, mut most) = (0, 0);
-    for rows in by.values_mut() {
-        rows.sort_unstable();
-        rows.dedup();
-        total += rows.len();
-        most = most.max(rows.len());
-    }
-    if total == 0 {
-        0.0
-    } else {
-        most as f64 / total as f64
-    }
+    b.nerve.largest_share()
 }

@@ -204,7 +204,7 @@ fn bad_settings_documents_name_the_field() {
     );
     assert_eq!(
         refused(|v| v["colour"] = json!("red")),
-        "setting 'colour': unknown field; this build does not read it (fields: version, columns, scaling, missing, lens, cover, clustering, edges, seed, derived, lens2, cover2)"
+        "setting 'colour': unknown field; this build does not read it (fields: version, columns, scaling, missing, lens, cover, clustering, edges, seed, derived, lens2, cover2, denoise, minClusterShare)"
     );
     assert_eq!(
         refused(|v| v["cover"]["width"] = json!(1)),

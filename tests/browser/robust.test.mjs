@@ -287,7 +287,7 @@ test("bad settings are refused naming the field; the graph and settings survive"
     ["eps <= 0", { ...s, clustering: { kind: "dbscan", eps: 0, minPoints: 5 } }, "setting 'clustering.eps': 0 must be a positive number"],
     ["bandwidth 0", { ...s, lens: { kind: "density", bandwidth: 0 } }, "setting 'lens.bandwidth': 0 must be a positive number"],
     ["settings from a newer version", { ...s, version: 3 }, "setting 'version': the file is version 3, written by a newer Nervure; this build reads versions 1 to 2"],
-    ["unknown field", { ...s, palette: "warm" }, "setting 'palette': unknown field; this build does not read it (fields: version, columns, scaling, missing, lens, cover, clustering, edges, seed, derived, lens2, cover2)"],
+    ["unknown field", { ...s, palette: "warm" }, "setting 'palette': unknown field; this build does not read it (fields: version, columns, scaling, missing, lens, cover, clustering, edges, seed, derived, lens2, cover2, denoise, minClusterShare)"],
   ];
   for (const [what, bad, expected] of cases) {
     const message = await page.evaluate((b) => window.nervure.applySettings(b).then(() => null, (e) => e.message), bad);

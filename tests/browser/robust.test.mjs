@@ -254,7 +254,8 @@ test("10,000 columns: read, the list shows 200 with a filter, the automatic sett
   await page.waitForFunction(() => window.nervure.summary() !== null, null, { timeout: 120000 });
   await settled(page);
   const ms = Date.now() - t0;
-  assert.equal((await page.evaluate(() => window.nervure.settings())).columns.length, 12);
+  const autoCols = (await page.evaluate(() => window.nervure.settings())).columns;
+  assert.equal(autoCols.length, 12);
   assert.equal(await page.locator("#columns-body tr").count(), 200);
   assert.match(await page.textContent("#column-filter-count"), /showing 200 of 10,000 columns/);
   const t1 = Date.now();
@@ -266,7 +267,8 @@ test("10,000 columns: read, the list shows 200 with a filter, the automatic sett
   await page.check('#columns-body input[data-column="c999"]');
   await page.waitForFunction(() => window.nervure.settings().columns.length === 13, null, { timeout: 60000 });
   const cols = await page.evaluate(() => window.nervure.settings().columns);
-  assert.deepEqual(cols.slice(0, 12), Array.from({ length: 12 }, (_, j) => "c" + j));
+  // The automatic 12 (chosen by the main directions of variation, src/auto.rs) stay.
+  assert.deepEqual(cols.slice(0, 12), autoCols);
   assert.equal(cols[12], "c999");
   console.log(`10,000 columns × 40 rows: read and first graph in ${ms} ms; filter typed and list redrawn in ${filterMs} ms`);
   results.push({ input: "10,000 columns", message: "(none) list shows 200 rows and a filter; auto settings take 12", survived: "file read, new graph built" });

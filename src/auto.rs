@@ -324,7 +324,7 @@ fn choose_columns(table: &Table, fills: &[f64], seed: u64) -> (Vec<String>, Vec<
                     column: name(j),
                     reason: Reason::NotChosen,
                     why: format!(
-                        "not chosen: {} candidate columns, and the {AUTO_MAX_COLUMNS} most tied to the main directions of variation were taken",
+                        "one of {} candidate columns, of which the {AUTO_MAX_COLUMNS} most tied to the main directions of variation were taken",
                         candidates.len()
                     ),
                 },

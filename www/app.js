@@ -548,7 +548,7 @@ function renderColumns() {
     if (c.unit) kind.textContent += " · " + c.unit;
     tdName.append(kind);
     const out = (state.leftOut || []).find((l) => l.column === c.name);
-    if (out && !box.checked) tdName.append(el("span", "left-out", "not chosen automatically: " + out.why));
+    if (out && !box.checked) tdName.append(el("span", "left-out", "left out: " + out.why));
     tdName.title = c.name + (c.kind === "number" ? " (numbers)" : " (text values)");
     if (c.firstText) tdName.title += "; read as text because data row " + c.firstText.row + " holds “" + c.firstText.text + "”";
     const tdMissing = el("td", "num" + (c.missing > 0 ? " has-missing" : ""), formatCount(c.missing));

@@ -737,7 +737,7 @@ impl Workbench {
         settings.clustering = Clustering::Dbscan { eps, min_points };
         let what = if noise {
             format!(
-                "{} of {} rows ({:.0} %) are in no cluster: at this scale most rows have too few neighbours to form one.",
+                "{} of {} rows ({:.0} %) are in no cluster: too few neighbours at this scale.",
                 s.noise_rows,
                 s.rows,
                 100.0 * s.noise_rows as f64 / s.rows as f64
@@ -761,8 +761,7 @@ impl Workbench {
             )
         } else {
             format!(
-                "At eps = {eps:.4} (computed on these points), 49 rows in 50 have at least {k} rows within eps in the whole table, \
-                 so most rows can join a cluster{}; the cover's slabs cut some neighbours off, so a few may stay out.",
+                "At eps = {eps:.4}, computed on these points, 49 rows in 50 have {k} rows within eps{}; a few near the slabs' edges may still stay out.",
                 if eps_now.is_none() { " (DBSCAN, minimum points {min_points})" } else { "" }
             )
         };

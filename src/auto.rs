@@ -50,18 +50,20 @@
 //! (the row itself counted) and eps read off the data's neighbour distances, over a seeded
 //! sample of up to 500 rows queried against every row:
 //!
-//! eps = max( 2^(1/4) · q98(d_5), 2^(3/4) · median(d_+) ),
+//! eps = max( 2^(1/4) · q98(d_15), 2^(3/4) · median(d_+) ),
 //!
-//! where d_5 is a row's distance to its 5th nearest row (itself first) and d_+ its
+//! where d_15 is a row's distance to its 15th nearest row ([`SCALE_NEIGHBOURS`], itself
+//! first; the 5th, tried first, sat at the percolation edge of noisy curves and left them
+//! in pieces) and d_+ its
 //! distance to the nearest row not at distance 0. Choosing eps from the k-distances
-//! follows Ester et al. 1996, §4.2; the 98th percentile makes about 49 rows in 50 core
-//! points of the whole table, which a first graph needs because a cover element's slab
+//! follows Ester et al. 1996, §4.2; the 98th percentile makes at least 49 rows in 50 core
+//! points of the whole table (a row with 15 rows within eps has the 5 DBSCAN needs), which a first graph needs because a cover element's slab
 //! loses neighbours near its edges. The factors have irrational squares, so on a lattice
 //! (evenly spaced or rounded values, whose distances are s·sqrt(m) for whole m) eps
 //! never equals a distance that occurs: the old rule took eps on the spacing itself, and
 //! a rounding of it below the spacing left every row of an evenly spaced circle in no
 //! cluster. The floor on d_+ keeps heavily rounded values (a temperature to 0.1 degree,
-//! where most 5th neighbours are at distance 0) from a scale of nothing. eps is written
+//! where most 15th neighbours are at distance 0) from a scale of nothing. eps is written
 //! unrounded for the same reason.
 //!
 //! **Small tables.** On a table of at most [`SCALE_SAMPLE`] rows (where the sample is the
@@ -150,7 +152,7 @@ pub struct AutoChoice {
     pub settings: Settings,
     /// Numeric columns not chosen, in file order, each with its reason.
     pub left_out: Vec<LeftOut>,
-    /// The measured scale: q98 of the 5th-neighbour distance and the median distance to
+    /// The measured scale: q98 of the 15th-neighbour distance and the median distance to
     /// the nearest distinct row, before the factors (for the page's explanation).
     pub kth_distance: f64,
     pub nearest_distinct: f64,

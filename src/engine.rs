@@ -59,7 +59,7 @@ impl Build {
 /// The most levels of one category column a comparison lists (the statistics count all).
 pub const CONTRAST_LEVELS: usize = 30;
 
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, serde::Deserialize)]
 #[serde(rename_all = "camelCase")]
 pub struct Summary {
     /// Rows that took part (had a value in every chosen column).
@@ -280,7 +280,13 @@ pub struct Workbench {
     /// page asks for it more than once per file and it costs a k-d tree over every row.
     /// Dropped whenever the columns change.
     auto: Option<crate::auto::AutoChoice>,
+    /// A graph opened from a graph file, with no table: `last` is its graph, and node
+    /// statistics come from the file ([`Workbench::open_graph`]).
+    opened: Option<crate::graphfile::GraphFile>,
 }
+
+/// What a caller asking for the table's rows is told while a graph file is open.
+const ROWS_NOT_HERE: &str = "the member rows are not in the tab: this graph was opened from a graph file, which carries per-node statistics but not the table; open the table (and these settings) to see rows";
 
 impl Workbench {
     pub fn new() -> Self {
@@ -310,7 +316,51 @@ impl Workbench {
     }
 
     fn need_table(&self) -> Result<&Table> {
-        self.table.as_ref().ok_or_else(|| Error::Input("no table is loaded yet: open a CSV file first".into()))
+        self.table.as_ref().ok_or_else(|| match self.opened {
+            Some(_) => Error::Data(ROWS_NOT_HERE.into()),
+            None => Error::Input("no table is loaded yet: open a CSV file first".into()),
+        })
+    }
+
+    /// Shows a graph read from a graph file, with no table: the graph, its layout and its
+    /// statistics answer [`Workbench::last`], [`Workbench::node_values`] and
+    /// [`Workbench::node_detail`]; whatever needs the rows says they are not here.
+    pub fn open_graph(&mut self, file: crate::graphfile::GraphFile) {
+        *self = Workbench { last: Some(file.to_build()), opened: Some(file), ..Default::default() };
+    }
+
+    /// The graph file shown, when the graph came from one.
+    pub fn opened(&self) -> Option<&crate::graphfile::GraphFile> {
+        self.opened.as_ref()
+    }
+
+    /// The last graph as a graph file (see [`crate::graphfile`]), with each node's member
+    /// rows when `with_rows` (and when known).
+    pub fn graph_file(&self, with_rows: bool) -> Result<crate::graphfile::GraphFile> {
+        if let Some(f) = &self.opened {
+            let mut f = f.clone();
+            if !with_rows {
+                f.nodes.iter_mut().for_each(|n| n.rows = None);
+            }
+            return Ok(f);
+        }
+        let (table, b) = self.table_and_build()?;
+        Ok(crate::graphfile::GraphFile::of_build(b, table, with_rows))
+    }
+
+    /// Rows in each node of the last graph.
+    pub fn node_sizes(&self) -> Vec<usize> {
+        match (&self.opened, &self.last) {
+            (Some(f), _) => f.sizes(),
+            (None, Some(b)) => b.nerve.nodes.iter().map(|n| n.members.len()).collect(),
+            (None, None) => Vec::new(),
+        }
+    }
+
+    /// Whether the last graph's member rows are known (always, unless it came from a
+    /// graph file written without them).
+    pub fn members_known(&self) -> bool {
+        self.opened.as_ref().map_or(true, |f| f.has_rows())
     }
 
     pub fn auto_settings(&mut self) -> Result<Settings> {
@@ -501,6 +551,9 @@ impl Workbench {
     /// skipped, never replaced by a median fill: a node's statistic describes the values
     /// in the file. A category column gives the dominant share whatever `stat` is.
     pub fn node_values(&self, column: &str, stat: NodeStat) -> Result<Vec<f64>> {
+        if let Some(f) = &self.opened {
+            return f.column(column).ok_or_else(|| Error::settings("colour", format!("the graph file has no statistics for a column named '{column}'")))?.values(stat);
+        }
         let (table, b) = self.table_and_build()?;
         let fills = b.settings.missing.fills_for(column);
         let col = table.column(column).ok_or_else(|| Error::settings("colour", format!("no column named '{column}'")))?;
@@ -522,7 +575,7 @@ impl Workbench {
     /// Each node's mean lens value ("colour by the filter"): `axis` 0 for the first
     /// filter, 1 for the second of a product cover.
     pub fn node_lens_values(&self, axis: usize) -> Result<Vec<f64>> {
-        let (_, b) = self.table_and_build()?;
+        let b = self.last.as_ref().ok_or_else(|| Error::Data("no graph has been built yet".into()))?;
         match (axis, &b.second) {
             (0, _) => Ok(b.node_lens.clone()),
             (1, Some(a)) => Ok(a.node_lens.clone()),
@@ -556,6 +609,9 @@ impl Workbench {
     }
 
     pub fn node_detail(&self, node: usize) -> Result<NodeDetail> {
+        if let Some(f) = &self.opened {
+            return opened_node_detail(f, self.last.as_ref().expect("an opened graph is the last"), node);
+        }
         let (table, b) = self.table_and_build()?;
         let n = b.nerve.nodes.get(node).ok_or_else(|| Error::Data(format!("there is no node {node}; the graph has {}", b.nerve.nodes.len())))?;
         let columns = table
@@ -1083,6 +1139,52 @@ fn settings_warnings(s: &Settings, rows: usize) -> Vec<String> {
         ));
     }
     out
+}
+
+/// [`Workbench::node_detail`] of a graph opened from a graph file: its statistics, and the
+/// first member rows when the file lists them.
+fn opened_node_detail(f: &crate::graphfile::GraphFile, b: &Build, node: usize) -> Result<NodeDetail> {
+    use crate::graphfile::ColumnStats;
+    let rec = f.nodes.get(node).ok_or_else(|| Error::Data(format!("there is no node {node}; the graph has {}", f.nodes.len())))?;
+    let columns = f
+        .statistics
+        .iter()
+        .map(|c| match c {
+            ColumnStats::Number { name, mean, min, max, missing, .. } => NodeColumn {
+                name: name.clone(),
+                kind: "number",
+                mean: mean[node],
+                min: min[node],
+                max: max[node],
+                missing: missing[node] as usize,
+                top: None,
+                top_share: None,
+            },
+            ColumnStats::Category { name, levels, top, top_share, missing, .. } => NodeColumn {
+                name: name.clone(),
+                kind: "category",
+                mean: None,
+                min: None,
+                max: None,
+                missing: missing[node] as usize,
+                top: top[node].map(|k| levels[k as usize].clone()),
+                top_share: top_share[node],
+            },
+        })
+        .collect();
+    Ok(NodeDetail {
+        node,
+        size: rec.size,
+        element: rec.element,
+        interval: b.intervals.get(b.cell(rec.element).0).copied().unwrap_or((f64::NAN, f64::NAN)),
+        interval2: match (b.cell(rec.element).1, &b.second) {
+            (Some(j), Some(a)) => a.intervals.get(j).copied(),
+            _ => None,
+        },
+        degree: b.nerve.degrees()[node],
+        columns,
+        rows: rec.rows.as_ref().map_or(Vec::new(), |r| r.iter().take(200).copied().collect()),
+    })
 }
 
 /// The most common code among `rows` and its share, ignoring missing values.

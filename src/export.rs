@@ -1,8 +1,7 @@
 //! Writing a build out, so a user or a script can rebuild, check or draw it elsewhere:
 //!
-//! - Graph JSON (our own format, described here): `{"format": "nervure-graph", "version":
-//!   1, "settings": {...}, "summary": {...}, "nodes": [{"id", "element", "size", "lens",
-//!   "rows": [1-based data rows]}], "edges": [{"source", "target", "shared"}]}`.
+//! - The graph file (JSON, our own versioned format): [`crate::graphfile`], described in
+//!   `docs/graph-file.md`.
 //! - GraphML, the open standard (<http://graphml.graphdrawing.org/>, namespace
 //!   `http://graphml.graphdrawing.org/xmlns`): undirected graph; node ids `n0, n1, ...` in
 //!   node order; node attributes `size` (int), `element` (int, the cover element), `lens`
@@ -24,7 +23,6 @@
 
 use std::fmt::Write as _;
 
-use serde_json::json;
 
 use crate::engine::{Build, NodeStat, Workbench};
 use crate::error::Result;
@@ -72,34 +70,6 @@ pub fn colour_attributes(bench: &Workbench, column: &str, stat: NodeStat) -> Res
             vec![NodeAttribute { name, values: AttributeValues::Double(values) }]
         }
     })
-}
-
-pub fn graph_json(b: &Build) -> String {
-    let nodes: Vec<_> = b
-        .nerve
-        .nodes
-        .iter()
-        .enumerate()
-        .map(|(i, n)| {
-            json!({
-                "id": i,
-                "element": n.element,
-                "size": n.members.len(),
-                "lens": b.node_lens[i],
-                "rows": n.members.iter().map(|&r| r as usize + 1).collect::<Vec<_>>(),
-            })
-        })
-        .collect();
-    let edges: Vec<_> = b.nerve.edges.iter().map(|e| json!({"source": e.a, "target": e.b, "shared": e.shared})).collect();
-    serde_json::to_string(&json!({
-        "format": "nervure-graph",
-        "version": 1,
-        "settings": b.settings,
-        "summary": b.summary,
-        "nodes": nodes,
-        "edges": edges,
-    }))
-    .expect("graph serialises")
 }
 
 /// Text safe inside an XML attribute value or element: `& < > " '` escaped, and the

@@ -30,6 +30,8 @@ pub mod auto;
 pub mod engine;
 pub mod shape;
 pub mod export;
+pub mod graphfile;
+pub mod results;
 pub mod explain;
 pub mod rng;
 pub mod scatter;

@@ -311,6 +311,26 @@ impl Settings {
         Ok(s)
     }
 
+    /// Reads a settings file's text, with messages that name the file: not JSON, nested
+    /// deeper than any settings document (checked before parsing), a graph file instead
+    /// of settings; then as [`Settings::from_json`].
+    pub fn from_file_text(text: &str, file_name: &str) -> Result<Settings> {
+        const MAX_DEPTH: usize = 16;
+        let depth = crate::graphfile::json_depth(text);
+        if depth > MAX_DEPTH {
+            return Err(Error::settings(
+                "(document)",
+                format!("{file_name} nests {depth} levels deep, and a settings document nests at most {MAX_DEPTH}; choose a settings file saved by Nervure"),
+            ));
+        }
+        let value: serde_json::Value = serde_json::from_str(text)
+            .map_err(|e| Error::settings("(document)", format!("{file_name} is not JSON ({e}); choose a settings file saved by Nervure")))?;
+        if value.get("format").and_then(|f| f.as_str()) == Some(crate::graphfile::GRAPH_FORMAT) {
+            return Err(Error::settings("(document)", format!("{file_name} is a graph file, not a settings document: open it with Open graph…")));
+        }
+        Self::from_value(value)
+    }
+
     pub fn to_json(&self) -> String {
         serde_json::to_string_pretty(self).expect("settings always serialise")
     }

@@ -12,6 +12,7 @@ use wasm_bindgen::prelude::*;
 
 use crate::campaign::{Campaign, Plan};
 use crate::engine::{NodeStat, Workbench};
+use crate::results::{ComparisonOut, ConfidenceOut};
 use crate::shape::{self, Bootstrap, Comparing, Grid, Sweeping};
 use crate::settings::Settings;
 use crate::table::ingest::Ingest;
@@ -314,6 +315,37 @@ impl Engine {
         to_js(&settings_from_js(settings)?)
     }
 
+    /// Reads a settings file's text (never parsed by the page: a hostile file nested
+    /// thousands deep cannot then break the worker's message passing) and returns the
+    /// document as the engine reads it, or the engine's message naming `file_name`.
+    pub fn read_settings_file(&self, text: &str, file_name: &str) -> Result<JsValue, JsValue> {
+        to_js(&Settings::from_file_text(text, file_name).map_err(fail)?)
+    }
+
+    /// Opens a graph file ([`crate::graphfile`]) in place of any table and graph:
+    /// `{table: {name, rows, columns}, settings, summary, rowsKnown}`; the graph is then
+    /// read with `graph()`. A file that cannot be read changes nothing.
+    pub fn open_graph(&mut self, text: &str, file_name: &str) -> Result<JsValue, JsValue> {
+        let file = crate::graphfile::GraphFile::from_json(text, file_name).map_err(fail)?;
+        self.campaign.clear();
+        self.notices.clear();
+        self.boot = None;
+        self.sweeping = None;
+        self.comparing = None;
+        self.bench.open_graph(file);
+        let f = self.bench.opened().expect("just opened");
+        #[derive(Serialize)]
+        #[serde(rename_all = "camelCase")]
+        struct Opened<'a> {
+            table: Option<&'a crate::graphfile::TableInfo>,
+            settings: &'a Settings,
+            summary: &'a crate::engine::Summary,
+            rows_known: bool,
+            version: u32,
+        }
+        to_js(&Opened { table: f.table.as_ref(), settings: &f.settings, summary: &f.summary, rows_known: f.has_rows(), version: f.version })
+    }
+
     /// Builds the graph; `progress(stage, fraction)` is called as stages advance.
     /// Returns the summary.
     pub fn run(&mut self, settings: JsValue, progress: &Function) -> Result<JsValue, JsValue> {
@@ -374,7 +406,7 @@ impl Engine {
     /// The last graph as typed arrays: `{nodeSizes, nodeElements, edgeA, edgeB, edgeShared,
     /// positions}` (positions interleaved x, y), or `null` before the first run.
     pub fn graph(&self) -> JsValue {
-        graph_arrays(self.bench.last())
+        graph_arrays(self.bench.last(), &self.bench.node_sizes())
     }
 
     /// One value per node of the last graph: `stat` of `column` over its rows. `stat` is
@@ -476,7 +508,7 @@ impl Engine {
     pub fn export(&self, format: &str, colour_column: &str, stat: &JsValue, file_name: &str) -> Result<String, JsValue> {
         let build = self.bench.last().ok_or_else(|| fail("no graph has been built yet"))?;
         match format {
-            "json" => Ok(crate::export::graph_json(build)),
+            "json" => Ok(self.bench.graph_file(true).map_err(fail)?.to_json()),
             "graphml" => {
                 let extra = if colour_column.is_empty() {
                     Vec::new()
@@ -485,6 +517,9 @@ impl Engine {
                     crate::export::colour_attributes(&self.bench, colour_column, stat).map_err(fail)?
                 };
                 Ok(crate::export::graphml(build, &extra))
+            }
+            "memberships" if !self.bench.members_known() => {
+                Err(fail("this graph file was written without its member rows, so there are no memberships to export"))
             }
             "memberships" => Ok(crate::export::memberships_csv(build)),
             "report" => Ok(crate::export::report(build, file_name)),
@@ -509,25 +544,23 @@ impl Engine {
     /// first run.
     pub fn diagram(&self) -> Result<JsValue, JsValue> {
         let Some(b) = self.bench.last() else { return Ok(JsValue::NULL) };
-        let edges: Vec<(u32, u32)> = b.nerve.edges.iter().map(|e| (e.a, e.b)).collect();
-        let d = shape::extended_persistence(&b.node_lens, &edges);
-        let supports = shape::supports(&b.node_lens, &edges, &d);
-        let f = &d.features;
+        let f = crate::results::diagram(b).features;
         let kind: Vec<u8> = f.iter().map(|x| shape::Kind::ALL.iter().position(|k| *k == x.kind).unwrap_or(0) as u8).collect();
         let mut offsets = Vec::with_capacity(f.len() + 1);
         offsets.push(0u32);
-        for s in &supports {
-            offsets.push(offsets[offsets.len() - 1] + s.len() as u32);
+        let mut nodes: Vec<u32> = Vec::new();
+        for x in &f {
+            nodes.extend_from_slice(x.nodes.as_deref().unwrap_or(&[]));
+            offsets.push(nodes.len() as u32);
         }
-        let nodes: Vec<u32> = supports.concat();
-        let floats = |g: fn(&shape::Feature) -> f64| Float64Array::from(&f.iter().map(g).collect::<Vec<_>>()[..]);
-        let ints = |g: fn(&shape::Feature) -> u32| Uint32Array::from(&f.iter().map(g).collect::<Vec<_>>()[..]);
+        let floats = |g: fn(&crate::results::FeatureOut) -> f64| Float64Array::from(&f.iter().map(g).collect::<Vec<_>>()[..]);
+        let ints = |g: fn(&crate::results::FeatureOut) -> u32| Uint32Array::from(&f.iter().map(g).collect::<Vec<_>>()[..]);
         let out = Object::new();
         set(&out, "kinds", &to_js(&shape::Kind::ALL)?);
         set(&out, "kind", &Uint8Array::from(&kind[..]).into());
         set(&out, "birth", &floats(|x| x.birth).into());
         set(&out, "death", &floats(|x| x.death).into());
-        set(&out, "persistence", &floats(|x| x.persistence()).into());
+        set(&out, "persistence", &floats(|x| x.persistence).into());
         set(&out, "birthNode", &ints(|x| x.birth_node).into());
         set(&out, "deathNode", &ints(|x| x.death_node).into());
         set(&out, "nodes", &Uint32Array::from(&nodes[..]).into());
@@ -644,7 +677,7 @@ impl Engine {
 
     /// The second table's last graph, as [`Engine::graph`] gives the first's.
     pub fn graph_b(&self) -> JsValue {
-        graph_arrays(self.bench_b.last())
+        graph_arrays(self.bench_b.last(), &self.bench_b.node_sizes())
     }
 
     /// Starts the comparison of the two tables' graphs under `settings` (both must have
@@ -666,7 +699,7 @@ impl Engine {
     /// `{distance, threshold, alpha, differ, a, b}`, `a` and `b` as from `bootstrap_finish`.
     pub fn compare_finish(&mut self) -> Result<JsValue, JsValue> {
         let c = self.comparing.take().ok_or_else(|| fail("internal: compare_finish without compare_begin"))?.finish();
-        to_js(&ComparisonOut { distance: c.distance, threshold: c.threshold, alpha: c.alpha, differ: c.differ, a: ConfidenceOut::new(&c.a), b: ConfidenceOut::new(&c.b) })
+        to_js(&ComparisonOut::new(&c))
     }
 
     pub fn compare_drop(&mut self) {
@@ -681,57 +714,6 @@ fn seed_of(x: f64) -> Result<u64, JsValue> {
     } else {
         Err(fail(format!("seed: {x} is not a whole number from 0 to 2^53")))
     }
-}
-
-#[derive(Serialize)]
-#[serde(rename_all = "camelCase")]
-struct FeatureOut {
-    kind: shape::Kind,
-    birth: f64,
-    death: f64,
-    birth_node: u32,
-    death_node: u32,
-    persistence: f64,
-    significant: bool,
-}
-
-impl FeatureOut {
-    fn new(f: &shape::Feature, significant: bool) -> FeatureOut {
-        FeatureOut { kind: f.kind, birth: f.birth, death: f.death, birth_node: f.birth_node, death_node: f.death_node, persistence: f.persistence(), significant }
-    }
-}
-
-#[derive(Serialize)]
-#[serde(rename_all = "camelCase")]
-struct ConfidenceOut {
-    alpha: f64,
-    draws: usize,
-    threshold: f64,
-    distances: Vec<f64>,
-    features: Vec<FeatureOut>,
-}
-
-impl ConfidenceOut {
-    fn new(c: &shape::Confidence) -> ConfidenceOut {
-        ConfidenceOut {
-            alpha: c.alpha,
-            draws: c.distances.len(),
-            threshold: c.threshold,
-            distances: c.distances.clone(),
-            features: c.diagram.features.iter().zip(&c.significant).map(|(f, &s)| FeatureOut::new(f, s)).collect(),
-        }
-    }
-}
-
-#[derive(Serialize)]
-#[serde(rename_all = "camelCase")]
-struct ComparisonOut {
-    distance: f64,
-    threshold: f64,
-    alpha: f64,
-    differ: bool,
-    a: ConfidenceOut,
-    b: ConfidenceOut,
 }
 
 /// Clusters one cover element's points (row-major, `dim` values a row) with the
@@ -764,11 +746,11 @@ impl Engine {
 }
 
 /// A graph as typed arrays, as [`Engine::graph`] gives them, for [`Engine::graph_b`].
-fn graph_arrays(build: Option<&crate::engine::Build>) -> JsValue {
+fn graph_arrays(build: Option<&crate::engine::Build>, sizes: &[usize]) -> JsValue {
     let Some(build) = build else { return JsValue::NULL };
     let nodes = &build.nerve.nodes;
     let edges = &build.nerve.edges;
-    let sizes: Vec<u32> = nodes.iter().map(|n| n.members.len() as u32).collect();
+    let sizes: Vec<u32> = sizes.iter().map(|&k| k as u32).collect();
     let elements: Vec<u32> = nodes.iter().map(|n| n.element as u32).collect();
     let a: Vec<u32> = edges.iter().map(|e| e.a).collect();
     let b: Vec<u32> = edges.iter().map(|e| e.b).collect();

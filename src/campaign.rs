@@ -139,6 +139,46 @@ impl Campaign {
     }
 }
 
+/// Reads files from disk into a file list as the page reads them when they are dropped
+/// together (native builds only): each told apart by content, stacked with a
+/// `source_file` column when there are several, and with `align` the files named in
+/// `model` (by path or file name) aligned onto the others. `progress(file name, bytes,
+/// total)` follows the reading.
+#[cfg(not(target_arch = "wasm32"))]
+pub fn from_paths(
+    paths: &[std::path::PathBuf],
+    model: &[std::path::PathBuf],
+    align: Option<AlignSpec>,
+    sheet: Option<&str>,
+    progress: &mut dyn FnMut(&str, u64, u64),
+) -> Result<Campaign> {
+    let name_of = |p: &std::path::Path| p.file_name().map_or_else(|| p.display().to_string(), |n| n.to_string_lossy().into_owned());
+    let mut c = Campaign::new();
+    let mut names: Vec<String> = Vec::new();
+    for p in paths.iter().chain(model) {
+        let name = name_of(p);
+        if names.contains(&name) {
+            return Err(Error::Input(format!(
+                "two files are named '{name}'; files are told apart by name (as in the page's file list): rename one"
+            )));
+        }
+        let part = ingest::read_path(p, crate::table::ReadOptions::default(), sheet, &mut |done, total| progress(&name, done, total))?;
+        names.push(name);
+        c.add(part);
+    }
+    match (model.is_empty(), align) {
+        (true, None) => {}
+        (true, Some(_)) => return Err(Error::settings("align", "an alignment needs model files: name them with the model option")),
+        (false, None) => return Err(Error::settings("align", "model files are aligned on time: give the alignment (time columns and method)")),
+        (false, Some(spec)) => {
+            let measurement = paths.iter().map(|p| name_of(p)).collect();
+            let model = model.iter().map(|p| name_of(p)).collect();
+            c.set_plan(Some(Plan { measurement, model, align: spec }))?;
+        }
+    }
+    Ok(c)
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

@@ -350,10 +350,9 @@ impl GraphFile {
             edges: self.edges.clone(),
             statistics: self.statistics.clone(),
         };
-        let mut v = serde_json::json!({ "format": GRAPH_FORMAT, "version": GRAPH_FILE_VERSION });
-        let serde_json::Value::Object(fields) = serde_json::to_value(&body).expect("graph serialises") else { unreachable!("a struct") };
-        v.as_object_mut().expect("an object").extend(fields);
-        serde_json::to_string(&v).expect("graph serialises")
+        // `format` and `version` first, then the fields in the order of `Body`.
+        let fields = serde_json::to_string(&body).expect("graph serialises");
+        format!("{{\"format\":\"{GRAPH_FORMAT}\",\"version\":{GRAPH_FILE_VERSION},{}", &fields[1..])
     }
 
     /// Reads a graph file; `name` (the file's name) starts every message.

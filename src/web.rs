@@ -656,10 +656,7 @@ impl Engine {
         let text: String = js_sys::JSON::stringify(&pairs).map_err(|_| fail("column swap: cannot be written as JSON"))?.into();
         let pairs: Vec<(String, String)> = serde_json::from_str(&text).map_err(|e| fail(format!("column swap: {e}")))?;
         let a = self.bench.table().ok_or_else(|| fail("no table is loaded yet; open a CSV file first"))?;
-        let words: Vec<String> = pairs.iter().map(|(from, to)| format!("{to} ← {from}")).collect();
-        let name = format!("{} ({})", a.name, words.join(", "));
-        let leave_out: Vec<String> = s.derived.iter().map(|d| d.name.clone()).collect();
-        let table = shape::swap::swapped(a, &pairs, &leave_out, &name).map_err(fail)?;
+        let table = shape::swap::second_table(a, &pairs, &s).map_err(fail)?;
         self.comparing = None;
         self.bench_b.set_table(table);
         let t = self.bench_b.table().expect("just set");

@@ -39,6 +39,16 @@ pub fn swapped(table: &Table, pairs: &[(String, String)], leave_out: &[String], 
     Table::from_columns(name, columns)
 }
 
+/// The second table of a comparison by swapped columns, as the page makes it: `pairs`
+/// are `(stands_in, for_column)`; the derived columns of `settings` are left out (the
+/// second table's run makes its own); the name says what stands in for what.
+pub fn second_table(table: &Table, pairs: &[(String, String)], settings: &crate::settings::Settings) -> Result<Table> {
+    let words: Vec<String> = pairs.iter().map(|(from, to)| format!("{to} ← {from}")).collect();
+    let name = format!("{} ({})", table.name, words.join(", "));
+    let leave_out: Vec<String> = settings.derived.iter().map(|d| d.name.clone()).collect();
+    swapped(table, pairs, &leave_out, &name)
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

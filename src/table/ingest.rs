@@ -101,6 +101,37 @@ impl Ingest {
     }
 }
 
+/// Reads one file from disk as the page reads a dropped file (native builds only): in
+/// chunks of 1 MiB, its columns sized from the file's size, named by its file name.
+/// `sheet` names a workbook's sheet (the first when `None`). `progress(bytes, total)` is
+/// called after each chunk.
+#[cfg(not(target_arch = "wasm32"))]
+pub fn read_path(path: &std::path::Path, options: ReadOptions, sheet: Option<&str>, progress: &mut dyn FnMut(u64, u64)) -> Result<Part> {
+    use std::io::Read;
+    let shown = path.display();
+    let cannot = |what: &str, e: std::io::Error| crate::error::Error::Input(format!("cannot {what} {shown}: {e}"));
+    let name = path.file_name().map_or_else(|| shown.to_string(), |n| n.to_string_lossy().into_owned());
+    let mut file = std::fs::File::open(path).map_err(|e| cannot("open", e))?;
+    let total = file.metadata().map(|m| m.len()).unwrap_or(0);
+    if file.metadata().is_ok_and(|m| m.is_dir()) {
+        return Err(crate::error::Error::Input(format!("{shown} is a folder; give the data files in it")));
+    }
+    let mut ingest = Ingest::new(&name, options);
+    ingest.expect_bytes(total);
+    let mut buf = vec![0u8; 1 << 20];
+    let mut done = 0u64;
+    loop {
+        let k = file.read(&mut buf).map_err(|e| cannot("read", e))?;
+        if k == 0 {
+            break;
+        }
+        ingest.push(&buf[..k])?;
+        done += k as u64;
+        progress(done, total);
+    }
+    ingest.finish(sheet)
+}
+
 /// Re-reads a kept spreadsheet with another sheet.
 pub fn choose_sheet(part: &Part, sheet_name: &str) -> Result<Part> {
     let bytes = part.raw.as_ref().ok_or_else(|| {

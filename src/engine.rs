@@ -970,6 +970,20 @@ impl Resampler {
     }
 }
 
+/// The filter values of the points under `s`, the first filter's and the second's (for a
+/// product cover): the lens stage of [`Workbench::run`] on its own, for callers that
+/// spread the stages over processes.
+pub fn lens_stage(table: &Table, pts: &Points, s: &Settings) -> Result<(Vec<f64>, Option<Vec<f64>>)> {
+    let l = lens_values(table, pts, s)?;
+    Ok((l.first, l.second))
+}
+
+/// The cover of `s` over filter values (`second` for a product cover): the cover stage
+/// of [`Workbench::run`] on its own.
+pub fn cover_stage(first: &[f64], second: Option<&[f64]>, s: &Settings) -> Cover {
+    cover::build(first, &s.cover, second.map(|v| (v, second_cover(s))))
+}
+
 fn lens_values(table: &Table, pts: &Points, s: &Settings) -> Result<Lenses> {
     let finite = |v: Vec<f64>, which: &str| -> Result<Vec<f64>> {
         if let Some(i) = v.iter().position(|x| !x.is_finite()) {

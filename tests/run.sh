@@ -18,6 +18,10 @@ build_page
 step "command-line runner for the browser tests' comparisons"
 cargo build --quiet --release --bin nervure
 
+need_python_package
+step "Python package tests (pytest, against the runner and NetworkX, pandas, SciPy)"
+NERVURE_RUNNER="$CARGO_TARGET_DIR/release/nervure" "$HOME/.cache/nervure-venv/bin/python" -m pytest python/tests -q -p no:cacheprovider 2>&1 | tee /tmp/nervure-pytest.log
+
 step "browser tests (node --test, headless Chromium, file://)"
 node --test --test-reporter=spec tests/browser/ 2>&1 | tee /tmp/nervure-browser-test.log
 
@@ -25,5 +29,7 @@ rust_passed=$(grep -Eo '[0-9]+ passed' /tmp/nervure-cargo-test.log | awk '{s+=$1
 rust_failed=$(grep -Eo '[0-9]+ failed' /tmp/nervure-cargo-test.log | awk '{s+=$1} END {print s+0}')
 web_passed=$(grep -Eo '^ℹ pass [0-9]+' /tmp/nervure-browser-test.log | awk '{s+=$3} END {print s+0}')
 web_failed=$(grep -Eo '^ℹ fail [0-9]+' /tmp/nervure-browser-test.log | awk '{s+=$3} END {print s+0}')
+py_passed=$(tail -n 3 /tmp/nervure-pytest.log | grep -Eo '[0-9]+ passed' | awk '{s+=$1} END {print s+0}')
+py_failed=$(tail -n 3 /tmp/nervure-pytest.log | grep -Eo '[0-9]+ (failed|error|errors)' | awk '{s+=$1} END {print s+0}')
 echo
-echo "all: $((rust_passed + web_passed)) passed, $((rust_failed + web_failed)) failed"
+echo "all: $((rust_passed + py_passed + web_passed)) passed, $((rust_failed + py_failed + web_failed)) failed"

@@ -59,6 +59,30 @@ need_open_tables() {
   fi
 }
 
+# The Python package (python/, pyproject.toml): maturin and pytest with the outside
+# references (python/tests/requirements.txt, exact versions) in the tests' venv, then the
+# abi3 wheel built by maturin into $CARGO_TARGET_DIR/wheels (cargo re-uses the builds of
+# earlier runs there) and installed into the venv. Exports NERVURE_WHEEL (its path).
+need_python_package() {
+  local venv="$HOME/.cache/nervure-venv"
+  [ -x "$venv/bin/python" ] || python3 -m venv "$venv"
+  local stamp="$venv/.nervure-python-tests"
+  local want
+  want=$(sha256sum python/tests/requirements.txt | cut -c1-16)
+  if [ "$(cat "$stamp" 2>/dev/null)" != "$want" ]; then
+    step "installing the Python package's build and test tools (python/tests/requirements.txt)"
+    "$venv/bin/pip" install --quiet --disable-pip-version-check -r python/tests/requirements.txt
+    echo "$want" > "$stamp"
+  fi
+  step "building the Python wheel (maturin, abi3)"
+  rm -rf "$CARGO_TARGET_DIR/wheels"
+  "$venv/bin/maturin" build --quiet --release --interpreter "$venv/bin/python" -o "$CARGO_TARGET_DIR/wheels"
+  NERVURE_WHEEL=$(ls "$CARGO_TARGET_DIR"/wheels/nervure-*.whl)
+  export NERVURE_WHEEL
+  "$venv/bin/pip" install --quiet --disable-pip-version-check --force-reinstall --no-deps "$NERVURE_WHEEL"
+  echo "wheel: $(basename "$NERVURE_WHEEL"), $(du -k "$NERVURE_WHEEL" | cut -f1) KiB"
+}
+
 build_page() {
   step "building dist/nervure.html"
   cargo run --quiet --release --features page-builder --bin nervure-build

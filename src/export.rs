@@ -95,6 +95,13 @@ pub fn xml_escape(text: &str) -> String {
 /// The graph as GraphML, with `extra` node attributes (the colouring, see
 /// [`colour_attributes`]) after the fixed ones.
 pub fn graphml(b: &Build, extra: &[NodeAttribute]) -> String {
+    let sizes: Vec<usize> = b.nerve.nodes.iter().map(|n| n.members.len()).collect();
+    graphml_sized(b, &sizes, extra)
+}
+
+/// [`graphml`] with the node sizes given (a graph opened from a graph file written without
+/// member rows knows its sizes, not its members: [`crate::Workbench::node_sizes`]).
+pub fn graphml_sized(b: &Build, sizes: &[usize], extra: &[NodeAttribute]) -> String {
     let mut x = String::new();
     x.push_str("<?xml version=\"1.0\" encoding=\"UTF-8\"?>\n");
     x.push_str("<graphml xmlns=\"http://graphml.graphdrawing.org/xmlns\" xmlns:xsi=\"http://www.w3.org/2001/XMLSchema-instance\" xsi:schemaLocation=\"http://graphml.graphdrawing.org/xmlns http://graphml.graphdrawing.org/xmlns/1.0/graphml.xsd\">\n");
@@ -117,7 +124,7 @@ pub fn graphml(b: &Build, extra: &[NodeAttribute]) -> String {
         let _ = write!(
             x,
             "    <node id=\"n{i}\"><data key=\"size\">{}</data><data key=\"element\">{}</data><data key=\"lens\">{:?}</data>",
-            n.members.len(),
+            sizes[i],
             n.element,
             b.node_lens[i]
         );

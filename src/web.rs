@@ -516,7 +516,7 @@ impl Engine {
                     let stat = if stat.is_undefined() || stat.is_null() { NodeStat::Mean } else { stat_from_js(stat)? };
                     crate::export::colour_attributes(&self.bench, colour_column, stat).map_err(fail)?
                 };
-                Ok(crate::export::graphml(build, &extra))
+                Ok(crate::export::graphml_sized(build, &self.bench.node_sizes(), &extra))
             }
             "memberships" if !self.bench.members_known() => {
                 Err(fail("this graph file was written without its member rows, so there are no memberships to export"))

@@ -55,6 +55,7 @@ const state = {
   files: null,             // the file list from the engine: {files, plan, alignment, differences} (files.js)
   builtSettings: null,     // the settings of the graph on screen (recovery.js puts them back)
   nodeLimit: NODE_LIMIT,   // graphs over this many nodes wait for the user's yes (recovery.js)
+  opened: null,            // a graph opened from a graph file, with no table: {name, version, rowsKnown, builtFrom} (graph-file.js)
 };
 
 /* ---------------------------------------------------------------- worker */
@@ -219,6 +220,8 @@ async function loadTable(source, ask) {
   }
   if (seq !== loadSeq) throw new Error("another file was opened meanwhile");
   if (source) rememberSource(source);
+  state.opened = null;
+  recovery.graphSource = null;
   state.timing.tableRead = performance.now();
   state.table = loaded.table;
   state.settings = loaded.settings;
@@ -276,6 +279,8 @@ function buildNow(nodeLimit) {
   clearTimeout(rerunTimer);
   rerunTimer = null;
   if (!state.table) return Promise.reject(new Error("no table is loaded yet; open a CSV file first"));
+  const refusal = openedGraphRefusal();
+  if (refusal) { state.message = refusal; renderMessage(); return Promise.reject(new Error(refusal)); }
   const seq = ++buildSeq;
   latestBuild = build(seq, nodeLimit === undefined ? state.nodeLimit : nodeLimit);
   return latestBuild;
@@ -403,6 +408,8 @@ function defaultColourColumn() {
 /** Replaces the settings after the engine has checked them; rebuilds after a pause. */
 async function applySettings(candidate) {
   if (!state.table) throw new Error("no table is loaded yet; open a CSV file first");
+  const refusal = openedGraphRefusal();
+  if (refusal) { fail(refusal); throw new Error(refusal); }
   let checked;
   try {
     checked = await engine.request("check", { settings: candidate });
@@ -508,6 +515,7 @@ function renderAll() {
   renderDetail();
   renderDerived();
   renderRestored();
+  renderOpenedNote();
   renderChrome();
 }
 
@@ -525,7 +533,7 @@ function renderColumns() {
   const wrap = byId("columns-wrap");
   const body = byId("columns-body");
   body.textContent = "";
-  if (!state.table) { wrap.hidden = true; return; }
+  if (!state.table || state.opened) { wrap.hidden = true; return; }
   wrap.hidden = false;
   const used = new Set(state.settings ? state.settings.columns : []);
   for (const c of visibleColumns(state.table.columns)) {
@@ -748,7 +756,7 @@ function wire() {
   input.addEventListener("change", function () {
     const files = Array.from(input.files || []);
     if (files.length > 1) loadFiles(files, false).catch(function () { /* shown on the page */ });
-    else if (files[0]) loadFile(files[0]).catch(function () { /* shown on the page */ });
+    else if (files[0]) openDataFile(files[0]).catch(function () { /* shown on the page */ });
     input.value = "";
   });
 
@@ -771,7 +779,7 @@ function wire() {
     zone.classList.remove("over");
     const files = Array.from((ev.dataTransfer && ev.dataTransfer.files) || []);
     if (files.length > 1) loadFiles(files, false).catch(function () { /* shown on the page */ });
-    else if (files[0]) loadFile(files[0]).catch(function () { /* shown on the page */ });
+    else if (files[0]) openDataFile(files[0]).catch(function () { /* shown on the page */ });
   });
   zone.addEventListener("keydown", function (ev) {
     if (ev.key === "Enter" || ev.key === " ") { ev.preventDefault(); input.click(); }
@@ -802,6 +810,7 @@ function wire() {
   wireHistory();
   wireKeys();
   wireHooks();
+  wireGraphFile();
 }
 
 /* ---------------------------------------------------------------- scripting hook */
@@ -810,6 +819,13 @@ window.nervure = Object.freeze({
   /** Reads CSV text as if it were a dropped file; resolves with {name, rows, columns}
    *  once the first graph is built. */
   loadCsv: function (text, name) { return loadText(text, name).then((t) => JSON.parse(JSON.stringify(t))); },
+  /** Opens a graph file's text as Open graph… does; resolves with its summary. */
+  openGraph: function (text, name) { return openGraphText(text, name); },
+  /** The graph file shown ({name, version, rowsKnown, builtFrom}), or null when a table is open. */
+  opened: function () { return state.opened ? JSON.parse(JSON.stringify(state.opened)) : null; },
+  /** Reads a settings file's text as Open settings… does; resolves with the summary of the
+   *  graph built with it, or rejects (the settings and graph shown then stay). */
+  importSettings: function (text, name) { return importSettingsText(text, name || "settings.json"); },
   /** The settings document in force (a copy). */
   settings: function () { return state.settings ? JSON.parse(JSON.stringify(state.settings)) : null; },
   /** Checks and takes new settings (the graph is rebuilt after a pause, or by run()). */
@@ -818,6 +834,11 @@ window.nervure = Object.freeze({
   run: function () { return buildNow().then((s) => JSON.parse(JSON.stringify(s))); },
   /** The last build's summary (a copy), or null. */
   summary: function () { return state.summary ? JSON.parse(JSON.stringify(state.summary)) : null; },
+  /** The colouring shown: {column, stat, values: one per node (null for none)}, or null. */
+  colour: function () {
+    if (!state.colour.values) return null;
+    return { column: state.colour.column, stat: state.colour.stat, values: Array.from(state.colour.values, (v) => (Number.isFinite(v) ? v : null)) };
+  },
   /** Colours the nodes by the mean of a numeric column. */
   colourBy: function (column) { return setColourColumn(column); },
   /** Where each node is drawn: world positions and the view (screen = world * scale + offset,

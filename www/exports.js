@@ -156,18 +156,52 @@ function graphPng() {
 
 /* ---------------------------------------------------------------- settings back in */
 
+/** Reads a settings file and builds its graph. The file's settings take over only once
+ *  their graph is built: a document the engine refuses (not JSON, nested deeper than any
+ *  settings document, a field out of range) or whose graph cannot be built on this table
+ *  (a column it lacks, a column listed twice) leaves the settings, the form, the export
+ *  and the graph shown as they were, and the message says why. The text is read by the
+ *  engine, never parsed here. */
 async function importSettingsText(text, fileName) {
-  if (!state.table) throw new Error("open the data file first, then its settings (" + fileName + ")");
-  let obj;
-  try {
-    obj = JSON.parse(text);
-  } catch (e) {
-    const message = "setting '(document)': " + fileName + " is not JSON (" + e.message + "); choose a settings file saved by Nervure";
-    fail(message);
+  const refuse = function (why) {
+    const message = "The settings in " + fileName + " were not used: " + why + (/[.!?]$/.test(why) ? "" : ".") +
+      (state.graph ? " The settings and the graph shown are unchanged." : "");
+    state.message = message;
+    renderMessage();
     throw new Error(message);
+  };
+  if (state.opened) refuse(openedGraphRefusal());
+  if (!state.table) refuse("open the data file first, then its settings");
+  let checked;
+  try {
+    checked = await engine.request("readSettings", { text: String(text), name: fileName });
+  } catch (e) {
+    refuse(e.message);
   }
-  await applySettings(obj);
-  return buildNow();
+  const before = { settings: state.settings, stale: state.stale, built: state.builtSettings };
+  const fillChanged = JSON.stringify((checked.missing || {}).fillValues || []) !== JSON.stringify(((state.settings || {}).missing || {}).fillValues || []);
+  state.settings = checked;
+  let summary;
+  try {
+    summary = await buildNow();
+  } catch (e) {
+    if (e.cancelled) throw e;
+    state.settings = before.settings;
+    state.stale = before.stale;
+    state.phase = "ready";
+    state.progress = null;
+    renderSettings();
+    renderSummary();
+    renderProgress();
+    renderChrome();
+    // The engine went ahead to the refused settings' derived columns: take those of the
+    // graph shown again (cached stages: nothing is recomputed).
+    if (before.built) await engine.request("run", { settings: before.built, nodeLimit: 0, colour: null }).catch(function () { /* the graph shown stays */ });
+    refuse(e.message);
+  }
+  if (fillChanged) await refreshColumnSummaries();
+  renderSettings();
+  return summary;
 }
 
 /* ---------------------------------------------------------------- local storage and fragment */
@@ -265,7 +299,7 @@ function wireExports() {
     const file = input.files && input.files[0];
     input.value = "";
     if (!file) return;
-    file.text().then(function (text) { return importSettingsText(text, file.name); }).catch(function (e) { fail(e.message); });
+    file.text().then(function (text) { return importSettingsText(text, file.name); }).catch(function () { /* shown on the page */ });
   });
   byId("restored-undo").addEventListener("click", function () {
     const auto = state.autoSettings;

@@ -86,6 +86,14 @@ async function setSelection(nodes, primary) {
   if (sel.size === 0) return null;
   const list = Array.from(sel).sort((a, b) => a - b);
   try {
+    if (state.opened) {
+      // A graph file with no table: the file's statistics for one node; no rows to compare.
+      const detail = list.length === 1 ? await engine.request("detail", { node: list[0] }) : null;
+      if (seq !== state.inspectSeq) return null;
+      state.detail = detail;
+      renderDetail();
+      return { detail, contrast: null };
+    }
     const m = await memberships();
     if (seq !== state.inspectSeq) return null;
     state.groupRows = rowsOfNodes(m, list).rows;
@@ -164,6 +172,13 @@ function renderDetail() {
   if (single) facts.push("lens interval " + ((d ? d.element : state.graph.nodeElements[list[0]]) + 1) + (d && d.interval ? " [" + formatNumber(d.interval[0]) + ", " + formatNumber(d.interval[1]) + "]" : ""));
   else facts.push("nodes " + (list.length <= 8 ? list.join(", ") : list.slice(0, 8).join(", ") + ", …"));
   byId("detail-sub").textContent = facts.join(" · ");
+  const fileNote = byId("detail-file-note");
+  fileNote.hidden = !state.opened;
+  if (state.opened) {
+    fileNote.textContent = "Member rows are not in this tab: this graph was opened from the graph file " + state.opened.name +
+      (single ? ". The statistics below are the file's (mean, range, missing and the most common value over the node's rows)."
+        : ". Select one node to see the statistics the file carries; ranking the columns of a group needs the table.");
+  }
   renderStats(single ? d : null);
   renderContrast();
   renderRowTable();

@@ -85,6 +85,10 @@ async function readWithSteps(source, steps, progress) {
  *  one and rebuilds the graph that is on screen, so selection, colouring and details work
  *  again; the settings go back to those of that graph. */
 function recoverEngine() {
+  if (state.opened && recovery.graphSource) {
+    Promise.resolve().then(reopenGraphInNewEngine);
+    return;
+  }
   if (!recovery.source || !state.table) {
     state.table = null;
     state.graph = null;

@@ -352,6 +352,17 @@ async function handle(engine, msg) {
       return { value: engine.column_summaries(new Float64Array(msg.fillValues || [])) };
     case "check":
       return { value: engine.check_settings(msg.settings) };
+    case "readSettings":
+      // The file's text goes to the engine unparsed: a document nested thousands deep
+      // would break the structured clone of a parsed object.
+      return { value: engine.read_settings_file(msg.text, msg.name) };
+    case "openGraph": {
+      const info = engine.open_graph(msg.text, msg.name);
+      shownSettings = info.settings;
+      const graph = graphMessage(engine);
+      info.graph = graph.value;
+      return { value: info, transfer: graph.transfer };
+    }
     case "diagram": {
       // Columns of typed arrays (Engine::diagram), handed over rather than copied.
       const d = engine.diagram();

@@ -279,7 +279,7 @@ impl Bench {
                         nervure::export::colour_attributes(&self.inner, c, nervure::NodeStat::from_json(&v).map_err(err)?).map_err(err)?
                     }
                 };
-                Ok(nervure::export::graphml(b, &extra))
+                Ok(nervure::export::graphml_sized(b, &self.inner.node_sizes(), &extra))
             }
             "memberships" if !self.inner.members_known() => Err(err("this graph file was written without its member rows, so there are no memberships to export")),
             "memberships" => Ok(nervure::export::memberships_csv(b)),

@@ -128,7 +128,8 @@ test("settings round trip: export, reload, import, the same summary", async () =
   writeFileSync(bad, JSON.stringify({ ...CHOSEN, cover: { intervals: 9, overlap: 1.5 } }));
   await page.setInputFiles("#import-settings", bad);
   await page.waitForFunction(() => (window.nervure.message() || "").includes("cover.overlap"));
-  assert.equal(await page.textContent("#message"), "setting 'cover.overlap': 1.5 is outside [0, 1)");
+  assert.equal(await page.textContent("#message"), "The settings in bad.settings.json were not used: setting 'cover.overlap': 1.5 is outside [0, 1). The settings and the graph shown are unchanged.");
+  assert.deepEqual(await page.evaluate(() => window.nervure.settings()), CHOSEN, "the settings in force stay");
   const notJson = join(outDir, "not-json.settings.json");
   writeFileSync(notJson, "{ intervals: 3");
   await page.setInputFiles("#import-settings", notJson);

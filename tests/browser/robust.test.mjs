@@ -305,11 +305,11 @@ test("bad settings are refused naming the field; the graph and settings survive"
     ["settings file from a newer version", "newer.settings.json", JSON.stringify({ ...s, version: 3 }), "setting 'version': the file is version 3, written by a newer Nervure; this build reads versions 1 to 2"],
     ["settings file with an unknown field", "extra.settings.json", JSON.stringify({ ...s, cover: { ...s.cover, width: 2 } }), "setting 'cover.width': unknown field; this build does not read it (fields: intervals, overlap, kind)"],
     ["settings file with negative intervals", "negative.settings.json", JSON.stringify({ ...s, cover: { ...s.cover, intervals: -1 } }), "setting 'cover.intervals': -1 is not allowed; use a whole number of at least 1"],
-    ["settings file that is not JSON", "broken.settings.json", "{\"version\": 1,", /^setting '\(document\)': broken\.settings\.json is not JSON/],
+    ["settings file that is not JSON", "broken.settings.json", "{\"version\": 1,", /^The settings in broken\.settings\.json were not used: setting '\(document\)': broken\.settings\.json is not JSON/],
   ];
   for (const [what, name, text, expected] of imports) {
     await page.setInputFiles("#import-settings", { name, mimeType: "application/json", buffer: Buffer.from(text) });
-    const re = expected instanceof RegExp ? expected : new RegExp("^" + expected.replace(/[.*+?^${}()|[\]\\]/g, "\\$&") + "$");
+    const re = expected instanceof RegExp ? expected : new RegExp("^The settings in " + name.replace(/\./g, "\\.") + " were not used: " + expected.replace(/[.*+?^${}()|[\]\\]/g, "\\$&") + "\\. The settings and the graph shown are unchanged\\.$");
     const message = await waitForMessage(page, re);
     const now = await snapshot(page);
     assert.deepEqual(now.settings, before.settings, what + ": settings changed");

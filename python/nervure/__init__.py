@@ -1,6 +1,6 @@
-"""Nervure from Python: Mapper graphs of large tables, computed by the same Rust core as
-the Nervure page and the ``nervure`` command-line runner, driven by the same settings
-document.
+"""Nervure for notebooks and scripts: the shape of large tables as Mapper graphs, computed by
+the same Rust core as the Nervure page and the ``nervure`` command-line runner, driven by
+the same settings document.
 
     import nervure, pandas as pd
     df = pd.read_csv("penguins.csv")

@@ -54,6 +54,16 @@ impl Build {
             Some(a) => (e / a.intervals.len(), Some(e % a.intervals.len())),
         }
     }
+
+    /// The first filter's interval of element `e` (NaN when unknown), and the second's.
+    pub fn element_intervals(&self, e: usize) -> ((f64, f64), Option<(f64, f64)>) {
+        let (i, j) = self.cell(e);
+        let second = match (j, &self.second) {
+            (Some(j), Some(a)) => a.intervals.get(j).copied(),
+            _ => None,
+        };
+        (self.intervals.get(i).copied().unwrap_or((f64::NAN, f64::NAN)), second)
+    }
 }
 
 /// The most levels of one category column a comparison lists (the statistics count all).
@@ -652,11 +662,8 @@ impl Workbench {
             node,
             size: n.members.len(),
             element: n.element,
-            interval: b.intervals.get(b.cell(n.element).0).copied().unwrap_or((f64::NAN, f64::NAN)),
-            interval2: match (b.cell(n.element).1, &b.second) {
-                (Some(j), Some(a)) => a.intervals.get(j).copied(),
-                _ => None,
-            },
+            interval: b.element_intervals(n.element).0,
+            interval2: b.element_intervals(n.element).1,
             degree: b.nerve.degrees()[node],
             columns,
             rows: n.members.iter().take(200).map(|&r| r as usize + 1).collect(),
@@ -1190,11 +1197,8 @@ fn opened_node_detail(f: &crate::graphfile::GraphFile, b: &Build, node: usize) -
         node,
         size: rec.size,
         element: rec.element,
-        interval: b.intervals.get(b.cell(rec.element).0).copied().unwrap_or((f64::NAN, f64::NAN)),
-        interval2: match (b.cell(rec.element).1, &b.second) {
-            (Some(j), Some(a)) => a.intervals.get(j).copied(),
-            _ => None,
-        },
+        interval: b.element_intervals(rec.element).0,
+        interval2: b.element_intervals(rec.element).1,
         degree: b.nerve.degrees()[node],
         columns,
         rows: rec.rows.as_ref().map_or(Vec::new(), |r| r.iter().take(200).copied().collect()),

@@ -470,13 +470,12 @@ impl GraphFile {
             Some(c) => (c.range, c.intervals.clone()),
             None => (range(&node_lens), Vec::new()),
         };
-        let second = self.settings.lens2.as_ref().map(|_| {
+        // The second axis needs its intervals (a cell number is read through them); a version 1
+        // file does not have them, and then shows the first filter only.
+        let intervals2 = self.cover.as_ref().and_then(|c| c.intervals2.clone()).filter(|v| !v.is_empty());
+        let second = self.settings.lens2.as_ref().zip(intervals2).map(|(_, intervals)| {
             let node_lens: Vec<f64> = self.nodes.iter().map(|n| n.lens2.unwrap_or(f64::NAN)).collect();
-            SecondAxis {
-                lens_range: self.cover.as_ref().and_then(|c| c.range2).unwrap_or_else(|| range(&node_lens)),
-                intervals: self.cover.as_ref().and_then(|c| c.intervals2.clone()).unwrap_or_default(),
-                node_lens,
-            }
+            SecondAxis { lens_range: self.cover.as_ref().and_then(|c| c.range2).unwrap_or_else(|| range(&node_lens)), intervals, node_lens }
         });
         Build { settings: self.settings.clone(), summary: self.summary.clone(), nerve, layout, node_lens, lens_range, intervals, second }
     }
@@ -547,6 +546,16 @@ mod tests {
         let back = GraphFile::from_json(&no_rows.to_json(), "g.json").unwrap();
         assert!(!back.has_rows());
         assert_eq!(back.sizes(), b.nerve.nodes.iter().map(|n| n.members.len()).collect::<Vec<_>>());
+        // A product cover (two filters) keeps its second axis.
+        let mut s2 = b.settings.clone();
+        s2.columns = vec!["x".into(), "y".into()];
+        s2.lens2 = Some(Lens::Column { column: "y".into() });
+        s2.cover2 = Some(CoverSettings::uniform(3, 0.2));
+        let b2 = crate::engine::build(&t, &s2).unwrap();
+        assert!(b2.second.is_some());
+        let f2 = GraphFile::of_build(&b2, &t, false);
+        let back = GraphFile::from_json(&f2.to_json(), "g.json").unwrap().to_build();
+        assert_eq!((back.second, back.layout, back.node_lens), (b2.second.clone(), b2.layout.clone(), b2.node_lens.clone()));
     }
 
     /// The statistics are exactly the values the engine colours by, with the table.

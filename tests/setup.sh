@@ -61,8 +61,11 @@ need_open_tables() {
 
 # The Python package (python/, pyproject.toml): maturin and pytest with the outside
 # references (python/tests/requirements.txt, exact versions) in the tests' venv, then the
-# abi3 wheel built by maturin into $CARGO_TARGET_DIR/wheels (cargo re-uses the builds of
-# earlier runs there) and installed into the venv. Exports NERVURE_WHEEL (its path).
+# abi3 wheel built by maturin into $CARGO_TARGET_DIR/python/wheels and installed into the
+# venv. Exports NERVURE_WHEEL (its path). The wheel is built in its own target folder,
+# $CARGO_TARGET_DIR/python: its crate (python/Cargo.toml) has its own lock file and release
+# profile, and cargo gives the shared dependencies of the two builds the same file names
+# (a runner linked after a wheel build in one folder met two builds of serde).
 need_python_package() {
   local venv="$HOME/.cache/nervure-venv"
   [ -x "$venv/bin/python" ] || python3 -m venv "$venv"
@@ -75,9 +78,10 @@ need_python_package() {
     echo "$want" > "$stamp"
   fi
   step "building the Python wheel (maturin, abi3)"
-  rm -rf "$CARGO_TARGET_DIR/wheels"
-  "$venv/bin/maturin" build --quiet --release --interpreter "$venv/bin/python" -o "$CARGO_TARGET_DIR/wheels"
-  NERVURE_WHEEL=$(ls "$CARGO_TARGET_DIR"/wheels/nervure-*.whl)
+  local wheels="$CARGO_TARGET_DIR/python/wheels"
+  rm -rf "$wheels"
+  CARGO_TARGET_DIR="$CARGO_TARGET_DIR/python" "$venv/bin/maturin" build --quiet --release --interpreter "$venv/bin/python" -o "$wheels"
+  NERVURE_WHEEL=$(ls "$wheels"/nervure-*.whl)
   export NERVURE_WHEEL
   "$venv/bin/pip" install --quiet --disable-pip-version-check --force-reinstall --no-deps "$NERVURE_WHEEL"
   echo "wheel: $(basename "$NERVURE_WHEEL"), $(du -k "$NERVURE_WHEEL" | cut -f1) KiB"

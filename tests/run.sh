@@ -29,7 +29,8 @@ rust_passed=$(grep -Eo '[0-9]+ passed' /tmp/nervure-cargo-test.log | awk '{s+=$1
 rust_failed=$(grep -Eo '[0-9]+ failed' /tmp/nervure-cargo-test.log | awk '{s+=$1} END {print s+0}')
 web_passed=$(grep -Eo '^ℹ pass [0-9]+' /tmp/nervure-browser-test.log | awk '{s+=$3} END {print s+0}')
 web_failed=$(grep -Eo '^ℹ fail [0-9]+' /tmp/nervure-browser-test.log | awk '{s+=$3} END {print s+0}')
-py_passed=$(tail -n 3 /tmp/nervure-pytest.log | grep -Eo '[0-9]+ passed' | awk '{s+=$1} END {print s+0}')
-py_failed=$(tail -n 3 /tmp/nervure-pytest.log | grep -Eo '[0-9]+ (failed|error|errors)' | awk '{s+=$1} END {print s+0}')
+# pytest's closing line names only the outcomes that happened ("29 passed in 7.6s").
+py_passed=$(tail -n 3 /tmp/nervure-pytest.log | awk '{for (i = 2; i <= NF; i++) if ($i ~ /^passed/) s += $(i-1)} END {print s+0}')
+py_failed=$(tail -n 3 /tmp/nervure-pytest.log | awk '{for (i = 2; i <= NF; i++) if ($i ~ /^(failed|errors?)/) s += $(i-1)} END {print s+0}')
 echo
 echo "all: $((rust_passed + py_passed + web_passed)) passed, $((rust_failed + py_failed + web_failed)) failed"

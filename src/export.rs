@@ -234,7 +234,7 @@ mod tests {
         assert_eq!(b.summary.rows_set_aside, 1);
         let r = report(&b, "t.csv");
         assert!(r.contains("Rows set aside before the filter: 1 (their k-th neighbour distance with k = 3 lies above its 0.95 quantile)"), "{r}");
-        assert!(graph_json(&b).contains("\"rowsSetAside\":1"));
+        assert!(crate::graphfile::GraphFile::of_build(&b, &t, true).to_json().contains("\"rowsSetAside\":1"));
     }
 
     #[test]

@@ -82,6 +82,9 @@ async function openGraphText(text, name) {
   state.colour = { column: defaultColourColumn(), stat: "mean", values: null, min: NaN, max: NaN };
   shapePanel.tableChanged();
   renderAll();
+  // As a build does: the graph is fitted below the colour card.
+  const card = byId("colour-block");
+  view.insetTop = card.hidden ? 0 : card.offsetTop + card.offsetHeight;
   view.setGraph(out.graph, false);
   if (state.colour.column) await setColourColumn(state.colour.column).catch(function () { /* shown on the page */ });
   shapePanel.graphChanged();

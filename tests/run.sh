@@ -12,25 +12,29 @@ need_node_modules
 need_python_reader
 need_open_tables
 
+# This run's logs, in a folder of its own: other checkouts may be running their tests at the
+# same time on the same machine.
+logs=$(mktemp -d "${TMPDIR:-/tmp}/nervure-test-logs.XXXXXX")
+
 step "native tests (cargo test)"
-cargo test --quiet 2>&1 | tee /tmp/nervure-cargo-test.log
+cargo test --quiet 2>&1 | tee "$logs/cargo-test.log"
 build_page
 step "command-line runner for the browser tests' comparisons"
 cargo build --quiet --release --bin nervure
 
 need_python_package
 step "Python package tests (pytest, against the runner and NetworkX, pandas, SciPy)"
-NERVURE_RUNNER="$CARGO_TARGET_DIR/release/nervure" "$HOME/.cache/nervure-venv/bin/python" -m pytest python/tests -q -p no:cacheprovider 2>&1 | tee /tmp/nervure-pytest.log
+NERVURE_RUNNER="$CARGO_TARGET_DIR/release/nervure" "$HOME/.cache/nervure-venv/bin/python" -m pytest python/tests -q -p no:cacheprovider 2>&1 | tee "$logs/pytest.log"
 
 step "browser tests (node --test, headless Chromium, file://)"
-node --test --test-reporter=spec tests/browser/ 2>&1 | tee /tmp/nervure-browser-test.log
+node --test --test-reporter=spec tests/browser/ 2>&1 | tee "$logs/browser-test.log"
 
-rust_passed=$(grep -Eo '[0-9]+ passed' /tmp/nervure-cargo-test.log | awk '{s+=$1} END {print s+0}')
-rust_failed=$(grep -Eo '[0-9]+ failed' /tmp/nervure-cargo-test.log | awk '{s+=$1} END {print s+0}')
-web_passed=$(grep -Eo '^ℹ pass [0-9]+' /tmp/nervure-browser-test.log | awk '{s+=$3} END {print s+0}')
-web_failed=$(grep -Eo '^ℹ fail [0-9]+' /tmp/nervure-browser-test.log | awk '{s+=$3} END {print s+0}')
+rust_passed=$(grep -aEo '[0-9]+ passed' "$logs/cargo-test.log" | awk '{s+=$1} END {print s+0}')
+rust_failed=$(grep -aEo '[0-9]+ failed' "$logs/cargo-test.log" | awk '{s+=$1} END {print s+0}')
+web_passed=$(grep -aEo '^ℹ pass [0-9]+' "$logs/browser-test.log" | awk '{s+=$3} END {print s+0}')
+web_failed=$(grep -aEo '^ℹ fail [0-9]+' "$logs/browser-test.log" | awk '{s+=$3} END {print s+0}')
 # pytest's closing line names only the outcomes that happened ("29 passed in 7.6s").
-py_passed=$(tail -n 3 /tmp/nervure-pytest.log | awk '{for (i = 2; i <= NF; i++) if ($i ~ /^passed/) s += $(i-1)} END {print s+0}')
-py_failed=$(tail -n 3 /tmp/nervure-pytest.log | awk '{for (i = 2; i <= NF; i++) if ($i ~ /^(failed|errors?)/) s += $(i-1)} END {print s+0}')
+py_passed=$(tail -n 3 "$logs/pytest.log" | awk '{for (i = 2; i <= NF; i++) if ($i ~ /^passed/) s += $(i-1)} END {print s+0}')
+py_failed=$(tail -n 3 "$logs/pytest.log" | awk '{for (i = 2; i <= NF; i++) if ($i ~ /^(failed|errors?)/) s += $(i-1)} END {print s+0}')
 echo
 echo "all: $((rust_passed + py_passed + web_passed)) passed, $((rust_failed + py_failed + web_failed)) failed"

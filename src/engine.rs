@@ -25,8 +25,8 @@ pub struct Build {
     pub settings: Settings,
     pub summary: Summary,
     pub nerve: Nerve,
-    /// One position per node, in [-1, 1].
-    pub layout: Vec<[f64; 2]>,
+    /// Where each node is drawn and its disc's radius; the drawing lies in [-1, 1].
+    pub layout: layout::Layout,
     /// Mean lens value of each node's rows.
     pub node_lens: Vec<f64>,
     /// The lens's range over the rows used.

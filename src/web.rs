@@ -773,7 +773,7 @@ fn graph_arrays(build: Option<&crate::engine::Build>) -> JsValue {
     let a: Vec<u32> = edges.iter().map(|e| e.a).collect();
     let b: Vec<u32> = edges.iter().map(|e| e.b).collect();
     let shared: Vec<u32> = edges.iter().map(|e| e.shared).collect();
-    let positions: Vec<f64> = build.layout.iter().flat_map(|p| [p[0], p[1]]).collect();
+    let positions: Vec<f64> = build.layout.positions.iter().flat_map(|p| [p[0], p[1]]).collect();
     let out = Object::new();
     set(&out, "nodeSizes", &Uint32Array::from(&sizes[..]).into());
     set(&out, "nodeElements", &Uint32Array::from(&elements[..]).into());
@@ -781,6 +781,7 @@ fn graph_arrays(build: Option<&crate::engine::Build>) -> JsValue {
     set(&out, "edgeB", &Uint32Array::from(&b[..]).into());
     set(&out, "edgeShared", &Uint32Array::from(&shared[..]).into());
     set(&out, "positions", &Float64Array::from(&positions[..]).into());
+    set(&out, "radii", &Float64Array::from(&build.layout.radii[..]).into());
     out.into()
 }
 

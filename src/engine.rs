@@ -68,6 +68,8 @@ pub struct Summary {
     pub nodes: usize,
     pub edges: usize,
     pub components: usize,
+    /// Components of one node (a node sharing rows with no other).
+    pub single_node_components: usize,
     pub loops: usize,
     /// Loops of the nerve once the triangles where three nodes share rows are filled
     /// ([`Nerve::filled_loops`]); equal to `loops` unless three cover elements meet.
@@ -1059,6 +1061,7 @@ fn assemble(table: &Table, pts: &Points, lens: &Lenses, cov: &Cover, c: &Cluster
         nodes: nerve.nodes.len(),
         edges: nerve.edges.len(),
         components,
+        single_node_components: nerve.degrees().iter().filter(|&&d| d == 0).count(),
         loops,
         filled_loops: nerve.filled_loops(s.edges.min_shared),
         noise_rows: c.noise_rows,

@@ -22,9 +22,10 @@
 //!   (a graph that follows its filter reads left to right).
 //!
 //! **Packing.** Components of three nodes or more are set in rows, largest first, in a
-//! block about 4 : 3 wide; components of one or two nodes go in a compact band under that
-//! block, ordered by size, so dozens of them take a strip instead of the canvas. The whole
-//! drawing, discs included, is then scaled into [-1, 1].
+//! block; components of one or two nodes go in a compact band under that block or beside
+//! it, ordered by size, so dozens of them take a strip instead of the canvas. The widths
+//! of block and band are those, among a few tried, that let the whole be drawn largest on
+//! a 4 : 3 canvas. The whole drawing, discs included, is then scaled into [-1, 1].
 //!
 //! Deterministic for a given seed. Not here: drawing, or how large a disc may grow on a
 //! screen (the page caps it and keeps it visible when zoomed out).
@@ -465,10 +466,13 @@ fn bounds(members: &[usize], pos: &[[f64; 2]], radii: &[f64]) -> (f64, f64, f64,
     })
 }
 
-/// Sets the components side by side: those of three nodes or more in rows of a block
-/// about [`ASPECT`] wide, largest first, each row centred; those of one or two nodes in a
-/// compact band under the block or beside it, whichever lets the whole drawing be shown
-/// larger in a box of that aspect.
+/// Components with the top left corner each is placed at.
+type Placed = Vec<(usize, f64, f64)>;
+
+/// Sets the components side by side: those of three nodes or more in rows of a block,
+/// largest first, each row centred; those of one or two nodes in a compact band under the
+/// block or beside it. The widths of the block and of the band are chosen among a few so
+/// that the whole drawing is shown largest in a box of [`ASPECT`].
 fn pack(nerve: &Nerve, by_comp: &[Vec<usize>], pos: &mut [[f64; 2]], radii: &[f64]) {
     let rows = |c: usize| by_comp[c].iter().map(|&i| nerve.nodes[i].members.len()).sum::<usize>();
     let mut order: Vec<usize> = (0..by_comp.len()).collect();
@@ -478,38 +482,41 @@ fn pack(nerve: &Nerve, by_comp: &[Vec<usize>], pos: &mut [[f64; 2]], radii: &[f6
     let (shapes, small): (Vec<usize>, Vec<usize>) = order.iter().copied().partition(|&c| by_comp[c].len() >= 3);
     let area = |list: &[usize], space: f64| list.iter().map(|&c| (sizes[c].0 + space) * (sizes[c].1 + space)).sum::<f64>();
     let widest = |list: &[usize]| list.iter().map(|&c| sizes[c].0).fold(0.0, f64::max);
-    let mut placed: Vec<(usize, f64, f64)> = Vec::with_capacity(by_comp.len());
-    if shapes.is_empty() {
+    // The score of a layout of extent w × h: the scale at which it fits a box of the aspect.
+    let score = |w: f64, h: f64| (ASPECT / w.max(1e-9)).min(1.0 / h.max(1e-9));
+    let placed: Placed = if shapes.is_empty() {
         let width = (area(&small, GAP / 2.0) * ASPECT).sqrt().max(widest(&small));
-        placed = shelf(&small, &sizes, width, GAP / 2.0).0;
+        shelf(&small, &sizes, width, GAP / 2.0).0
     } else {
-        let width = (area(&shapes, SPACE) * ASPECT).sqrt().max(widest(&shapes));
-        let (block, (bw, bh)) = shelf(&shapes, &sizes, width, SPACE);
-        placed.extend(block);
-        if !small.is_empty() {
-            // The band's width is tried at a few multiples of the block's; the score is
-            // the scale at which the whole fits a box of the aspect.
-            let score = |w: f64, h: f64| (ASPECT / w).min(1.0 / h);
-            let mut best: Option<(f64, Vec<(usize, f64, f64)>)> = None;
-            for f in [0.5, 0.75, 1.0, 1.5, 2.0, 3.0] {
-                let (band, (w, h)) = shelf(&small, &sizes, (bw * f).max(widest(&small)), GAP / 2.0);
-                let sc = score(bw.max(w), bh + SPACE + h);
-                if best.as_ref().is_none_or(|b| sc > b.0) {
-                    let dx = (bw - w) / 2.0;
-                    best = Some((sc, band.into_iter().map(|(c, x, y)| (c, x + dx, y + bh + SPACE)).collect()));
+        // The block's width and the band's are tried at a few multiples of a width that
+        // would make the block about the aspect; the best whole is kept.
+        let base = (area(&shapes, SPACE) * ASPECT).sqrt();
+        let mut best: Option<(f64, Placed)> = None;
+        for f in [0.75, 1.0, 1.25, 1.5, 2.0] {
+            let (block, (bw, bh)) = shelf(&shapes, &sizes, (base * f).max(widest(&shapes)), SPACE);
+            let mut keep = |sc: f64, band: Placed| {
+                if best.as_ref().map_or(true, |b| sc > b.0) {
+                    best = Some((sc, block.iter().copied().chain(band).collect()));
                 }
+            };
+            if small.is_empty() {
+                keep(score(bw, bh), Vec::new());
+                continue;
             }
-            for f in [0.1, 0.2, 0.35, 0.5, 0.75, 1.0] {
-                let (band, (w, h)) = shelf(&small, &sizes, (bw * f).max(widest(&small)), GAP / 2.0);
-                let sc = score(bw + SPACE + w, bh.max(h));
-                if best.as_ref().is_none_or(|b| sc > b.0) {
-                    let dy = (bh - h).max(0.0) / 2.0;
-                    best = Some((sc, band.into_iter().map(|(c, x, y)| (c, x + bw + SPACE, y + dy)).collect()));
-                }
+            // The band under the block, or beside it.
+            for g in [0.5, 0.75, 1.0, 1.5, 2.0, 3.0] {
+                let (band, (w, h)) = shelf(&small, &sizes, (bw * g).max(widest(&small)), GAP / 2.0);
+                let dx = (bw - w) / 2.0;
+                keep(score(bw.max(w), bh + SPACE + h), band.into_iter().map(|(c, x, y)| (c, x + dx, y + bh + SPACE)).collect());
             }
-            placed.extend(best.expect("tried at least once").1);
+            for g in [0.1, 0.2, 0.35, 0.5, 0.75, 1.0] {
+                let (band, (w, h)) = shelf(&small, &sizes, (bw * g).max(widest(&small)), GAP / 2.0);
+                let dy = (bh - h).max(0.0) / 2.0;
+                keep(score(bw + SPACE + w, bh.max(h)), band.into_iter().map(|(c, x, y)| (c, x + bw + SPACE, y + dy)).collect());
+            }
         }
-    }
+        best.expect("tried at least once").1
+    };
     for (c, x, y) in placed {
         let (x0, y0, _, _) = boxes[c];
         for &i in &by_comp[c] {
@@ -521,7 +528,7 @@ fn pack(nerve: &Nerve, by_comp: &[Vec<usize>], pos: &mut [[f64; 2]], radii: &[f6
 /// Rows of boxes (`list` in order) no wider than `width` unless one box is, `space`
 /// apart, each row centred and each box centred in its row's height. Returns each box's
 /// top left corner and the extent of the whole.
-fn shelf(list: &[usize], sizes: &[(f64, f64)], width: f64, space: f64) -> (Vec<(usize, f64, f64)>, (f64, f64)) {
+fn shelf(list: &[usize], sizes: &[(f64, f64)], width: f64, space: f64) -> (Placed, (f64, f64)) {
     let mut out = Vec::with_capacity(list.len());
     let (mut y, mut used) = (0.0, 0.0f64);
     let mut k = 0;

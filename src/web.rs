@@ -372,7 +372,9 @@ impl Engine {
     }
 
     /// The last graph as typed arrays: `{nodeSizes, nodeElements, edgeA, edgeB, edgeShared,
-    /// positions}` (positions interleaved x, y), or `null` before the first run.
+    /// positions, radii, nodeComponent, componentRows}` (positions interleaved x, y; radii
+    /// of the discs in the same units, see [`crate::layout`]; each node's component and
+    /// each component's distinct rows), or `null` before the first run.
     pub fn graph(&self) -> JsValue {
         graph_arrays(self.bench.last())
     }
@@ -782,6 +784,9 @@ fn graph_arrays(build: Option<&crate::engine::Build>) -> JsValue {
     set(&out, "edgeShared", &Uint32Array::from(&shared[..]).into());
     set(&out, "positions", &Float64Array::from(&positions[..]).into());
     set(&out, "radii", &Float64Array::from(&build.layout.radii[..]).into());
+    let component = build.nerve.component_of();
+    set(&out, "componentRows", &Uint32Array::from(&build.nerve.component_rows(&component)[..]).into());
+    set(&out, "nodeComponent", &Uint32Array::from(&component[..]).into());
     out.into()
 }
 

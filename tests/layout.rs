@@ -219,6 +219,7 @@ fn a_loop_among_stray_clumps() {
         let main = (0..sizes.len()).max_by_key(|&c| sizes[c]).unwrap();
         assert_eq!(b.summary.components, 41, "seed {seed}: component sizes {sizes:?}");
         assert!(sizes.iter().filter(|&&s| s == 1).count() >= 20, "seed {seed}: component sizes {sizes:?}");
+        assert_eq!(b.summary.single_node_components, sizes.iter().filter(|&&s| s == 1).count());
         let m = measure(&b);
         assert_eq!((m.overlapping_pairs, m.crossings), (0, 0), "seed {seed}: {m:?}");
         let (p, r) = (&b.layout.positions, &b.layout.radii);

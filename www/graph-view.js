@@ -97,7 +97,7 @@ GraphView.prototype.setGraph = function (graph, keepView) {
 /** Leaves out of the drawing the nodes marked 1 in `mask` (a Uint8Array per node), and
  *  their edges; null shows every node. The view is fitted again to what is shown. */
 GraphView.prototype.setHidden = function (mask) {
-  if (!this.graph) return;
+  if (!this.graph || (mask === null && this.hidden === null)) return;
   this.hidden = mask;
   this.order = largestFirst(this.graph.nodeSizes, mask);
   this.bounds = null;
@@ -203,53 +203,71 @@ GraphView.prototype._sizeDiscs = function () {
 };
 
 /** Fits what is shown into the canvas, every disc whole (its radius at the fitted scale)
- *  with FIT_MARGIN pixels to spare. The drawn width at scale s lies between the centres'
- *  span times s and that plus two caps, so the scale is found by halving that interval. */
+ *  with FIT_MARGIN pixels to spare (see fitDiscs). */
 GraphView.prototype.fit = function () {
   const g = this.graph, order = this.order;
   if (!g || !order || order.length === 0 || this.width === 0) return;
-  const p = g.positions, R = g.radii, cap = this._radiusCap(), least = GraphView.MIN_RADIUS, m = GraphView.FIT_MARGIN;
+  const m = GraphView.FIT_MARGIN;
   const W = Math.max(1, this.width - 2 * m), H = Math.max(1, this.height - 2 * m);
+  const f = fitDiscs(g.positions, g.radii, order, W, H, this._radiusCap(), GraphView.MIN_RADIUS);
+  this.view.scale = f.scale;
+  this.view.x = m + (W - f.w) / 2 - f.x0;
+  this.view.y = m + (H - f.h) / 2 - f.y0;
+  this.fitted = true;
+  this._sizeDiscs();
+  this.requestDraw();
+};
+
+/** The largest scale s at which the discs of the nodes in `order` (positions p, world
+ *  radii R, drawn at discPixels(R, s, cap, least)) fit a W × H box, and their extent at
+ *  that scale: {scale, x0, y0, w, h} (x0, y0 from the world origin, in pixels). The drawn
+ *  width lies between the centres' span times s and that plus two caps, so s is found by
+ *  halving that interval; only the nodes near the centres' box can reach the extent's
+ *  edge, so only they are measured. */
+function fitDiscs(p, R, order, W, H, cap, least) {
   let cx0 = Infinity, cx1 = -Infinity, cy0 = Infinity, cy1 = -Infinity, rMost = 0;
-  for (const i of order) {
-    cx0 = Math.min(cx0, p[2 * i]); cx1 = Math.max(cx1, p[2 * i]);
-    cy0 = Math.min(cy0, p[2 * i + 1]); cy1 = Math.max(cy1, p[2 * i + 1]);
-    rMost = Math.max(rMost, R[i]);
+  for (let k = 0; k < order.length; k++) {
+    const i = order[k], x = p[2 * i], y = p[2 * i + 1];
+    if (x < cx0) cx0 = x;
+    if (x > cx1) cx1 = x;
+    if (y < cy0) cy0 = y;
+    if (y > cy1) cy1 = y;
+    if (R[i] > rMost) rMost = R[i];
   }
-  // The drawn extent at scale s: [x0, x1, y0, y1] in pixels from the world origin.
-  const extent = (s) => {
+  const spanX = cx1 - cx0, spanY = cy1 - cy0;
+  let hi = Math.min(spanX > 1e-12 ? W / spanX : Infinity, spanY > 1e-12 ? H / spanY : Infinity);
+  let lo = Number.isFinite(hi) ? Math.max(0, Math.min(spanX > 1e-12 ? (W - 2 * cap) / spanX : hi, spanY > 1e-12 ? (H - 2 * cap) / spanY : hi)) : 0;
+  // At a scale of at least lo, a disc whose centre lies more than (cap - least) / lo inside
+  // the centres' box cannot reach past a disc on the box's edge.
+  const d = lo > 0 ? (cap - least) / lo : Infinity;
+  const xs = [], ys = [], rs = [];
+  for (let k = 0; k < order.length; k++) {
+    const i = order[k], x = p[2 * i], y = p[2 * i + 1];
+    if (x - cx0 <= d || cx1 - x <= d || y - cy0 <= d || cy1 - y <= d) { xs.push(x); ys.push(y); rs.push(R[i]); }
+  }
+  const n = xs.length;
+  const out = { scale: 1, x0: 0, y0: 0, w: 0, h: 0 };
+  const measure = (s) => {
     let x0 = Infinity, x1 = -Infinity, y0 = Infinity, y1 = -Infinity;
-    for (const i of order) {
-      const r = discPixels(R[i], s, cap, least), x = p[2 * i] * s, y = p[2 * i + 1] * s;
+    for (let k = 0; k < n; k++) {
+      const r = Math.min(cap, Math.max(least, rs[k] * s)), x = xs[k] * s, y = ys[k] * s;
       if (x - r < x0) x0 = x - r;
       if (x + r > x1) x1 = x + r;
       if (y - r < y0) y0 = y - r;
       if (y + r > y1) y1 = y + r;
     }
-    return [x0, x1, y0, y1];
+    out.scale = s; out.x0 = x0; out.y0 = y0; out.w = x1 - x0; out.h = y1 - y0;
+    return out.w <= W && out.h <= H;
   };
-  const fits = (s) => { const e = extent(s); return e[1] - e[0] <= W && e[3] - e[2] <= H; };
-  const spanX = cx1 - cx0, spanY = cy1 - cy0;
-  let hi = Math.min(spanX > 1e-12 ? W / spanX : Infinity, spanY > 1e-12 ? H / spanY : Infinity);
-  let scale;
-  if (!Number.isFinite(hi)) scale = rMost > 0 ? cap / rMost : 1; // one place: the disc at its cap
-  else {
-    let lo = Math.max(0, Math.min(spanX > 1e-12 ? (W - 2 * cap) / spanX : hi, spanY > 1e-12 ? (H - 2 * cap) / spanY : hi));
-    if (fits(hi)) lo = hi;
-    for (let k = 0; k < 18 && hi - lo > 1e-9 * hi; k++) {
-      const mid = (lo + hi) / 2;
-      if (fits(mid)) lo = mid; else hi = mid;
-    }
-    scale = lo > 0 ? lo : hi;
+  if (!Number.isFinite(hi)) { measure(rMost > 0 ? cap / rMost : 1); return out; } // one place: the disc at its cap
+  if (measure(hi)) return out;
+  for (let k = 0; k < 14; k++) {
+    const mid = (lo + hi) / 2;
+    if (measure(mid)) lo = mid; else hi = mid;
   }
-  const e = extent(scale);
-  this.view.scale = scale;
-  this.view.x = m + (W - (e[1] - e[0])) / 2 - e[0];
-  this.view.y = m + (H - (e[3] - e[2])) / 2 - e[2];
-  this.fitted = true;
-  this._sizeDiscs();
-  this.requestDraw();
-};
+  measure(lo > 0 ? lo : hi);
+  return out;
+}
 
 GraphView.prototype.resize = function () {
   const rect = this.canvas.getBoundingClientRect();
@@ -703,20 +721,12 @@ function staticDrawing(w, h, graph, fills, pad) {
   const n = graph.nodeSizes.length, E = graph.edgeA.length;
   if (n === 0) return { total: 0, draw: function () {} };
   const p = graph.positions, R = graph.radii;
-  // The box of the discs at their layout size; the scale that fits it (discs are capped,
-  // so they fit at least as well).
-  let x0 = Infinity, x1 = -Infinity, y0 = Infinity, y1 = -Infinity;
-  for (let i = 0; i < n; i++) {
-    x0 = Math.min(x0, p[2 * i] - R[i]); x1 = Math.max(x1, p[2 * i] + R[i]);
-    y0 = Math.min(y0, p[2 * i + 1] - R[i]); y1 = Math.max(y1, p[2 * i + 1] + R[i]);
-  }
-  const cap = Math.max(2, Math.min(w, h) * GraphView.MAX_RADIUS_SHARE);
-  const m = (pad === undefined ? 4 : pad) + 1.5;
-  const s = Math.min((w - 2 * m) / Math.max(x1 - x0, 1e-9), (h - 2 * m) / Math.max(y1 - y0, 1e-9));
-  const ox = w / 2 - s * (x0 + x1) / 2, oy = h / 2 - s * (y0 + y1) / 2;
+  const cap = Math.max(2, Math.min(w, h) * GraphView.MAX_RADIUS_SHARE), m = pad === undefined ? 4 : pad;
+  const order = largestFirst(graph.nodeSizes, null);
+  const f = fitDiscs(p, R, order, Math.max(1, w - 2 * m), Math.max(1, h - 2 * m), cap, 1.5);
+  const s = f.scale, ox = (w - f.w) / 2 - f.x0, oy = (h - f.h) / 2 - f.y0;
   let maxShared = 1;
   for (const v of graph.edgeShared) maxShared = Math.max(maxShared, v);
-  const order = largestFirst(graph.nodeSizes, null);
   return {
     total: E + n,
     draw: function (ctx, from, to) {

@@ -21,11 +21,12 @@
 //!   and the component is turned so that its nodes' mean lens value grows left to right
 //!   (a graph that follows its filter reads left to right).
 //!
-//! **Packing.** Components of three nodes or more are set in rows, largest first, in a
-//! block; components of one or two nodes go in a compact band under that block or beside
-//! it, ordered by size, so dozens of them take a strip instead of the canvas. The widths
-//! of block and band are those, among a few tried, that let the whole be drawn largest on
-//! a 4 : 3 canvas. The whole drawing, discs included, is then scaled into [-1, 1].
+//! **Packing.** Components of three nodes or more are set in rows, those of most rows
+//! first, in a block; components of one or two nodes go in a compact band under that block
+//! or beside it, ordered the same way, so dozens of them take a strip instead of the
+//! canvas. The widths of block and band are those, among a few tried, that let the whole
+//! be drawn largest on a 4 : 3 canvas. The whole drawing, discs included, is then scaled
+//! into [-1, 1].
 //!
 //! Deterministic for a given seed. Not here: drawing, or how large a disc may grow on a
 //! screen (the page caps it and keeps it visible when zoomed out).
@@ -470,13 +471,15 @@ fn bounds(members: &[usize], pos: &[[f64; 2]], radii: &[f64]) -> (f64, f64, f64,
 type Placed = Vec<(usize, f64, f64)>;
 
 /// Sets the components side by side: those of three nodes or more in rows of a block,
-/// largest first, each row centred; those of one or two nodes in a compact band under the
+/// most rows first, each row centred; those of one or two nodes in a compact band under the
 /// block or beside it. The widths of the block and of the band are chosen among a few so
 /// that the whole drawing is shown largest in a box of [`ASPECT`].
 fn pack(nerve: &Nerve, by_comp: &[Vec<usize>], pos: &mut [[f64; 2]], radii: &[f64]) {
     let rows = |c: usize| by_comp[c].iter().map(|&i| nerve.nodes[i].members.len()).sum::<usize>();
     let mut order: Vec<usize> = (0..by_comp.len()).collect();
-    order.sort_by_key(|&c| (Reverse(by_comp[c].len()), Reverse(rows(c)), c));
+    // By rows, as the page's hiding of small components counts them: what it hides is then
+    // the end of each row of the packing, not holes in the middle.
+    order.sort_by_key(|&c| (Reverse(rows(c)), Reverse(by_comp[c].len()), c));
     let boxes: Vec<(f64, f64, f64, f64)> = by_comp.iter().map(|m| bounds(m, pos, radii)).collect();
     let sizes: Vec<(f64, f64)> = boxes.iter().map(|b| (b.2 - b.0, b.3 - b.1)).collect();
     let (shapes, small): (Vec<usize>, Vec<usize>) = order.iter().copied().partition(|&c| by_comp[c].len() >= 3);

@@ -785,7 +785,7 @@ fn graph_arrays(build: Option<&crate::engine::Build>) -> JsValue {
     set(&out, "positions", &Float64Array::from(&positions[..]).into());
     set(&out, "radii", &Float64Array::from(&build.layout.radii[..]).into());
     let component = build.nerve.component_of();
-    set(&out, "componentRows", &Uint32Array::from(&build.nerve.component_rows(&component)[..]).into());
+    set(&out, "componentRows", &Uint32Array::from(&build.nerve.rows_by_component(&component)[..]).into());
     set(&out, "nodeComponent", &Uint32Array::from(&component[..]).into());
     out.into()
 }

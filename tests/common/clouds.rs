@@ -43,20 +43,7 @@ pub fn tripod(rng: &mut SplitMix64, n_per_arm: usize, noise: f64) -> Cloud {
 /// random translation.
 pub fn lift(rng: &mut SplitMix64, pts: &Cloud, noise: f64) -> Cloud {
     const D: usize = 10;
-    let mut q: Vec<[f64; D]> = Vec::with_capacity(D);
-    while q.len() < D {
-        let mut v = [0.0; D];
-        v.iter_mut().for_each(|x| *x = rng.normal());
-        for u in &q {
-            let dot: f64 = v.iter().zip(u).map(|(a, b)| a * b).sum();
-            v.iter_mut().zip(u).for_each(|(a, b)| *a -= dot * b);
-        }
-        let norm = v.iter().map(|a| a * a).sum::<f64>().sqrt();
-        if norm > 1e-6 {
-            v.iter_mut().for_each(|a| *a /= norm);
-            q.push(v);
-        }
-    }
+    let q = super::shapes::rotation(rng, D);
     let shift: Vec<f64> = (0..D).map(|_| 3.0 * rng.normal()).collect();
     pts.iter()
         .map(|p| {

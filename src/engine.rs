@@ -25,8 +25,8 @@ pub struct Build {
     pub settings: Settings,
     pub summary: Summary,
     pub nerve: Nerve,
-    /// One position per node, in [-1, 1].
-    pub layout: Vec<[f64; 2]>,
+    /// Where each node is drawn and its disc's radius; the drawing lies in [-1, 1].
+    pub layout: layout::Layout,
     /// Mean lens value of each node's rows.
     pub node_lens: Vec<f64>,
     /// The lens's range over the rows used.
@@ -78,6 +78,8 @@ pub struct Summary {
     pub nodes: usize,
     pub edges: usize,
     pub components: usize,
+    /// Components of one node (a node sharing rows with no other).
+    pub single_node_components: usize,
     pub loops: usize,
     /// Loops of the nerve once the triangles where three nodes share rows are filled
     /// ([`Nerve::filled_loops`]); equal to `loops` unless three cover elements meet.
@@ -1136,6 +1138,7 @@ fn assemble(table: &Table, pts: &Points, lens: &Lenses, cov: &Cover, c: &Cluster
         nodes: nerve.nodes.len(),
         edges: nerve.edges.len(),
         components,
+        single_node_components: nerve.degrees().iter().filter(|&&d| d == 0).count(),
         loops,
         filled_loops: nerve.filled_loops(s.edges.min_shared),
         noise_rows: c.noise_rows,

@@ -164,6 +164,17 @@ pub fn memberships_csv(b: &Build) -> String {
     out
 }
 
+/// " (9 of them single nodes)" after a count of components, or "" when none is one node.
+pub fn single_nodes_note(s: &crate::engine::Summary) -> String {
+    match (s.single_node_components, s.components) {
+        (0, _) => String::new(),
+        (1, 1) => " (a single node)".into(),
+        (k, c) if k == c => " (all single nodes)".into(),
+        (1, _) => " (1 of them a single node)".into(),
+        (k, _) => format!(" ({k} of them single nodes)"),
+    }
+}
+
 /// A short plain-text account of a build: what file, which settings, what came out, and
 /// the caution that goes with any Mapper graph.
 pub fn report(b: &Build, file_name: &str) -> String {
@@ -174,7 +185,7 @@ pub fn report(b: &Build, file_name: &str) -> String {
     for (c, k) in &s.left_out_by_column {
         let _ = writeln!(t, "  '{c}' had no value in {k} rows");
     }
-    let _ = writeln!(t, "Nodes: {}, edges: {}, connected components: {}, independent loops: {}", s.nodes, s.edges, s.components, s.loops);
+    let _ = writeln!(t, "Nodes: {}, edges: {}, connected components: {}{}, independent loops: {}", s.nodes, s.edges, s.components, single_nodes_note(s), s.loops);
     if s.filled_loops != s.loops {
         let _ = writeln!(
             t,
@@ -326,5 +337,23 @@ mod tests {
         let start = r.find('{').unwrap();
         let end = r.rfind('}').unwrap();
         assert_eq!(Settings::from_json(&r[start..=end]).unwrap(), b.settings);
+        assert!(r.contains(&format!("connected components: {}, independent loops", b.summary.components)), "no single node here: {r}");
+    }
+
+    #[test]
+    fn report_counts_single_node_components_apart() {
+        let mut b = small_build();
+        b.summary.components = 12;
+        b.summary.single_node_components = 9;
+        assert!(report(&b, "t.csv").contains("connected components: 12 (9 of them single nodes), independent loops"));
+        let mut note = |k: usize, c: usize| {
+            b.summary.single_node_components = k;
+            b.summary.components = c;
+            single_nodes_note(&b.summary)
+        };
+        assert_eq!(note(1, 3), " (1 of them a single node)");
+        assert_eq!(note(4, 4), " (all single nodes)");
+        assert_eq!(note(1, 1), " (a single node)");
+        assert_eq!(note(0, 5), "");
     }
 }

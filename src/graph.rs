@@ -99,22 +99,7 @@ impl Nerve {
     /// The number of distinct rows in each connected component, largest first (a row in
     /// two nodes of one component counts once).
     pub fn component_rows(&self) -> Vec<usize> {
-        let mut uf = UnionFind::<u32>::new(self.nodes.len());
-        for e in &self.edges {
-            uf.union(e.a, e.b);
-        }
-        let mut by: HashMap<u32, Vec<u32>> = HashMap::new();
-        for (k, node) in self.nodes.iter().enumerate() {
-            by.entry(uf.find(k as u32)).or_default().extend_from_slice(&node.members);
-        }
-        let mut out: Vec<usize> = by
-            .into_values()
-            .map(|mut rows| {
-                rows.sort_unstable();
-                rows.dedup();
-                rows.len()
-            })
-            .collect();
+        let mut out: Vec<usize> = self.rows_by_component(&self.component_of()).into_iter().map(|r| r as usize).collect();
         out.sort_unstable_by(|a, b| b.cmp(a));
         out
     }
@@ -208,6 +193,29 @@ impl Nerve {
                 *label.entry(uf.find(i)).or_insert(next)
             })
             .collect()
+    }
+
+    /// The number of distinct rows in each component, indexed by [`Nerve::component_of`]'s
+    /// labels (a row held by nodes of two components, possible when edges need more than
+    /// one shared row, counts in both).
+    pub fn rows_by_component(&self, comp: &[u32]) -> Vec<u32> {
+        let n_comp = comp.iter().map(|&c| c as usize + 1).max().unwrap_or(0);
+        let rows = self.nodes.iter().flat_map(|n| n.members.last()).map(|&r| r as usize + 1).max().unwrap_or(0);
+        // Nodes taken component by component; the last component that counted each row.
+        let mut order: Vec<usize> = (0..self.nodes.len()).collect();
+        order.sort_by_key(|&i| comp[i]);
+        let mut seen = vec![u32::MAX; rows];
+        let mut out = vec![0u32; n_comp];
+        for i in order {
+            let c = comp[i];
+            for &r in &self.nodes[i].members {
+                if seen[r as usize] != c {
+                    seen[r as usize] = c;
+                    out[c as usize] += 1;
+                }
+            }
+        }
+        out
     }
 
     pub fn degrees(&self) -> Vec<usize> {
@@ -361,5 +369,19 @@ mod tests {
         let n = Nerve::new(nodes, 3, 1);
         assert_eq!(n.component_of(), vec![0, 1, 0, 1]);
         assert_eq!(n.degrees(), vec![1, 1, 1, 1]);
+        // Rows {0, 2} and {1}: shared rows count once.
+        assert_eq!(n.rows_by_component(&n.component_of()), vec![2, 1]);
+    }
+
+    #[test]
+    fn a_row_in_two_components_counts_in_each() {
+        // With edges needing 2 shared rows, nodes 0 and 2 share only row 1: three
+        // components, and row 1 counts in the first and the third.
+        let nodes = vec![node(0, &[0, 1, 5]), node(1, &[0, 5, 6]), node(1, &[1, 3]), node(2, &[4])];
+        let n = Nerve::new(nodes, 7, 2);
+        let comp = n.component_of();
+        assert_eq!(comp, vec![0, 0, 1, 2]);
+        assert_eq!(n.rows_by_component(&comp), vec![4, 2, 1]);
+        assert_eq!(n.degrees(), vec![1, 1, 0, 0]);
     }
 }

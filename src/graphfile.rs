@@ -77,6 +77,10 @@ pub struct NodeRecord {
     pub x: Option<f64>,
     #[serde(default)]
     pub y: Option<f64>,
+    /// The node's disc radius in the layout's units (the layout sizes discs with the
+    /// positions: [`crate::layout::Layout`]).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub r: Option<f64>,
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub rows: Option<Vec<usize>>,
 }
@@ -295,8 +299,9 @@ impl GraphFile {
                 size: n.members.len(),
                 lens: b.node_lens[i].is_finite().then_some(b.node_lens[i]),
                 lens2: b.second.as_ref().and_then(|a| a.node_lens.get(i).copied()),
-                x: Some(b.layout[i][0]),
-                y: Some(b.layout[i][1]),
+                x: Some(b.layout.positions[i][0]),
+                y: Some(b.layout.positions[i][1]),
+                r: Some(b.layout.radii[i]),
                 rows: with_rows.then(|| n.members.iter().map(|&r| r as usize + 1).collect()),
             })
             .collect();
@@ -450,7 +455,7 @@ impl GraphFile {
     }
 
     /// The graph as a [`Build`]: the layout of the file (made again from the settings'
-    /// seed for a version 1 file). Nodes of a file written without rows have no members:
+    /// seed for a file that lacks a node's position or disc radius, as a version 1 file does). Nodes of a file written without rows have no members:
     /// their sizes are [`GraphFile::sizes`].
     pub fn to_build(&self) -> Build {
         let nodes: Vec<Node> = self
@@ -460,8 +465,11 @@ impl GraphFile {
             .collect();
         let nerve = Nerve { nodes, edges: self.edges.iter().map(|e| Edge { a: e.source, b: e.target, shared: e.shared }).collect() };
         let node_lens: Vec<f64> = self.nodes.iter().map(|n| n.lens.unwrap_or(f64::NAN)).collect();
-        let layout = if self.nodes.iter().all(|n| n.x.is_some() && n.y.is_some()) {
-            self.nodes.iter().map(|n| [n.x.unwrap_or(0.0), n.y.unwrap_or(0.0)]).collect()
+        let layout = if self.nodes.iter().all(|n| n.x.is_some() && n.y.is_some() && n.r.is_some()) {
+            crate::layout::Layout {
+                positions: self.nodes.iter().map(|n| [n.x.unwrap_or(0.0), n.y.unwrap_or(0.0)]).collect(),
+                radii: self.nodes.iter().map(|n| n.r.unwrap_or(0.0)).collect(),
+            }
         } else {
             crate::layout::layout(&nerve, &node_lens, self.settings.seed)
         };

@@ -404,7 +404,9 @@ impl Engine {
     }
 
     /// The last graph as typed arrays: `{nodeSizes, nodeElements, edgeA, edgeB, edgeShared,
-    /// positions}` (positions interleaved x, y), or `null` before the first run.
+    /// positions, radii, nodeComponent, componentRows}` (positions interleaved x, y; radii
+    /// of the discs in the same units, see [`crate::layout`]; each node's component and
+    /// each component's distinct rows), or `null` before the first run.
     pub fn graph(&self) -> JsValue {
         graph_arrays(self.bench.last(), &self.bench.node_sizes())
     }
@@ -752,7 +754,7 @@ fn graph_arrays(build: Option<&crate::engine::Build>, sizes: &[usize]) -> JsValu
     let a: Vec<u32> = edges.iter().map(|e| e.a).collect();
     let b: Vec<u32> = edges.iter().map(|e| e.b).collect();
     let shared: Vec<u32> = edges.iter().map(|e| e.shared).collect();
-    let positions: Vec<f64> = build.layout.iter().flat_map(|p| [p[0], p[1]]).collect();
+    let positions: Vec<f64> = build.layout.positions.iter().flat_map(|p| [p[0], p[1]]).collect();
     let out = Object::new();
     set(&out, "nodeSizes", &Uint32Array::from(&sizes[..]).into());
     set(&out, "nodeElements", &Uint32Array::from(&elements[..]).into());
@@ -760,6 +762,10 @@ fn graph_arrays(build: Option<&crate::engine::Build>, sizes: &[usize]) -> JsValu
     set(&out, "edgeB", &Uint32Array::from(&b[..]).into());
     set(&out, "edgeShared", &Uint32Array::from(&shared[..]).into());
     set(&out, "positions", &Float64Array::from(&positions[..]).into());
+    set(&out, "radii", &Float64Array::from(&build.layout.radii[..]).into());
+    let component = build.nerve.component_of();
+    set(&out, "componentRows", &Uint32Array::from(&build.nerve.rows_by_component(&component)[..]).into());
+    set(&out, "nodeComponent", &Uint32Array::from(&component[..]).into());
     out.into()
 }
 

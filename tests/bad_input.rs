@@ -44,7 +44,7 @@ fn base(columns: &[&str]) -> Settings {
 }
 
 fn no_nan(b: &nervure::Build) {
-    assert!(b.layout.iter().all(|p| p[0].is_finite() && p[1].is_finite()), "layout has NaN: {:?}", b.layout);
+    assert!(b.layout.positions.iter().all(|p| p[0].is_finite() && p[1].is_finite()), "layout has NaN: {:?}", b.layout);
     assert!(b.node_lens.iter().all(|v| v.is_finite()), "node lens values have NaN");
 }
 

@@ -11,74 +11,15 @@
 //!
 //! Not here: comparisons with outside libraries (tests/reference.rs).
 
-use std::f64::consts::PI;
+mod common;
 
+use common::clouds::{circle, lift, segment, tripod, Cloud};
 use nervure::rng::SplitMix64;
 use nervure::settings::{Clustering, CoverSettings, EdgeRule, Lens, Missing, Scaling, Spread};
 use nervure::table::Column;
 use nervure::{Build, Settings, Table};
 
 const SEEDS: [u64; 3] = [1, 2, 3];
-
-/// n points as rows of equal length.
-type Cloud = Vec<Vec<f64>>;
-
-fn circle(rng: &mut SplitMix64, n: usize, cx: f64, cy: f64, r: f64, noise: f64) -> Cloud {
-    (0..n)
-        .map(|_| {
-            let t = 2.0 * PI * rng.next_f64();
-            let rr = r + noise * rng.normal();
-            vec![cx + rr * t.cos(), cy + rr * t.sin()]
-        })
-        .collect()
-}
-
-fn segment(rng: &mut SplitMix64, n: usize, a: [f64; 2], b: [f64; 2], noise: f64) -> Cloud {
-    (0..n)
-        .map(|_| {
-            let t = rng.next_f64();
-            vec![a[0] + t * (b[0] - a[0]) + noise * rng.normal(), a[1] + t * (b[1] - a[1]) + noise * rng.normal()]
-        })
-        .collect()
-}
-
-/// Three arms of length 2 from the origin, 120 degrees apart.
-fn tripod(rng: &mut SplitMix64, n_per_arm: usize, noise: f64) -> Cloud {
-    let mut pts = Vec::new();
-    for k in 0..3 {
-        let a = PI / 2.0 + k as f64 * 2.0 * PI / 3.0;
-        pts.extend(segment(rng, n_per_arm, [0.0, 0.0], [2.0 * a.cos(), 2.0 * a.sin()], noise));
-    }
-    pts
-}
-
-/// Puts a planar cloud in 10 dimensions: pads with zeros, adds noise of `noise` in every
-/// coordinate, then applies a random rotation (Gram-Schmidt on a Gaussian matrix) and a
-/// random translation.
-fn lift(rng: &mut SplitMix64, pts: &Cloud, noise: f64) -> Cloud {
-    const D: usize = 10;
-    let mut q: Vec<[f64; D]> = Vec::with_capacity(D);
-    while q.len() < D {
-        let mut v = [0.0; D];
-        v.iter_mut().for_each(|x| *x = rng.normal());
-        for u in &q {
-            let dot: f64 = v.iter().zip(u).map(|(a, b)| a * b).sum();
-            v.iter_mut().zip(u).for_each(|(a, b)| *a -= dot * b);
-        }
-        let norm = v.iter().map(|a| a * a).sum::<f64>().sqrt();
-        if norm > 1e-6 {
-            v.iter_mut().for_each(|a| *a /= norm);
-            q.push(v);
-        }
-    }
-    let shift: Vec<f64> = (0..D).map(|_| 3.0 * rng.normal()).collect();
-    pts.iter()
-        .map(|p| {
-            let x: Vec<f64> = (0..D).map(|j| p.get(j).copied().unwrap_or(0.0) + noise * rng.normal()).collect();
-            (0..D).map(|i| shift[i] + (0..D).map(|j| q[j][i] * x[j]).sum::<f64>()).collect()
-        })
-        .collect()
-}
 
 fn run(name: &str, pts: &Cloud, lens: Lens, intervals: usize, overlap: f64, eps: f64, min_points: usize) -> Build {
     let d = pts[0].len();

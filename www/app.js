@@ -56,6 +56,11 @@ const state = {
   builtSettings: null,     // the settings of the graph on screen (recovery.js puts them back)
   nodeLimit: NODE_LIMIT,   // graphs over this many nodes wait for the user's yes (recovery.js)
   opened: null,            // a graph opened from a graph file, with no table: {name, version, rowsKnown, builtFrom} (graph-file.js)
+  // How the graph is shown, apart from the settings (it changes no graph): components
+  // holding fewer rows than hideBelow are left out of the drawing (0: none). Carried by
+  // the address's fragment (exports.js), not the settings document (DEVELOPERS.md).
+  view: { hideBelow: 0 },
+  hiding: null,            // what the last hiding left out: {components, rows, of} or null
 };
 
 /* ---------------------------------------------------------------- worker */
@@ -326,9 +331,8 @@ async function build(seq, nodeLimit) {
   state.selected = null;
   applyColour(out.colour);
   renderAll();
-  const card = byId("colour-block");
-  view.insetTop = card.hidden ? 0 : card.offsetTop + card.offsetHeight;
   view.setGraph(out.graph, false);
+  applyHiding();
   shapePanel.graphChanged();
   const shown = performance.now();
   if (typeof afterBuild === "function") await afterBuild(out);
@@ -628,7 +632,7 @@ function renderSummary() {
   const shape = [
     plural(s.nodes, "node", "nodes"),
     plural(s.edges, "edge", "edges"),
-    plural(s.components, "component", "components"),
+    plural(s.components, "component", "components") + singleNodesNote(s),
     plural(s.loops, "loop", "loops") + (s.filledLoops !== undefined && s.filledLoops !== s.loops ? " (" + s.filledLoops + " once triangles are filled)" : ""),
   ];
   shape.forEach(function (p, k) {
@@ -651,6 +655,63 @@ function renderSummary() {
   } else line.removeAttribute("title");
   if (state.stale) line.append(el("span", "stale-note", "(graph not updated: see the message)"));
   caution.hidden = false;
+}
+
+/** ", 9 of them single nodes" after a count of components (the report says the same). */
+function singleNodesNote(s) {
+  const k = s.singleNodeComponents || 0;
+  if (k === 0) return "";
+  if (k === s.components) return s.components === 1 ? ", a single node" : ", all single nodes";
+  return k === 1 ? ", 1 of them a single node" : ", " + formatCount(k) + " of them single nodes";
+}
+
+/** What hiding components under `below` rows leaves out of `graph`: a mask per node (null
+ *  when nothing is hidden) and the counts. Every component under the threshold would
+ *  leave nothing to draw: then nothing is hidden, and `all` says why. */
+function hidingFor(graph, below) {
+  const none = { mask: null, components: 0, rows: 0, all: false };
+  if (!graph || !(below > 0) || !graph.componentRows) return none;
+  const rows = graph.componentRows, small = new Uint8Array(rows.length);
+  let components = 0, hiddenRows = 0;
+  for (let c = 0; c < rows.length; c++) if (rows[c] < below) { small[c] = 1; components++; hiddenRows += rows[c]; }
+  if (components === 0) return none;
+  if (components === rows.length) return Object.assign(none, { all: true });
+  const mask = new Uint8Array(graph.nodeComponent.length);
+  for (let i = 0; i < mask.length; i++) mask[i] = small[graph.nodeComponent[i]];
+  return { mask, components, rows: hiddenRows, all: false };
+}
+
+/** Hides the components under the threshold in force, drops hidden nodes from the
+ *  selection, and says how many were hidden. */
+function applyHiding() {
+  const h = hidingFor(state.graph, state.view.hideBelow);
+  state.hiding = state.graph ? { components: h.components, rows: h.rows, all: h.all, of: state.graph.componentRows ? state.graph.componentRows.length : 0 } : null;
+  view.setHidden(h.mask);
+  if (h.mask && state.selection.size) {
+    const kept = Array.from(state.selection).filter((i) => !h.mask[i]);
+    if (kept.length !== state.selection.size) setSelection(kept).catch(function () { /* shown on the page */ });
+  }
+  renderHiding();
+}
+
+function renderHiding() {
+  const input = byId("hide-rows");
+  if (document.activeElement !== input) input.value = state.view.hideBelow > 0 ? String(state.view.hideBelow) : "";
+  const note = byId("hidden-note"), h = state.hiding;
+  note.textContent = "";
+  if (!h || !(state.view.hideBelow > 0)) return;
+  if (h.all) note.textContent = "every component is smaller: all shown";
+  else if (h.components === 0) note.textContent = "none hidden";
+  else note.textContent = formatCount(h.components) + " of " + formatCount(h.of) + " components hidden (" + plural(h.rows, "row", "rows") + ")";
+}
+
+/** Sets the hiding threshold (rows; 0 or less shows every component). */
+function setHideBelow(rows) {
+  const n = Number(rows);
+  if (!Number.isFinite(n) || n < 0) throw new Error("hide components smaller than " + rows + " rows: give a whole number of rows, 0 to show every component");
+  state.view.hideBelow = Math.floor(n);
+  if (state.graph) applyHiding(); else renderHiding();
+  writeFragment();
 }
 
 function renderColourControls() {
@@ -803,6 +864,10 @@ function wire() {
   byId("colour-select").addEventListener("change", function () {
     setColourColumn(byId("colour-select").value).catch(function () { /* shown on the page */ });
   });
+  byId("hide-rows").addEventListener("change", function () {
+    const text = byId("hide-rows").value.trim();
+    try { setHideBelow(text === "" ? 0 : text); } catch (e) { fail(e.message); }
+  });
   wireInspector();
   wireDerived();
   wireExports();
@@ -842,7 +907,8 @@ window.nervure = Object.freeze({
   /** Colours the nodes by the mean of a numeric column. */
   colourBy: function (column) { return setColourColumn(column); },
   /** Where each node is drawn: world positions and the view (screen = world * scale + offset,
-   *  CSS pixels from the canvas's top left), and the disc radii in CSS pixels. */
+   *  CSS pixels from the canvas's top left), the disc radii in CSS pixels, the drawing order
+   *  (hidden nodes left out), the edges, each node's component, and the canvas's size. */
   layout: function () {
     if (!state.graph) return null;
     return {
@@ -850,9 +916,15 @@ window.nervure = Object.freeze({
       sizes: Array.from(state.graph.nodeSizes),
       radii: Array.from(view.radii),
       order: Array.from(view.order),
+      edgeA: Array.from(state.graph.edgeA), edgeB: Array.from(state.graph.edgeB),
+      component: Array.from(state.graph.nodeComponent),
       scale: view.view.scale, offsetX: view.view.x, offsetY: view.view.y,
+      width: view.width, height: view.height,
     };
   },
+  /** Hides components holding fewer than `rows` rows (0 shows all); returns what is hidden:
+   *  {components, rows, of, all}. */
+  hideSmallerThan: function (rows) { setHideBelow(rows); return Object.assign({}, state.hiding); },
   /** The selected node (with several, the last one picked), or null. */
   selected: function () { return state.selected; },
   /** Every selected node, increasing. */

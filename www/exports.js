@@ -10,9 +10,11 @@
  *   same name with the same columns is opened; any other file starts from the engine's
  *   automatic settings. Never any data.
  * - the fragment: `#s=` + the settings JSON, URI-encoded (with `#demo&s=...` when the page
- *   was opened on the demo). Settings only, never data; a fragment is not sent anywhere.
- *   It wins over local storage when both apply, and is used on the first file opened
- *   after the address was given, not on later files.
+ *   was opened on the demo), then `&v=` + the view state JSON when it is not the default
+ *   (`{"hideBelow": rows}`: components under that many rows hidden; see DEVELOPERS.md for
+ *   why this is not in the settings). Never data; a fragment is not sent anywhere. The
+ *   settings win over local storage when both apply, and are used on the first file
+ *   opened after the address was given, not on later files.
  *
  * The graph formats are written by the engine (src/export.rs); the SVG is written here,
  * every text escaped.
@@ -90,11 +92,14 @@ function xmlEscape(text) {
 
 const n2 = (v) => (Math.round(v * 100) / 100).toString();
 
-/** The graph as drawn now (same view, colours and sizes) with its legend, as SVG text. */
+/** The graph as drawn now (same view, colours, sizes and hidden components) as SVG text:
+ *  the legend in a band above the graph and the summary in a line under it, never over
+ *  a disc; when components are hidden, the line under it says how many. */
 function graphSvg() {
   const g = state.graph;
-  const w = Math.round(view.width), h = Math.round(view.height);
-  const s = view.view.scale, ox = view.view.x, oy = view.view.y, p = g.positions;
+  const w = Math.round(view.width), gh = Math.round(view.height);
+  const top = state.colour.values ? 64 : 0, foot = 30, h = top + gh + foot;
+  const s = view.view.scale, ox = view.view.x, oy = view.view.y + top, p = g.positions;
   const out = [];
   out.push('<?xml version="1.0" encoding="UTF-8"?>');
   out.push('<svg xmlns="http://www.w3.org/2000/svg" width="' + w + '" height="' + h + '" viewBox="0 0 ' + w + " " + h + '" font-family="system-ui, sans-serif">');
@@ -102,9 +107,13 @@ function graphSvg() {
   out.push('<rect width="100%" height="100%" fill="#fffdf8"/>');
   let maxShared = 1;
   for (const v of g.edgeShared) maxShared = Math.max(maxShared, v);
+  // The graph, clipped to its own band as on the page.
+  out.push('<defs><clipPath id="graph-band"><rect x="0" y="' + top + '" width="' + w + '" height="' + gh + '"/></clipPath></defs>');
+  out.push('<g clip-path="url(#graph-band)">');
   out.push('<g stroke="rgb(62,74,86)" stroke-opacity="0.42" stroke-linecap="round">');
   for (let e = 0; e < g.edgeA.length; e++) {
     const a = g.edgeA[e], b = g.edgeB[e];
+    if (!view.shown(a) || !view.shown(b)) continue;
     out.push('<line x1="' + n2(p[2 * a] * s + ox) + '" y1="' + n2(p[2 * a + 1] * s + oy) + '" x2="' + n2(p[2 * b] * s + ox) + '" y2="' + n2(p[2 * b + 1] * s + oy) + '" stroke-width="' + n2(1 + 5 * Math.sqrt(g.edgeShared[e] / maxShared)) + '"/>');
   }
   out.push("</g>");
@@ -113,26 +122,36 @@ function graphSvg() {
     const fill = view.fills ? view.fills[i] : "rgb(120, 134, 150)";
     out.push('<circle cx="' + n2(p[2 * i] * s + ox) + '" cy="' + n2(p[2 * i + 1] * s + oy) + '" r="' + n2(view.radii[i]) + '" fill="' + fill.replace(/ /g, "") + '"><title>' + xmlEscape("Node " + i + ": " + g.nodeSizes[i] + " rows") + "</title></circle>");
   }
-  out.push("</g>");
+  out.push("</g></g>");
   if (state.colour.values) {
     const title = colourTitle();
-    const lw = Math.max(240, Math.min(420, 14 + 7.4 * title.length));
-    const x = w - lw - 12, y = 12;
+    const lw = Math.min(w - 24, Math.max(240, Math.min(420, 14 + 7.4 * title.length)));
+    const x = 12, y = 8;
     out.push('<defs><linearGradient id="legend-map" x1="0" x2="1" y1="0" y2="0">');
     for (let k = 0; k <= 16; k++) out.push('<stop offset="' + (k / 16).toFixed(4) + '" stop-color="' + legendColourAt(k / 16).replace(/ /g, "") + '"/>');
     out.push("</linearGradient></defs>");
-    out.push('<g class="legend"><rect x="' + n2(x) + '" y="' + y + '" width="' + n2(lw) + '" height="62" rx="8" fill="#fffdf8" fill-opacity="0.94" stroke="#dcd7cd"/>');
-    out.push('<text x="' + n2(x + 12) + '" y="' + (y + 22) + '" font-size="13" fill="#56616b">' + xmlEscape(title) + "</text>");
+    out.push('<g class="legend"><rect x="' + n2(x) + '" y="' + y + '" width="' + n2(lw) + '" height="50" rx="8" fill="#fffdf8" stroke="#dcd7cd"/>');
+    out.push('<text x="' + n2(x + 12) + '" y="' + (y + 19) + '" font-size="13" fill="#56616b">' + xmlEscape(title) + "</text>");
     const minText = formatNumber(state.colour.min), maxText = formatNumber(state.colour.max);
-    out.push('<text x="' + n2(x + 12) + '" y="' + (y + 48) + '" font-size="13" font-weight="600" fill="#1c242c">' + xmlEscape(minText) + "</text>");
+    out.push('<text x="' + n2(x + 12) + '" y="' + (y + 41) + '" font-size="13" font-weight="600" fill="#1c242c">' + xmlEscape(minText) + "</text>");
     const bx = x + 20 + 8 * minText.length, bw = lw - 40 - 8 * (minText.length + maxText.length);
-    out.push('<rect x="' + n2(bx) + '" y="' + (y + 36) + '" width="' + n2(Math.max(40, bw)) + '" height="14" rx="4" fill="url(#legend-map)" stroke="rgba(0,0,0,0.15)"/>');
-    out.push('<text x="' + n2(x + lw - 12) + '" y="' + (y + 48) + '" font-size="13" font-weight="600" fill="#1c242c" text-anchor="end">' + xmlEscape(maxText) + "</text></g>");
+    out.push('<rect x="' + n2(bx) + '" y="' + (y + 29) + '" width="' + n2(Math.max(40, bw)) + '" height="14" rx="4" fill="url(#legend-map)" stroke="rgba(0,0,0,0.15)"/>');
+    out.push('<text x="' + n2(x + lw - 12) + '" y="' + (y + 41) + '" font-size="13" font-weight="600" fill="#1c242c" text-anchor="end">' + xmlEscape(maxText) + "</text></g>");
   }
-  const sm = state.summary;
-  out.push('<text x="12" y="' + (h - 12) + '" font-size="13" fill="#56616b">' + xmlEscape(state.table.name + " · " + sm.nodes + " nodes · " + sm.edges + " edges · " + sm.components + " components · " + sm.loops + " loops") + "</text>");
+  out.push('<text x="12" y="' + (h - 11) + '" font-size="13" fill="#56616b">' + xmlEscape(pictureCaption()) + "</text>");
   out.push("</svg>");
   return out.join("\n") + "\n";
+}
+
+/** The line under an exported picture: the file, the counts, and what was hidden. */
+function pictureCaption() {
+  const sm = state.summary, h = state.hiding;
+  const parts = [state.table.name, plural(sm.nodes, "node", "nodes"), plural(sm.edges, "edge", "edges"),
+    plural(sm.components, "component", "components") + singleNodesNote(sm), plural(sm.loops, "loop", "loops")];
+  if (h && h.components > 0) {
+    parts.push(plural(h.components, "component", "components") + " smaller than " + plural(state.view.hideBelow, "row", "rows") + " hidden (" + plural(h.rows, "row", "rows") + ")");
+  }
+  return parts.join(" · ");
 }
 
 /** The SVG picture drawn at twice the size into a canvas, as a PNG blob. The SVG goes in
@@ -143,8 +162,8 @@ function graphPng() {
     const img = new Image();
     img.onload = function () {
       const c = document.createElement("canvas");
-      c.width = Math.round(view.width * 2);
-      c.height = Math.round(view.height * 2);
+      c.width = img.naturalWidth * 2;
+      c.height = img.naturalHeight * 2;
       const ctx = c.getContext("2d");
       ctx.drawImage(img, 0, 0, c.width, c.height);
       c.toBlob(function (blob) { if (blob) resolve(blob); else reject(new Error("the picture could not be made")); }, "image/png");
@@ -227,24 +246,37 @@ function storedSettingsFor(table) {
   return saved.settings;
 }
 
-/** {demo, settings, error} read from the address's fragment. */
+/** {demo, settings, view, error} read from the address's fragment. */
 function fragmentParts() {
-  const out = { demo: false, settings: null, error: null };
+  const out = { demo: false, settings: null, view: null, error: null };
   const hash = location.hash.replace(/^#/, "");
   for (const part of hash.split("&")) {
     if (part === "demo") out.demo = true;
     else if (part.startsWith("s=")) {
       try { out.settings = JSON.parse(decodeURIComponent(part.slice(2))); }
       catch (e) { out.error = "the settings in the page address (after #s=) are not readable JSON: " + e.message; }
+    } else if (part.startsWith("v=")) {
+      try { out.view = viewStateFrom(JSON.parse(decodeURIComponent(part.slice(2)))); }
+      catch (e) { out.error = "the view in the page address (after &v=) was not used: " + e.message; }
     }
   }
   return out;
 }
 
+/** The view state in a fragment, checked: {hideBelow: whole number of rows ≥ 0}. */
+function viewStateFrom(obj) {
+  if (!obj || typeof obj !== "object" || Array.isArray(obj)) throw new Error("it is not a JSON object");
+  for (const key of Object.keys(obj)) if (key !== "hideBelow") throw new Error("unknown field '" + key + "' (known: hideBelow)");
+  const h = obj.hideBelow === undefined ? 0 : obj.hideBelow;
+  if (!Number.isInteger(h) || h < 0) throw new Error("hideBelow must be a whole number of rows, 0 or more");
+  return { hideBelow: h };
+}
+
 function writeFragment() {
   if (!state.settings) return;
   const f = fragmentParts();
-  const hash = "#" + (f.demo ? "demo&" : "") + "s=" + encodeURIComponent(JSON.stringify(state.settings));
+  const view = state.view.hideBelow > 0 ? "&v=" + encodeURIComponent(JSON.stringify({ hideBelow: state.view.hideBelow })) : "";
+  const hash = "#" + (f.demo ? "demo&" : "") + "s=" + encodeURIComponent(JSON.stringify(state.settings)) + view;
   if (location.hash === hash) return;
   state.writingFragment = hash;
   try { history.replaceState(null, "", hash); } catch (e) { /* some browsers refuse on file://: the address stays */ }
@@ -259,7 +291,9 @@ async function restoreSettingsFor(loaded) {
   const tries = [];
   // The fragment counts only when it came with the address (or was typed in), not when
   // this page wrote it for the previous file.
-  if (f.settings && location.hash !== state.writingFragment) tries.push(["fragment", f.settings]);
+  const given = location.hash !== state.writingFragment;
+  if (f.settings && given) tries.push(["fragment", f.settings]);
+  if (f.view && given) state.view = f.view;
   const stored = storedSettingsFor(loaded.table);
   if (stored) tries.push(["stored", stored]);
   const notes = [];
@@ -315,6 +349,7 @@ function wireExports() {
   window.addEventListener("hashchange", function () {
     if (location.hash === state.writingFragment) return;
     const f = fragmentParts();
+    if (f.view) { state.view = f.view; if (state.graph) applyHiding(); }
     if (f.settings && state.table) applySettings(f.settings).then(buildNow).catch(function () { /* shown */ });
   });
 }

@@ -2,10 +2,15 @@
  * hovers and selections. It does not know about files, settings or the engine: it is
  * given positions, sizes, edges and colours, and reports which node is under the pointer.
  *
- * Node positions come from the engine's layout (roughly [-1, 1]); the view maps them to
- * CSS pixels as  screen = world * scale + offset  (y pointing down, as the canvas does).
- * A node's disc area is proportional to its number of rows; an edge's width grows with
- * the rows its two nodes share.
+ * Node positions and disc radii come from the engine's layout (src/layout.rs, the drawing
+ * in [-1, 1]); the view maps them to CSS pixels as  screen = world * scale + offset  (y
+ * pointing down, as the canvas does). A disc's radius scales with the view as the
+ * positions do, so discs keep the room the layout gave them (area proportional to rows,
+ * no disc over another, edges showing between them), within two bounds: never larger
+ * than a share of the canvas (MAX_RADIUS_SHARE) and never smaller than MIN_RADIUS, so a
+ * node stays visible when a big graph is zoomed out. An edge's width grows with the rows
+ * its two nodes share. Nodes can be hidden (setHidden: components too small to matter):
+ * they and their edges are not drawn, picked or fitted.
  *
  * Selection: a click picks one node, a shift-click adds or removes one, and a drag with
  * shift held (or any drag in lasso mode) draws a lasso whose enclosed node centres are
@@ -50,14 +55,22 @@ function GraphView(canvas, callbacks) {
   this.maxShared = 1;       // the most rows an edge's two nodes share (edge widths)
   this.pending = false;
   this.fitted = false;     // true until the user pans or zooms: resizes then refit
-  this.insetTop = 0;       // CSS pixels at the top kept clear (the legend sits there)
+  this.hidden = null;       // Uint8Array per node: 1 for a node left out of the drawing, or null
+  this.radiiKey = null;     // the scale and cap this.radii were computed for
   this._listen();
   this.resize();
 }
 
-/** Largest disc radius, as a share of the canvas's smaller side. */
+/** Largest disc radius, as a share of the canvas's smaller side (at least 8 pixels). */
 GraphView.MAX_RADIUS_SHARE = 0.045;
 GraphView.MIN_RADIUS = 3;
+/** Pixels kept free round the fitted drawing. */
+GraphView.FIT_MARGIN = 14;
+
+/** A disc's radius in CSS pixels at scale s: its world radius scaled, within [least, cap]. */
+function discPixels(worldRadius, s, cap, least) {
+  return Math.min(cap, Math.max(least, worldRadius * s));
+}
 
 GraphView.prototype.setGraph = function (graph, keepView) {
   this.graph = graph;
@@ -68,15 +81,34 @@ GraphView.prototype.setGraph = function (graph, keepView) {
   this.cursor = null;
   this.hovered = null;
   this.highlight = null;
+  this.hidden = null;
   let maxShared = 1;
   if (graph) for (const v of graph.edgeShared) maxShared = Math.max(maxShared, v);
   this.maxShared = maxShared;
-  this._sizeDiscs();
   // Draw big discs first so small ones stay visible on top of them.
-  this.order = largestFirst(graph ? graph.nodeSizes : []);
+  this.order = largestFirst(graph ? graph.nodeSizes : [], null);
   this.baseVersion++;
+  this.radiiKey = null;
   if (!keepView) this.fit();
+  this._sizeDiscs();
   this.requestDraw();
+};
+
+/** Leaves out of the drawing the nodes marked 1 in `mask` (a Uint8Array per node), and
+ *  their edges; null shows every node. The view is fitted again to what is shown. */
+GraphView.prototype.setHidden = function (mask) {
+  if (!this.graph || (mask === null && this.hidden === null)) return;
+  this.hidden = mask;
+  this.order = largestFirst(this.graph.nodeSizes, mask);
+  this.bounds = null;
+  this.baseVersion++;
+  this.fit();
+  this.requestDraw();
+};
+
+/** Whether node i is drawn. */
+GraphView.prototype.shown = function (i) {
+  return !this.hidden || !this.hidden[i];
 };
 
 /** Marks a set of nodes (and the edges among them) on top of the drawing; null clears. */
@@ -92,17 +124,18 @@ GraphView.prototype._drawHighlight = function (ctx, s, ox, oy) {
   ctx.lineWidth = 5;
   for (let e = 0; e < g.edgeA.length; e++) {
     const a = g.edgeA[e], b = g.edgeB[e];
-    if (!h.has(a) || !h.has(b)) continue;
+    if (!h.has(a) || !h.has(b) || !this.shown(a) || !this.shown(b)) continue;
     ctx.beginPath();
     ctx.moveTo(p[2 * a] * s + ox, p[2 * a + 1] * s + oy);
     ctx.lineTo(p[2 * b] * s + ox, p[2 * b + 1] * s + oy);
     ctx.stroke();
   }
   ctx.lineWidth = 3;
+  const cap = this._radiusCap();
   for (const i of h) {
-    if (i >= this.radii.length) continue;
+    if (i >= g.nodeSizes.length || !this.shown(i)) continue;
     ctx.beginPath();
-    ctx.arc(p[2 * i] * s + ox, p[2 * i + 1] * s + oy, this.radii[i] + 2.5, 0, 2 * Math.PI);
+    ctx.arc(p[2 * i] * s + ox, p[2 * i + 1] * s + oy, discPixels(g.radii[i], s, cap, GraphView.MIN_RADIUS) + 2.5, 0, 2 * Math.PI);
     ctx.stroke();
   }
 };
@@ -133,7 +166,7 @@ GraphView.prototype.setLit = function (lit) {
 GraphView.prototype.nodesInPolygon = function (poly) {
   const out = [];
   if (!this.graph || poly.length < 6) return out;
-  for (let i = 0; i < this.graph.nodeSizes.length; i++) {
+  for (const i of Array.from(this.order).sort((a, b) => a - b)) {
     const q = this.toScreen(i);
     if (pointInPolygon(q.x, q.y, poly)) out.push(i);
   }
@@ -150,44 +183,91 @@ function pointInPolygon(x, y, poly) {
   return inside;
 }
 
+/** The largest disc radius on this canvas, in CSS pixels. */
+GraphView.prototype._radiusCap = function () {
+  return Math.max(8, Math.min(this.width, this.height) * GraphView.MAX_RADIUS_SHARE);
+};
+
+/** Each disc's radius at the view's scale (this.radii, CSS pixels: picking, rings); the
+ *  layer is redrawn when the cap (the canvas's size) changed. */
 GraphView.prototype._sizeDiscs = function () {
   const g = this.graph;
   if (!g) { this.radii = null; return; }
-  let maxSize = 1;
-  for (const s of g.nodeSizes) maxSize = Math.max(maxSize, s);
-  const maxR = Math.max(8, Math.min(this.width, this.height) * GraphView.MAX_RADIUS_SHARE);
-  const radii = new Float64Array(g.nodeSizes.length);
-  for (let i = 0; i < radii.length; i++) {
-    radii[i] = Math.max(GraphView.MIN_RADIUS, maxR * Math.sqrt(g.nodeSizes[i] / maxSize));
-  }
+  const s = this.view.scale, cap = this._radiusCap(), key = s + " " + cap;
+  if (key === this.radiiKey && this.radii && this.radii.length === g.nodeSizes.length) return;
+  if (!this.radiiKey || this.radiiKey.split(" ")[1] !== String(cap)) this.baseVersion++;
+  const radii = this.radii && this.radii.length === g.nodeSizes.length ? this.radii : new Float64Array(g.nodeSizes.length);
+  for (let i = 0; i < radii.length; i++) radii[i] = discPixels(g.radii[i], s, cap, GraphView.MIN_RADIUS);
   this.radii = radii;
-  this.baseVersion++;
+  this.radiiKey = key;
 };
 
-/** Fits the layout's bounding box into the canvas, leaving room for the largest disc. */
+/** Fits what is shown into the canvas, every disc whole (its radius at the fitted scale)
+ *  with FIT_MARGIN pixels to spare (see fitDiscs). */
 GraphView.prototype.fit = function () {
-  const g = this.graph;
-  if (!g || g.nodeSizes.length === 0 || this.width === 0) return;
-  const p = g.positions;
-  let x0 = Infinity, x1 = -Infinity, y0 = Infinity, y1 = -Infinity;
-  for (let i = 0; i < p.length; i += 2) {
-    x0 = Math.min(x0, p[i]); x1 = Math.max(x1, p[i]);
-    y0 = Math.min(y0, p[i + 1]); y1 = Math.max(y1, p[i + 1]);
-  }
-  let maxR = 0;
-  for (const r of this.radii) maxR = Math.max(maxR, r);
-  const pad = maxR + 24;
-  const w = Math.max(x1 - x0, 1e-9), h = Math.max(y1 - y0, 1e-9);
-  const top = Math.max(pad, this.insetTop + 8);
-  let scale = Math.min((this.width - 2 * pad) / w, (this.height - pad - top) / h);
-  if (!Number.isFinite(scale) || scale <= 0) scale = 1;
-  if (x1 - x0 < 1e-9 && y1 - y0 < 1e-9) scale = 1;
-  this.view.scale = scale;
-  this.view.x = this.width / 2 - scale * (x0 + x1) / 2;
-  this.view.y = top + (this.height - pad - top) / 2 - scale * (y0 + y1) / 2;
+  const g = this.graph, order = this.order;
+  if (!g || !order || order.length === 0 || this.width === 0) return;
+  const m = GraphView.FIT_MARGIN;
+  const W = Math.max(1, this.width - 2 * m), H = Math.max(1, this.height - 2 * m);
+  const f = fitDiscs(g.positions, g.radii, order, W, H, this._radiusCap(), GraphView.MIN_RADIUS);
+  this.view.scale = f.scale;
+  this.view.x = m + (W - f.w) / 2 - f.x0;
+  this.view.y = m + (H - f.h) / 2 - f.y0;
   this.fitted = true;
+  this._sizeDiscs();
   this.requestDraw();
 };
+
+/** The largest scale s at which the discs of the nodes in `order` (positions p, world
+ *  radii R, drawn at discPixels(R, s, cap, least)) fit a W × H box, and their extent at
+ *  that scale: {scale, x0, y0, w, h} (x0, y0 from the world origin, in pixels). The drawn
+ *  width lies between the centres' span times s and that plus two caps, so s is found by
+ *  halving that interval; only the nodes near the centres' box can reach the extent's
+ *  edge, so only they are measured. */
+function fitDiscs(p, R, order, W, H, cap, least) {
+  let cx0 = Infinity, cx1 = -Infinity, cy0 = Infinity, cy1 = -Infinity, rMost = 0;
+  for (let k = 0; k < order.length; k++) {
+    const i = order[k], x = p[2 * i], y = p[2 * i + 1];
+    if (x < cx0) cx0 = x;
+    if (x > cx1) cx1 = x;
+    if (y < cy0) cy0 = y;
+    if (y > cy1) cy1 = y;
+    if (R[i] > rMost) rMost = R[i];
+  }
+  const spanX = cx1 - cx0, spanY = cy1 - cy0;
+  let hi = Math.min(spanX > 1e-12 ? W / spanX : Infinity, spanY > 1e-12 ? H / spanY : Infinity);
+  let lo = Number.isFinite(hi) ? Math.max(0, Math.min(spanX > 1e-12 ? (W - 2 * cap) / spanX : hi, spanY > 1e-12 ? (H - 2 * cap) / spanY : hi)) : 0;
+  // At a scale of at least lo, a disc whose centre lies more than (cap - least) / lo inside
+  // the centres' box cannot reach past a disc on the box's edge.
+  const d = lo > 0 ? (cap - least) / lo : Infinity;
+  const xs = [], ys = [], rs = [];
+  for (let k = 0; k < order.length; k++) {
+    const i = order[k], x = p[2 * i], y = p[2 * i + 1];
+    if (x - cx0 <= d || cx1 - x <= d || y - cy0 <= d || cy1 - y <= d) { xs.push(x); ys.push(y); rs.push(R[i]); }
+  }
+  const n = xs.length;
+  const out = { scale: 1, x0: 0, y0: 0, w: 0, h: 0 };
+  const measure = (s) => {
+    let x0 = Infinity, x1 = -Infinity, y0 = Infinity, y1 = -Infinity;
+    for (let k = 0; k < n; k++) {
+      const r = Math.min(cap, Math.max(least, rs[k] * s)), x = xs[k] * s, y = ys[k] * s;
+      if (x - r < x0) x0 = x - r;
+      if (x + r > x1) x1 = x + r;
+      if (y - r < y0) y0 = y - r;
+      if (y + r > y1) y1 = y + r;
+    }
+    out.scale = s; out.x0 = x0; out.y0 = y0; out.w = x1 - x0; out.h = y1 - y0;
+    return out.w <= W && out.h <= H;
+  };
+  if (!Number.isFinite(hi)) { measure(rMost > 0 ? cap / rMost : 1); return out; } // one place: the disc at its cap
+  if (measure(hi)) return out;
+  for (let k = 0; k < 14; k++) {
+    const mid = (lo + hi) / 2;
+    if (measure(mid)) lo = mid; else hi = mid;
+  }
+  measure(lo > 0 ? lo : hi);
+  return out;
+}
 
 GraphView.prototype.resize = function () {
   const rect = this.canvas.getBoundingClientRect();
@@ -201,9 +281,9 @@ GraphView.prototype.resize = function () {
   this.canvas.height = Math.max(1, Math.round(rect.height * dpr));
   this.dpr = dpr;
   if (this.graph) {
-    this._sizeDiscs();
     if (oldW === 0 || oldH === 0 || this.fitted) this.fit();
     else { this.view.x += (this.width - oldW) / 2; this.view.y += (this.height - oldH) / 2; }
+    this._sizeDiscs();
   }
   this.requestDraw();
 };
@@ -240,19 +320,20 @@ GraphView.prototype.draw = function () {
   const rect = this.canvas.getBoundingClientRect();
   if (rect.width !== this.width || rect.height !== this.height || (window.devicePixelRatio || 1) !== this.dpr) this.resize();
   const started = performance.now();
+  if (this.graph) this._sizeDiscs();
   this._draw();
   this.lastDrawMs = performance.now() - started;
   this.drawTotalMs += this.lastDrawMs;
 };
 
-/** The layout's world bounding box, made once per graph. */
+/** The world bounding box of the centres shown, made once per graph and hiding. */
 GraphView.prototype._worldBounds = function () {
   if (this.bounds) return this.bounds;
   const p = this.graph.positions;
   let x0 = Infinity, x1 = -Infinity, y0 = Infinity, y1 = -Infinity;
-  for (let i = 0; i < p.length; i += 2) {
-    x0 = Math.min(x0, p[i]); x1 = Math.max(x1, p[i]);
-    y0 = Math.min(y0, p[i + 1]); y1 = Math.max(y1, p[i + 1]);
+  for (const i of this.order) {
+    x0 = Math.min(x0, p[2 * i]); x1 = Math.max(x1, p[2 * i]);
+    y0 = Math.min(y0, p[2 * i + 1]); y1 = Math.max(y1, p[2 * i + 1]);
   }
   this.bounds = { x0, x1, y0, y1 };
   return this.bounds;
@@ -269,13 +350,11 @@ GraphView.prototype._worldBounds = function () {
  *  in one frame that would hold the page still, in slices it fills in over a few frames
  *  while the page stays responsive. `layerPending` is true until the last slice is in. */
 GraphView.prototype._blitBase = function (ctx) {
-  const g = this.graph, n = g.nodeSizes.length;
+  const g = this.graph, n = this.order.length;
   this.layerPending = false;
   if (n === 0) return true;
   const s = this.view.scale, dpr = this.dpr, b = this._worldBounds();
-  let maxR = 0;
-  for (let i = 0; i < this.radii.length; i++) maxR = Math.max(maxR, this.radii[i]);
-  const pad = maxR + 8;
+  const pad = this._radiusCap() + 8;
   const w = (b.x1 - b.x0) * s + 2 * pad, h = (b.y1 - b.y0) * s + 2 * pad;
   let L = this.layer;
   const started = performance.now();
@@ -379,8 +458,10 @@ GraphView.prototype._drawItems = function (ctx, s, ox, oy, w, h, from, to) {
     ctx.lineCap = "round";
     ctx.strokeStyle = "rgba(62, 74, 86, 0.42)";
     const m = 8;
+    const hidden = this.hidden;
     for (let e = from; e < Math.min(E, to); e++) {
       const a = g.edgeA[e], b = g.edgeB[e];
+      if (hidden && (hidden[a] || hidden[b])) continue;
       const xa = p[2 * a] * s + ox, ya = p[2 * a + 1] * s + oy, xb = p[2 * b] * s + ox, yb = p[2 * b + 1] * s + oy;
       if ((xa < -m && xb < -m) || (xa > w + m && xb > w + m) || (ya < -m && yb < -m) || (ya > h + m && yb > h + m)) continue;
       ctx.lineWidth = 1 + 5 * Math.sqrt(g.edgeShared[e] / maxShared);
@@ -393,10 +474,10 @@ GraphView.prototype._drawItems = function (ctx, s, ox, oy, w, h, from, to) {
   // Each disc is drawn by ringedDisc (a graph of thousands of nodes spends most of a full
   // drawing on its discs); a faded disc is faded over its white one.
   const dim = this.selection.size > 0 || !!this.lit;
-  const ring = GraphView.RING / 2;
+  const ring = GraphView.RING / 2, cap = this._radiusCap(), R = g.radii;
   for (let k = Math.max(0, from - E); k < Math.min(n, to - E); k++) {
     const i = this.order[k];
-    const x = p[2 * i] * s + ox, y = p[2 * i + 1] * s + oy, r = this.radii[i];
+    const x = p[2 * i] * s + ox, y = p[2 * i + 1] * s + oy, r = discPixels(R[i], s, cap, GraphView.MIN_RADIUS);
     if (x + r < -2 || x - r > w + 2 || y + r < -2 || y - r > h + 2) continue;
     const faded = dim && !this.selection.has(i) && !(this.lit && this.lit[i]);
     ringedDisc(ctx, x, y, r, ring, this.fills ? this.fills[i] : "rgb(120, 134, 150)", faded ? 0.35 : 1);
@@ -430,7 +511,7 @@ GraphView.prototype._draw = function () {
   for (const i of this.selection) rings.push([i, "#b5361f", i === this.selected ? 3.5 : 2.5, 3.5, null]);
   rings.push([this.cursor, "#1c242c", 2, 7, [4, 3]]);
   for (const [i, colour, width, gap, dash] of rings) {
-    if (i === null || i === undefined || i >= this.radii.length) continue;
+    if (i === null || i === undefined || i >= this.radii.length || !this.shown(i)) continue;
     const q = this.toScreen(i);
     ctx.beginPath();
     ctx.arc(q.x, q.y, this.radii[i] + gap, 0, 2 * Math.PI);
@@ -560,10 +641,10 @@ GraphView.prototype._listen = function () {
 /** The nearest node from `from` in direction [dx, dy] (screen), within a 45° cone; the
  *  largest node when there is no cursor yet; `from` itself when nothing lies that way. */
 GraphView.prototype.nextNode = function (from, dir) {
-  if (from === null || from === undefined) return this.order[0];
+  if (from === null || from === undefined || !this.shown(from)) return this.order[0];
   const a = this.toScreen(from);
   let best = from, bestD = Infinity;
-  for (let i = 0; i < this.graph.nodeSizes.length; i++) {
+  for (const i of this.order) {
     if (i === from) continue;
     const q = this.toScreen(i);
     const dx = q.x - a.x, dy = q.y - a.y;
@@ -600,22 +681,26 @@ function samePixels(a, b) {
   return true;
 }
 
-/** Node indices by size, largest first, ties by index: the order discs are drawn in. Each
- *  node is one number, (largest - size) · n + index, and the numbers are sorted as numbers,
- *  with no comparison function (which took 5 to 10 ms at 19 000 nodes); when those numbers
- *  would not all be exact doubles, a sort with a comparison function. */
-function largestFirst(sizes) {
+/** Node indices by size, largest first, ties by index: the order discs are drawn in
+ *  (nodes marked in `hidden`, if given, left out). Each node is one number, (largest -
+ *  size) · n + index, and the numbers are sorted as numbers, with no comparison function
+ *  (which took 5 to 10 ms at 19 000 nodes); when those numbers would not all be exact
+ *  doubles, a sort with a comparison function. */
+function largestFirst(sizes, hidden) {
   const n = sizes.length;
-  let most = 0;
-  for (let i = 0; i < n; i++) most = Math.max(most, sizes[i]);
-  const order = new Uint32Array(n);
+  let most = 0, shown = 0;
+  for (let i = 0; i < n; i++) {
+    most = Math.max(most, sizes[i]);
+    if (!hidden || !hidden[i]) shown++;
+  }
+  const order = new Uint32Array(shown);
   if ((most + 1) * n < Number.MAX_SAFE_INTEGER) {
-    const keys = new Float64Array(n);
-    for (let i = 0; i < n; i++) keys[i] = (most - sizes[i]) * n + i;
+    const keys = new Float64Array(shown);
+    for (let i = 0, k = 0; i < n; i++) if (!hidden || !hidden[i]) keys[k++] = (most - sizes[i]) * n + i;
     keys.sort();
-    for (let k = 0; k < n; k++) order[k] = keys[k] % n;
+    for (let k = 0; k < shown; k++) order[k] = keys[k] % n;
   } else {
-    for (let i = 0; i < n; i++) order[i] = i;
+    for (let i = 0, k = 0; i < n; i++) if (!hidden || !hidden[i]) order[k++] = i;
     order.sort((a, b) => sizes[b] - sizes[a] || a - b);
   }
   return order;
@@ -635,20 +720,13 @@ function drawGraphStatic(ctx, w, h, graph, fills, pad) {
 function staticDrawing(w, h, graph, fills, pad) {
   const n = graph.nodeSizes.length, E = graph.edgeA.length;
   if (n === 0) return { total: 0, draw: function () {} };
-  const p = graph.positions;
-  let x0 = Infinity, x1 = -Infinity, y0 = Infinity, y1 = -Infinity, maxSize = 1;
-  for (let i = 0; i < n; i++) {
-    x0 = Math.min(x0, p[2 * i]); x1 = Math.max(x1, p[2 * i]);
-    y0 = Math.min(y0, p[2 * i + 1]); y1 = Math.max(y1, p[2 * i + 1]);
-    maxSize = Math.max(maxSize, graph.nodeSizes[i]);
-  }
-  const maxR = Math.max(2, Math.min(w, h) * GraphView.MAX_RADIUS_SHARE);
-  const m = (pad === undefined ? 4 : pad) + maxR;
-  const s = Math.min((w - 2 * m) / Math.max(x1 - x0, 1e-9), (h - 2 * m) / Math.max(y1 - y0, 1e-9));
-  const ox = w / 2 - s * (x0 + x1) / 2, oy = h / 2 - s * (y0 + y1) / 2;
+  const p = graph.positions, R = graph.radii;
+  const cap = Math.max(2, Math.min(w, h) * GraphView.MAX_RADIUS_SHARE), m = pad === undefined ? 4 : pad;
+  const order = largestFirst(graph.nodeSizes, null);
+  const f = fitDiscs(p, R, order, Math.max(1, w - 2 * m), Math.max(1, h - 2 * m), cap, 1.5);
+  const s = f.scale, ox = (w - f.w) / 2 - f.x0, oy = (h - f.h) / 2 - f.y0;
   let maxShared = 1;
   for (const v of graph.edgeShared) maxShared = Math.max(maxShared, v);
-  const order = largestFirst(graph.nodeSizes);
   return {
     total: E + n,
     draw: function (ctx, from, to) {
@@ -658,7 +736,7 @@ function staticDrawing(w, h, graph, fills, pad) {
       }
       for (let e = from; e < Math.min(E, to); e++) {
         const a = graph.edgeA[e], b = graph.edgeB[e];
-        ctx.lineWidth = Math.max(0.6, (1 + 5 * Math.sqrt(graph.edgeShared[e] / maxShared)) * maxR / 30);
+        ctx.lineWidth = Math.max(0.6, (1 + 5 * Math.sqrt(graph.edgeShared[e] / maxShared)) * cap / 30);
         ctx.beginPath();
         ctx.moveTo(p[2 * a] * s + ox, p[2 * a + 1] * s + oy);
         ctx.lineTo(p[2 * b] * s + ox, p[2 * b + 1] * s + oy);
@@ -666,7 +744,7 @@ function staticDrawing(w, h, graph, fills, pad) {
       }
       for (let k = Math.max(0, from - E); k < Math.min(n, to - E); k++) {
         const i = order[k];
-        const r = Math.max(1.5, maxR * Math.sqrt(graph.nodeSizes[i] / maxSize));
+        const r = discPixels(R[i], s, cap, 1.5);
         ringedDisc(ctx, p[2 * i] * s + ox, p[2 * i + 1] * s + oy, r, 0.4, fills ? fills[i] : "rgb(120, 134, 150)", 1);
       }
     },

@@ -14,11 +14,11 @@ const runs = [];
 let runSeq = 0;
 const compareTicks = new Set();
 
+/** A copy of a graph's typed arrays (Engine.graph). */
 function copyGraph(g) {
-  return {
-    nodeSizes: g.nodeSizes.slice(), nodeElements: g.nodeElements.slice(),
-    edgeA: g.edgeA.slice(), edgeB: g.edgeB.slice(), edgeShared: g.edgeShared.slice(), positions: g.positions.slice(),
-  };
+  const out = {};
+  for (const [name, values] of Object.entries(g)) out[name] = values.slice();
+  return out;
 }
 
 /** Keeps the run just built (the same settings twice in a row are kept once). */

@@ -260,11 +260,14 @@ async function runBuild(engine, settings, progress, times, runId) {
   return summary;
 }
 
+/** The buffers of a graph's typed arrays (Engine.graph), handed over rather than copied. */
+function graphTransfer(g) {
+  return g ? Object.values(g).map((a) => a.buffer) : [];
+}
+
 function graphMessage(engine) {
   const g = engine.graph();
-  if (!g) return { value: null, transfer: [] };
-  const transfer = [g.nodeSizes.buffer, g.nodeElements.buffer, g.edgeA.buffer, g.edgeB.buffer, g.edgeShared.buffer, g.positions.buffer];
-  return { value: g, transfer };
+  return { value: g || null, transfer: graphTransfer(g) };
 }
 
 /** The table just made, its first settings and the file list. */
@@ -382,8 +385,7 @@ async function handle(engine, msg) {
     case "runB": {
       const summary = engine.run_b(msg.settings);
       const g = engine.graph_b();
-      const transfer = g ? [g.nodeSizes.buffer, g.nodeElements.buffer, g.edgeA.buffer, g.edgeB.buffer, g.edgeShared.buffer, g.positions.buffer] : [];
-      return { value: { summary, graph: g }, transfer };
+      return { value: { summary, graph: g }, transfer: graphTransfer(g) };
     }
     case "pool":
       if (typeof msg.helpers === "number") pool.helpers = Math.max(0, Math.min(16, msg.helpers | 0));

@@ -118,14 +118,14 @@ class Graph:
 
     @property
     def nodes(self):
-        """One row per node: size, cover element, mean filter value(s), layout x and y."""
+        """One row per node: size, cover element, mean filter value(s), layout x and y and disc radius r."""
         import pandas as pd
 
         a = self._arrays
         cols = {"size": a["size"], "element": a["element"], "lens": a["lens"]}
         if a["lens2"] is not None:
             cols["lens2"] = a["lens2"]
-        cols["x"], cols["y"] = a["x"], a["y"]
+        cols["x"], cols["y"], cols["r"] = a["x"], a["y"], a["r"]
         df = pd.DataFrame(cols, copy=False)
         df.index.name = "node"
         return df

@@ -211,8 +211,9 @@ impl Bench {
         d.set_item("element", nodes.iter().map(|n| n.element as u64).collect::<Vec<_>>().into_pyarray(py))?;
         d.set_item("lens", b.node_lens.clone().into_pyarray(py))?;
         d.set_item("lens2", b.second.as_ref().map(|a| a.node_lens.clone().into_pyarray(py)))?;
-        d.set_item("x", b.layout.iter().map(|p| p[0]).collect::<Vec<_>>().into_pyarray(py))?;
-        d.set_item("y", b.layout.iter().map(|p| p[1]).collect::<Vec<_>>().into_pyarray(py))?;
+        d.set_item("x", b.layout.positions.iter().map(|p| p[0]).collect::<Vec<_>>().into_pyarray(py))?;
+        d.set_item("y", b.layout.positions.iter().map(|p| p[1]).collect::<Vec<_>>().into_pyarray(py))?;
+        d.set_item("r", b.layout.radii.clone().into_pyarray(py))?;
         d.set_item("source", b.nerve.edges.iter().map(|e| e.a).collect::<Vec<_>>().into_pyarray(py))?;
         d.set_item("target", b.nerve.edges.iter().map(|e| e.b).collect::<Vec<_>>().into_pyarray(py))?;
         d.set_item("shared", b.nerve.edges.iter().map(|e| e.shared).collect::<Vec<_>>().into_pyarray(py))?;

@@ -112,6 +112,8 @@ test("the colour statistic changes the legend; the share above a threshold stays
     max: Number(document.getElementById("legend-max").textContent.replace("\u2212", "-")),
   }));
   const mean = await legend();
+  // The statistic and the scale are folded under the legend's bar: unfold them.
+  await page.click("#colour-options > summary");
   await page.selectOption("#colour-stat", "median");
   await page.waitForFunction(() => document.getElementById("legend-title").textContent === "Median of x in each node");
   await page.selectOption("#colour-stat", "spread");
@@ -161,6 +163,7 @@ test("centre on zero uses the diverging map over a symmetric range; a fixed rang
     bar: document.getElementById("legend-bar").style.backgroundImage,
   }));
   const plain = await read();
+  await page.click("#colour-options > summary");
   await page.check("#colour-centre");
   const centred = await read();
   assert.equal(centred.min, -centred.max, "an automatic range centred on zero is symmetric");

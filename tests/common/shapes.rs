@@ -85,6 +85,18 @@ pub fn figure_eight(n: usize, noise: f64, seed: u64) -> Cloud {
 /// every coordinate, then a random rotation (Gram-Schmidt on a Gaussian matrix).
 pub fn lift(pts: &Cloud, dim: usize, noise: f64, seed: u64) -> Cloud {
     let mut rng = SplitMix64::new(seed);
+    let q = rotation(&mut rng, dim);
+    pts.iter()
+        .map(|p| {
+            let x: Vec<f64> = (0..dim).map(|j| p.get(j).copied().unwrap_or(0.0) + noise * rng.normal()).collect();
+            (0..dim).map(|i| (0..dim).map(|j| q[j][i] * x[j]).sum::<f64>()).collect()
+        })
+        .collect()
+}
+
+/// A random rotation of `dim` dimensions, as its rows: Gram-Schmidt on Gaussian draws
+/// (a draw too close to the span of the rows before it is drawn again).
+pub fn rotation(rng: &mut SplitMix64, dim: usize) -> Vec<Vec<f64>> {
     let mut q: Vec<Vec<f64>> = Vec::with_capacity(dim);
     while q.len() < dim {
         let mut v: Vec<f64> = (0..dim).map(|_| rng.normal()).collect();
@@ -98,12 +110,7 @@ pub fn lift(pts: &Cloud, dim: usize, noise: f64, seed: u64) -> Cloud {
             q.push(v);
         }
     }
-    pts.iter()
-        .map(|p| {
-            let x: Vec<f64> = (0..dim).map(|j| p.get(j).copied().unwrap_or(0.0) + noise * rng.normal()).collect();
-            (0..dim).map(|i| (0..dim).map(|j| q[j][i] * x[j]).sum::<f64>()).collect()
-        })
-        .collect()
+    q
 }
 
 /// The cloud as a table with columns x0, x1, ...

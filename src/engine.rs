@@ -198,6 +198,12 @@ pub struct NodeColumn {
     /// For a category column: the most common value and its share of the node's rows.
     pub top: Option<String>,
     pub top_share: Option<f64>,
+    /// For a time column: the node's first and last instants, as ISO 8601 text in the
+    /// column's zone (`min` and `max` are the same instants in seconds).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub first: Option<String>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub last: Option<String>,
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize)]
@@ -495,8 +501,9 @@ impl Workbench {
     }
 
     /// One value per node of the last build: for a numeric column the statistic over the
-    /// node's rows that have a value (NaN if none has); for a category column the share
-    /// of the node's most common value.
+    /// node's rows that have a value (NaN if none has); for a time column the same over
+    /// its seconds since 1970 UTC (fill values do not apply); for a category column the
+    /// share of the node's most common value.
     /// Missing cells (the column's fill values, see [`crate::settings::Missing`]) are
     /// skipped, never replaced by a median fill: a node's statistic describes the values
     /// in the file. A category column gives the dominant share whatever `stat` is.
@@ -512,6 +519,11 @@ impl Workbench {
                 ColumnData::Number(v) => {
                     buf.clear();
                     buf.extend(n.members.iter().map(|&r| v[r as usize]).filter(|x| !points::is_missing(*x, fills)));
+                    stat.of(&mut buf)
+                }
+                ColumnData::Time(t) => {
+                    buf.clear();
+                    buf.extend(n.members.iter().map(|&r| t.seconds[r as usize]).filter(|x| !x.is_nan()));
                     stat.of(&mut buf)
                 }
                 ColumnData::Category { codes, levels } => dominant(codes, levels.len(), &n.members).map_or(f64::NAN, |(_, share)| share),
@@ -575,6 +587,25 @@ impl Workbench {
                         missing: n.members.len() - k,
                         top: None,
                         top_share: None,
+                        first: None,
+                        last: None,
+                    }
+                }
+                ColumnData::Time(t) => {
+                    let vals: Vec<f64> = n.members.iter().map(|&r| t.seconds[r as usize]).filter(|x| !x.is_nan()).collect();
+                    let k = vals.len();
+                    let (min, max) = (vals.iter().cloned().reduce(f64::min), vals.iter().cloned().reduce(f64::max));
+                    NodeColumn {
+                        name: c.name.clone(),
+                        kind: "time",
+                        mean: (k > 0).then(|| vals.iter().sum::<f64>() / k as f64),
+                        min,
+                        max,
+                        missing: n.members.len() - k,
+                        top: None,
+                        top_share: None,
+                        first: min.and_then(|x| t.text_of(x)),
+                        last: max.and_then(|x| t.text_of(x)),
                     }
                 }
                 ColumnData::Category { codes, levels } => {
@@ -588,6 +619,8 @@ impl Workbench {
                         missing: n.members.iter().filter(|&&r| codes[r as usize] == MISSING_CODE).count(),
                         top: top.map(|(c, _)| levels[c as usize].clone()),
                         top_share: top.map(|(_, s)| s),
+                        first: None,
+                        last: None,
                     }
                 }
             })
@@ -649,7 +682,8 @@ impl Workbench {
     }
 
     /// The values of `columns` (every column when empty) at table rows `rows`, for the
-    /// page's row table; pass the first rows you want to show.
+    /// page's row table; pass the first rows you want to show. Times are ISO 8601 text as
+    /// written in their zone ([`crate::timecol::Times::text`]).
     pub fn row_values(&self, rows: &[u32], columns: &[String]) -> Result<RowValues> {
         let table = self.need_table()?;
         let missing = self.last.as_ref().map(|b| b.settings.missing.clone()).unwrap_or_default();
@@ -674,6 +708,7 @@ impl Workbench {
                             MISSING_CODE => serde_json::Value::Null,
                             k => serde_json::Value::String(levels[k as usize].clone()),
                         },
+                        ColumnData::Time(t) => t.text(r as usize).map_or(serde_json::Value::Null, serde_json::Value::String),
                     })
                     .collect()
             })

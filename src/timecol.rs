@@ -185,17 +185,26 @@ impl Times {
     /// Times from instants and their zone; the precision is the coarsest that writes every
     /// value exactly (at least minutes when offsets are written).
     pub fn new(seconds: Vec<f64>, zone: Zone) -> Times {
-        let written = zone.written();
+        let mut t = Times { seconds: Arc::new(seconds), zone, precision: Precision::Day };
+        t.precision = t.needed_precision();
+        t
+    }
+
+    /// The coarsest precision that writes every value exactly (at least minutes when
+    /// offsets are written); the page shows instants to it (a file that writes `:00`
+    /// seconds on every value is shown to the minute, and exported as written).
+    pub fn needed_precision(&self) -> Precision {
+        let written = self.zone.written();
         let mut precision = Precision::Day;
-        for (i, &s) in seconds.iter().enumerate() {
+        for (i, &s) in self.seconds.iter().enumerate() {
             if !s.is_nan() {
-                precision = precision.max(Precision::of(s + zone.offset_at(i) as f64, written));
+                precision = precision.max(Precision::of(s + self.zone.offset_at(i) as f64, written));
                 if precision == Precision::Fraction {
                     break;
                 }
             }
         }
-        Times { seconds: Arc::new(seconds), zone, precision }
+        precision
     }
 
     pub fn len(&self) -> usize {

@@ -487,7 +487,7 @@ impl Engine {
                 Ok(crate::export::graphml(build, &extra))
             }
             "memberships" => Ok(crate::export::memberships_csv(build)),
-            "report" => Ok(crate::export::report(build, file_name)),
+            "report" => Ok(crate::export::report(build, file_name, self.bench.table())),
             other => Err(fail(format!("internal: unknown export format '{other}'"))),
         }
     }

@@ -197,6 +197,7 @@ impl Column {
                         offset: t.zone.single(),
                         zoned: t.zone.written(),
                         precision: t.precision,
+                        shown: t.needed_precision(),
                         first: out.min.and_then(|x| t.text_of(x)),
                         last: out.max.and_then(|x| t.text_of(x)),
                     });
@@ -243,7 +244,10 @@ pub struct TimeSummary {
     pub offset: Option<i32>,
     /// Whether offsets were written (the page then writes them too).
     pub zoned: bool,
+    /// The precision the values were written with (the exports write them so).
     pub precision: timecol::Precision,
+    /// The coarsest precision that writes every value exactly (the page shows them so).
+    pub shown: timecol::Precision,
     pub first: Option<String>,
     pub last: Option<String>,
 }

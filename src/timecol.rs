@@ -159,12 +159,17 @@ pub enum Precision {
 
 impl Precision {
     /// The coarsest precision that writes `local` (a clock as written) exactly.
+    #[inline]
     fn of(local: f64, zoned: bool) -> Precision {
         if local.fract() != 0.0 {
-            Precision::Fraction
-        } else if local.rem_euclid(60.0) != 0.0 {
+            return Precision::Fraction;
+        }
+        // Whole seconds of years 0001-9999 fit an i64 exactly; integer remainders are far
+        // cheaper than f64's (a call in wasm).
+        let whole = local as i64;
+        if whole % 60 != 0 {
             Precision::Second
-        } else if zoned || local.rem_euclid(DAY as f64) != 0.0 {
+        } else if zoned || whole.rem_euclid(DAY) != 0 {
             Precision::Minute
         } else {
             Precision::Day
@@ -178,21 +183,26 @@ pub struct Times {
     /// Seconds since 1970-01-01 00:00 UTC; `NaN` marks a missing value.
     pub seconds: Arc<Vec<f64>>,
     pub zone: Zone,
+    /// The finest unit written (exports write the values so).
     pub precision: Precision,
+    /// The coarsest precision that writes every value exactly (at least minutes when
+    /// offsets are written): the page shows instants to it, so a file that writes `:00`
+    /// seconds on every value is shown to the minute (and exported as written).
+    pub shown: Precision,
 }
 
 impl Times {
-    /// Times from instants and their zone; the precision is the coarsest that writes every
-    /// value exactly (at least minutes when offsets are written).
+    /// Times from instants and their zone; both precisions are the coarsest that writes
+    /// every value exactly (at least minutes when offsets are written).
     pub fn new(seconds: Vec<f64>, zone: Zone) -> Times {
-        let mut t = Times { seconds: Arc::new(seconds), zone, precision: Precision::Day };
+        let mut t = Times { seconds: Arc::new(seconds), zone, precision: Precision::Day, shown: Precision::Day };
         t.precision = t.needed_precision();
+        t.shown = t.precision;
         t
     }
 
-    /// The coarsest precision that writes every value exactly (at least minutes when
-    /// offsets are written); the page shows instants to it (a file that writes `:00`
-    /// seconds on every value is shown to the minute, and exported as written).
+    /// The coarsest precision that writes every value exactly (see `shown`), found from
+    /// the values.
     pub fn needed_precision(&self) -> Precision {
         let written = self.zone.written();
         let mut precision = Precision::Day;
@@ -261,7 +271,7 @@ impl Times {
             Zone::PerRow(v) => Zone::PerRow(Arc::new(rows.iter().map(|r| r.map_or(0, |r| v[r])).collect())),
             z => z.clone(),
         };
-        Times { seconds: Arc::new(seconds), zone, precision: self.precision }
+        Times { seconds: Arc::new(seconds), zone, precision: self.precision, shown: self.shown }
     }
 
     /// Hour of the day as written, per row.
@@ -347,9 +357,11 @@ impl TimeColumn {
                 codes.iter().map(|&c| if c == MISSING_CODE { 0 } else { self.levels[c as usize].offset }).collect(),
             )),
         };
-        // As written: a file that writes seconds gets its seconds back.
+        // As written: a file that writes seconds gets its seconds back; shown to the unit
+        // the values need (found per distinct text, not per row).
         let precision = self.levels.iter().map(|s| s.written).max().unwrap_or(Precision::Day);
-        Times { seconds: Arc::new(seconds), zone, precision }
+        let shown = self.levels.iter().map(|s| Precision::of(s.local, s.zoned)).max().unwrap_or(Precision::Day);
+        Times { seconds: Arc::new(seconds), zone, precision, shown }
     }
 }
 

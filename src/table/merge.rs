@@ -316,8 +316,12 @@ fn stack_times(parts: &[&Part], name: &str, total: usize) -> ColumnData {
         }
     }
     let zone = if one_zone { first } else { Zone::PerRow(std::sync::Arc::new(offsets)) };
-    let precision = parts.iter().filter_map(|p| p.table.column(name).and_then(Column::as_times)).map(|t| t.precision).max();
-    ColumnData::Time(Times { seconds: std::sync::Arc::new(seconds), precision: precision.unwrap_or(Precision::Minute), zone })
+    let times = || parts.iter().filter_map(|p| p.table.column(name).and_then(Column::as_times));
+    let precision = times().map(|t| t.precision).max().unwrap_or(Precision::Minute);
+    let shown = times().map(|t| t.shown).max().unwrap_or(Precision::Minute);
+    // Rows in UTC beside rows with an offset are written with one: at least minutes.
+    let (precision, shown) = if zone.written() { (precision.max(Precision::Minute), shown.max(Precision::Minute)) } else { (precision, shown) };
+    ColumnData::Time(Times { seconds: std::sync::Arc::new(seconds), precision, shown, zone })
 }
 
 fn stack_text(parts: &[&Part], name: &str, total: usize) -> ColumnData {

@@ -197,7 +197,7 @@ impl Column {
                         offset: t.zone.single(),
                         zoned: t.zone.written(),
                         precision: t.precision,
-                        shown: t.needed_precision(),
+                        shown: t.shown,
                         first: out.min.and_then(|x| t.text_of(x)),
                         last: out.max.and_then(|x| t.text_of(x)),
                     });

@@ -174,18 +174,7 @@ impl Column {
         match &self.data {
             ColumnData::Number(v) | ColumnData::Time(Times { seconds: v, .. }) => {
                 let fills = if self.is_time() { &[][..] } else { fill_values };
-                let mut missing = 0;
-                let (mut lo, mut hi, mut sum, mut n) = (f64::INFINITY, f64::NEG_INFINITY, 0.0, 0usize);
-                for &x in v.iter() {
-                    if x.is_nan() || fills.contains(&x) {
-                        missing += 1;
-                    } else {
-                        lo = lo.min(x);
-                        hi = hi.max(x);
-                        sum += x;
-                        n += 1;
-                    }
-                }
+                let (missing, lo, hi, sum, n) = value_stats(v, fills);
                 out.missing = missing;
                 out.min = (n > 0).then_some(lo);
                 out.max = (n > 0).then_some(hi);
@@ -216,6 +205,25 @@ impl Column {
         }
         out
     }
+}
+
+/// Missing values (`NaN` or one of `fills`), and the least, greatest and sum of the others
+/// with their count.
+#[inline(never)]
+fn value_stats(v: &[f64], fills: &[f64]) -> (usize, f64, f64, f64, usize) {
+    let mut missing = 0;
+    let (mut lo, mut hi, mut sum, mut n) = (f64::INFINITY, f64::NEG_INFINITY, 0.0, 0usize);
+    for &x in v {
+        if x.is_nan() || fills.contains(&x) {
+            missing += 1;
+        } else {
+            lo = lo.min(x);
+            hi = hi.max(x);
+            sum += x;
+            n += 1;
+        }
+    }
+    (missing, lo, hi, sum, n)
 }
 
 /// Share of a text column's present cells that must be numbers before the page offers to

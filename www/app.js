@@ -597,7 +597,8 @@ function columnWords(c, derived) {
     kind = derived ? "derived number" : "number";
     title = c.name + " (numbers)";
   } else {
-    kind = "category" + (c.levels !== null && c.levels !== undefined ? " · " + plural(c.levels, "value", "values") : "");
+    // A narrow no-break space inside the count: "4 043 values" never breaks after the 4.
+    kind = "category" + (c.levels !== null && c.levels !== undefined ? " · " + plural(c.levels, "value", "values").replace(/\u2009/g, "\u202f") : "");
     title = c.name + " (text values)";
     if (c.textInNumbers) title += "; read as text because data row " + c.textInNumbers.row + " holds “" + c.textInNumbers.text + "”";
   }

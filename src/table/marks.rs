@@ -21,7 +21,9 @@
 //!   case changes (`SampleNumber` → sample, number), compared in lower case;
 //! - **identifier, text**: a text column with at least [`MIN_LABELS`] levels that are at
 //!   least half as many as its present values (sample codes), or with more than
-//!   [`MANY_LEVELS`] levels (tail numbers): too many to colour by or to compare;
+//!   [`MANY_LEVELS`] levels (tail numbers): too many to colour by or to compare; but not
+//!   a text column whose present cells are mostly numbers ([`super::MOSTLY_NUMBERS`]): that
+//!   is a measurement with a few text cells, which the page offers to read as missing;
 //! - a time column is never an identifier (its values are instants, however distinct);
 //!   it is a constant when every present instant is the same.
 
@@ -104,6 +106,9 @@ fn text_mark(codes: &[u32], levels: &[String]) -> Option<Mark> {
     if used == 1 {
         let only = codes.iter().find(|&&c| c != MISSING_CODE).map(|&c| levels[c as usize].clone())?;
         return Some(Mark::Constant { value: only });
+    }
+    if super::cells::number_share(codes, levels).is_some_and(|share| share >= super::MOSTLY_NUMBERS) {
+        return None;
     }
     if used > MANY_LEVELS {
         return Some(Mark::Identifier { why: format!("{used} distinct texts") });
@@ -258,5 +263,10 @@ mod tests {
         assert!(matches!(text(&ids), Some(Mark::Identifier { .. })));
         let groups: Vec<&str> = (0..300).map(|i| ["EWR", "JFK", "LGA"][i % 3]).collect();
         assert_eq!(text(&groups), None);
+        // Measurements with a stray text cell are not labels, however distinct.
+        let mut measured: Vec<String> = (0..100).map(|i| format!("{}", i as f64 * 0.37)).collect();
+        measured[4] = "n/a".into();
+        let measured: Vec<&str> = measured.iter().map(String::as_str).collect();
+        assert_eq!(text(&measured), None);
     }
 }

@@ -367,6 +367,23 @@ mod tests {
         assert_eq!(t.numbers("model_x", "").unwrap(), &[6.0]);
     }
 
+    /// Time columns (typed on read) align on their instants, whatever their written zone,
+    /// and the model's other time columns come across as time.
+    #[test]
+    fn time_columns_align_on_instants() {
+        let meas = csv("m", "t,x\n2024-07-15T02:00:30+02:00,1\n2024-07-15T03:00+02:00,2\n");
+        let model = csv("o", "t,x,seen\n2024-07-15T00:00Z,5,2024/07/14 23:59\n2024-07-15T00:01Z,7,2024/07/15 00:01\n");
+        assert!(meas.column("t").unwrap().is_time() && model.column("seen").unwrap().is_time());
+        let (t, r) = align(&meas, &model, &spec(Method::Nearest { tolerance: Some(60.0) }, false)).unwrap();
+        assert_eq!(t.numbers("model_x", "").unwrap()[0], 5.0, "02:00:30+02:00 is 00:00:30Z: the tie takes the earlier");
+        assert!(t.numbers("model_x", "").unwrap()[1].is_nan(), "an hour from any model row");
+        assert_eq!(r.matched, 1);
+        let seen = t.column("model_seen").unwrap().as_times().expect("stays a time column");
+        assert_eq!(seen.text(0).as_deref(), Some("2024-07-14T23:59"));
+        let (t, _) = align(&meas, &model, &spec(Method::Linear { max_gap: None }, false)).unwrap();
+        assert_eq!(t.numbers("model_x", "").unwrap()[0], 6.0);
+    }
+
     #[test]
     fn errors_name_the_field() {
         let meas = csv("m", "t,x\n1,2\n");

@@ -17,8 +17,9 @@
 //!   model rows around them are farther apart than that. Category columns of the model take
 //!   the nearest row's value (no tolerance). Checked against numpy in the same fixture.
 //!
-//! Time columns are numbers (seconds, as the ICARTT reader makes) or date-time text (read
-//! by [`crate::timecol`] as seconds since 1970). The model's columns are added with a
+//! Time columns are time columns (the readers type date-times and ICARTT's `time_utc` so),
+//! numbers (taken as seconds since 1970 UTC), or date-time text (read by [`crate::timecol`];
+//! a text column the reader did not type as time gives its reason here). The model's columns are added with a
 //! prefix (`model_` by default, made unique). Variables present in both tables by the same
 //! name become [`Pair`]s, from which [`differences`] makes derived columns
 //! (measurement minus model).
@@ -116,6 +117,7 @@ pub fn time_of(table: &Table, name: &str, field: &str) -> Result<Vec<f64>> {
     let col = table.column(name).ok_or_else(|| Error::settings(field, format!("no column named '{name}' in {}", table.name)))?;
     match &col.data {
         ColumnData::Number(v) => Ok(v.to_vec()),
+        ColumnData::Time(t) => Ok(t.seconds.to_vec()),
         ColumnData::Category { codes, .. } => {
             let t = timecol::parse_column(col).map_err(|why| Error::settings(field, format!("{}: {why}", table.name)))?;
             Ok(t.map(codes, timecol::Stamp::seconds))
@@ -137,6 +139,7 @@ fn key_ids(table: &Table, name: Option<&str>, field: &str, ids: &mut HashMap<Str
             codes.iter().map(|&c| (c != MISSING_CODE).then(|| per_level[c as usize])).collect()
         }
         ColumnData::Number(v) => v.iter().map(|x| (!x.is_nan()).then(|| id(format!("{x}")))).collect(),
+        ColumnData::Time(t) => (0..t.len()).map(|i| t.text(i).map(&mut id)).collect(),
     })
 }
 
@@ -195,6 +198,7 @@ fn take(col: &Column, rows: &[Option<usize>]) -> ColumnData {
         ColumnData::Category { codes, levels } => {
             ColumnData::categories(rows.iter().map(|r| r.map_or(MISSING_CODE, |r| codes[r])).collect(), levels.clone())
         }
+        ColumnData::Time(t) => ColumnData::Time(t.take(rows)),
     }
 }
 
@@ -270,7 +274,7 @@ pub fn align(meas: &Table, model: &Table, spec: &AlignSpec) -> Result<(Table, Al
             report.pairs.push(Pair { measurement: col.name.clone(), model: new_name.clone() });
         }
         report.added.push(new_name.clone());
-        columns.push(Column { name: new_name, data, first_text: None, unit: col.unit.clone() });
+        columns.push(Column::of(new_name, data).with_unit(col.unit.clone()));
     }
     report.matched = match spec.method {
         Method::Nearest { .. } => near.iter().filter(|r| r.is_some()).count(),
@@ -361,6 +365,23 @@ mod tests {
         let (t, _) = align(&meas, &model, &s).unwrap();
         // 2024-07-15T00:00:00Z is 1721001600 s (Python datetime).
         assert_eq!(t.numbers("model_x", "").unwrap(), &[6.0]);
+    }
+
+    /// Time columns (typed on read) align on their instants, whatever their written zone,
+    /// and the model's other time columns come across as time.
+    #[test]
+    fn time_columns_align_on_instants() {
+        let meas = csv("m", "t,x\n2024-07-15T02:00:30+02:00,1\n2024-07-15T03:00+02:00,2\n");
+        let model = csv("o", "t,x,seen\n2024-07-15T00:00Z,5,2024/07/14 23:59\n2024-07-15T00:01Z,7,2024/07/15 00:01\n");
+        assert!(meas.column("t").unwrap().is_time() && model.column("seen").unwrap().is_time());
+        let (t, r) = align(&meas, &model, &spec(Method::Nearest { tolerance: Some(60.0) }, false)).unwrap();
+        assert_eq!(t.numbers("model_x", "").unwrap()[0], 5.0, "02:00:30+02:00 is 00:00:30Z: the tie takes the earlier");
+        assert!(t.numbers("model_x", "").unwrap()[1].is_nan(), "an hour from any model row");
+        assert_eq!(r.matched, 1);
+        let seen = t.column("model_seen").unwrap().as_times().expect("stays a time column");
+        assert_eq!(seen.text(0).as_deref(), Some("2024-07-14T23:59"));
+        let (t, _) = align(&meas, &model, &spec(Method::Linear { max_gap: None }, false)).unwrap();
+        assert_eq!(t.numbers("model_x", "").unwrap()[0], 6.0);
     }
 
     #[test]

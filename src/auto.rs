@@ -255,7 +255,7 @@ fn choose_columns(table: &Table, fills: &[f64], seed: u64) -> (Vec<String>, Vec<
     let mut left_out = Vec::new();
     let mut candidates: Vec<usize> = Vec::new();
     for (j, c) in table.columns.iter().enumerate() {
-        let Some(v) = c.as_numbers() else { continue };
+        let Some(v) = c.as_numbers().filter(|_| !c.is_time()) else { continue };
         let out = |reason, why: String| LeftOut { column: c.name.clone(), reason, why };
         match mark(c) {
             Some(Mark::Identifier { why }) => {

@@ -210,6 +210,12 @@ pub struct NodeColumn {
     /// For a category column: the most common value and its share of the node's rows.
     pub top: Option<String>,
     pub top_share: Option<f64>,
+    /// For a time column: the node's first and last instants, as ISO 8601 text in the
+    /// column's zone (`min` and `max` are the same instants in seconds).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub first: Option<String>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub last: Option<String>,
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize)]
@@ -557,8 +563,9 @@ impl Workbench {
     }
 
     /// One value per node of the last build: for a numeric column the statistic over the
-    /// node's rows that have a value (NaN if none has); for a category column the share
-    /// of the node's most common value.
+    /// node's rows that have a value (NaN if none has); for a time column the same over
+    /// its seconds since 1970 UTC (fill values do not apply); for a category column the
+    /// share of the node's most common value.
     /// Missing cells (the column's fill values, see [`crate::settings::Missing`]) are
     /// skipped, never replaced by a median fill: a node's statistic describes the values
     /// in the file. A category column gives the dominant share whatever `stat` is.
@@ -577,6 +584,11 @@ impl Workbench {
                 ColumnData::Number(v) => {
                     buf.clear();
                     buf.extend(n.members.iter().map(|&r| v[r as usize]).filter(|x| !points::is_missing(*x, fills)));
+                    stat.of(&mut buf)
+                }
+                ColumnData::Time(t) => {
+                    buf.clear();
+                    buf.extend(n.members.iter().map(|&r| t.seconds[r as usize]).filter(|x| !x.is_nan()));
                     stat.of(&mut buf)
                 }
                 ColumnData::Category { codes, levels } => dominant(codes, levels.len(), &n.members).map_or(f64::NAN, |(_, share)| share),
@@ -643,6 +655,25 @@ impl Workbench {
                         missing: n.members.len() - k,
                         top: None,
                         top_share: None,
+                        first: None,
+                        last: None,
+                    }
+                }
+                ColumnData::Time(t) => {
+                    let vals: Vec<f64> = n.members.iter().map(|&r| t.seconds[r as usize]).filter(|x| !x.is_nan()).collect();
+                    let k = vals.len();
+                    let (min, max) = (vals.iter().cloned().reduce(f64::min), vals.iter().cloned().reduce(f64::max));
+                    NodeColumn {
+                        name: c.name.clone(),
+                        kind: "time",
+                        mean: (k > 0).then(|| vals.iter().sum::<f64>() / k as f64),
+                        min,
+                        max,
+                        missing: n.members.len() - k,
+                        top: None,
+                        top_share: None,
+                        first: min.and_then(|x| t.text_of(x)),
+                        last: max.and_then(|x| t.text_of(x)),
                     }
                 }
                 ColumnData::Category { codes, levels } => {
@@ -656,6 +687,8 @@ impl Workbench {
                         missing: n.members.iter().filter(|&&r| codes[r as usize] == MISSING_CODE).count(),
                         top: top.map(|(c, _)| levels[c as usize].clone()),
                         top_share: top.map(|(_, s)| s),
+                        first: None,
+                        last: None,
                     }
                 }
             })
@@ -714,7 +747,8 @@ impl Workbench {
     }
 
     /// The values of `columns` (every column when empty) at table rows `rows`, for the
-    /// page's row table; pass the first rows you want to show.
+    /// page's row table; pass the first rows you want to show. Times are ISO 8601 text as
+    /// written in their zone ([`crate::timecol::Times::text`]).
     pub fn row_values(&self, rows: &[u32], columns: &[String]) -> Result<RowValues> {
         let table = self.need_table()?;
         let missing = self.last.as_ref().map(|b| b.settings.missing.clone()).unwrap_or_default();
@@ -739,6 +773,7 @@ impl Workbench {
                             MISSING_CODE => serde_json::Value::Null,
                             k => serde_json::Value::String(levels[k as usize].clone()),
                         },
+                        ColumnData::Time(t) => t.text(r as usize).map_or(serde_json::Value::Null, serde_json::Value::String),
                     })
                     .collect()
             })
@@ -1170,20 +1205,26 @@ fn settings_warnings(s: &Settings, rows: usize) -> Vec<String> {
 fn opened_node_detail(f: &crate::graphfile::GraphFile, b: &Build, node: usize) -> Result<NodeDetail> {
     use crate::graphfile::ColumnStats;
     let rec = f.nodes.get(node).ok_or_else(|| Error::Data(format!("there is no node {node}; the graph has {}", f.nodes.len())))?;
+    let time_of = |name: &str| f.table.as_ref().and_then(|t| t.columns.iter().find(|c| c.name == name)).and_then(|c| c.time.as_ref());
     let columns = f
         .statistics
         .iter()
         .map(|c| match c {
-            ColumnStats::Number { name, mean, min, max, missing, .. } => NodeColumn {
-                name: name.clone(),
-                kind: "number",
-                mean: mean[node],
-                min: min[node],
-                max: max[node],
-                missing: missing[node] as usize,
-                top: None,
-                top_share: None,
-            },
+            ColumnStats::Number { name, mean, min, max, missing, .. } => {
+                let time = time_of(name);
+                NodeColumn {
+                    name: name.clone(),
+                    kind: if time.is_some() { "time" } else { "number" },
+                    mean: mean[node],
+                    min: min[node],
+                    max: max[node],
+                    missing: missing[node] as usize,
+                    top: None,
+                    top_share: None,
+                    first: time.and_then(|t| min[node].and_then(|x| t.text_of(x))),
+                    last: time.and_then(|t| max[node].and_then(|x| t.text_of(x))),
+                }
+            }
             ColumnStats::Category { name, levels, top, top_share, missing, .. } => NodeColumn {
                 name: name.clone(),
                 kind: "category",
@@ -1193,6 +1234,8 @@ fn opened_node_detail(f: &crate::graphfile::GraphFile, b: &Build, node: usize) -
                 missing: missing[node] as usize,
                 top: top[node].map(|k| levels[k as usize].clone()),
                 top_share: top_share[node],
+                first: None,
+                last: None,
             },
         })
         .collect();

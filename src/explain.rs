@@ -2,7 +2,9 @@
 //! column (file and derived) is compared between the group's rows and all other rows of
 //! the table, and the columns are ranked by how much they differ.
 //!
-//! Numeric columns: two measures per column, each over the rows with a value in it:
+//! Numeric columns (time columns among them, as seconds since 1970 UTC: a standardised
+//! difference and KS do not depend on the unit), two measures per column, each over the
+//! rows with a value in it:
 //! - the standardised mean difference d = (mean_in - mean_out) / s_p, with s_p the pooled
 //!   standard deviation sqrt(((n_in - 1) s_in² + (n_out - 1) s_out²) / (n_in + n_out - 2)),
 //!   s² the sample variances (ddof 1): Cohen's d (Cohen 1988, *Statistical Power Analysis
@@ -84,7 +86,8 @@ impl SortedColumns {
             .columns
             .iter()
             .map(|c| match &c.data {
-                ColumnData::Number(v) => {
+                ColumnData::Number(v) | ColumnData::Time(crate::timecol::Times { seconds: v, .. }) => {
+                    let fill_values = if c.is_time() { &[][..] } else { fill_values };
                     let mut rows: Vec<u32> = (0..v.len() as u32).filter(|&r| !is_missing(v[r as usize], fill_values)).collect();
                     rows.sort_unstable_by(|&a, &b| v[a as usize].total_cmp(&v[b as usize]));
                     Some(rows)
@@ -120,7 +123,7 @@ pub fn contrast(table: &Table, sorted: &SortedColumns, in_group: &[bool]) -> Vec
         .iter()
         .zip(&sorted.orders)
         .filter_map(|(c, order)| {
-            let (ColumnData::Number(v), Some(order)) = (&c.data, order) else { return None };
+            let (Some(v), Some(order)) = (c.as_numbers(), order) else { return None };
             let (mut a, mut b) = (Vec::new(), Vec::new());
             for &r in order {
                 if in_group[r as usize] {
@@ -176,7 +179,7 @@ pub fn category_contrast(table: &Table, in_group: &[bool]) -> Vec<CategoryContra
         .iter()
         .filter_map(|c| match &c.data {
             ColumnData::Category { codes, levels } => Some(category::contrast_codes(&c.name, levels, codes, in_group)),
-            ColumnData::Number(_) => None,
+            ColumnData::Number(_) | ColumnData::Time(_) => None,
         })
         .collect();
     category::rank(&mut out);

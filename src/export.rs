@@ -9,15 +9,17 @@
 //!   ([`colour_attributes`]): for a number column its node statistic (double, named after
 //!   the column for the mean, `column (median)`, `column (spread)` or `column (share
 //!   above T)` otherwise), for a category column the most common level (string, named
-//!   after the column) and its share (double, `column (share)`); no value is written for
-//!   a node without one;
+//!   after the column) and its share (double, `column (share)`), for a time column the
+//!   mean or median instant as ISO 8601 text (string, in the column's zone) and a spread
+//!   or share as a double (the spread in seconds, `column (spread, s)`); no value is
+//!   written for a node without one;
 //!   edge attribute `shared` (int, rows the two nodes share); graph attribute `settings`
 //!   (string, the settings JSON that rebuilds the graph). Checked with NetworkX's reader.
 //! - Memberships CSV: header `data_row,node`, then one line per (row, node) membership,
 //!   by node then row; `data_row` counts the file's data rows from 1 (the header not
 //!   counted), `node` is the node's index (the `n` number of the GraphML id).
-//! - A short text report: the settings, the summary and the caution that goes with any
-//!   Mapper graph.
+//! - A short text report: the settings, the summary (a time lens's range as ISO 8601 text)
+//!   and the caution that goes with any Mapper graph.
 //!
 //! What it is not: a reader of these formats (settings are read back from the JSON).
 
@@ -26,7 +28,8 @@ use std::fmt::Write as _;
 
 use crate::engine::{Build, NodeStat, Workbench};
 use crate::error::Result;
-use crate::table::ColumnData;
+use crate::settings::Lens;
+use crate::table::{ColumnData, Table};
 
 /// One node attribute of a GraphML export: a name and one value per node (`NaN` or `None`
 /// for a node without one).
@@ -47,7 +50,20 @@ pub enum AttributeValues {
 /// colours by ([`Workbench::node_values`]).
 pub fn colour_attributes(bench: &Workbench, column: &str, stat: NodeStat) -> Result<Vec<NodeAttribute>> {
     let values = bench.node_values(column, stat)?;
-    let levels = match bench.table().and_then(|t| t.column(column)).map(|c| &c.data) {
+    let data = bench.table().and_then(|t| t.column(column)).map(|c| &c.data);
+    if let Some(ColumnData::Time(t)) = data {
+        return Ok(vec![match stat {
+            NodeStat::Mean | NodeStat::Median => NodeAttribute {
+                name: if stat == NodeStat::Mean { column.to_string() } else { format!("{column} (median)") },
+                values: AttributeValues::Text(values.iter().map(|&x| t.text_of(x)).collect()),
+            },
+            NodeStat::Spread => NodeAttribute { name: format!("{column} (spread, s)"), values: AttributeValues::Double(values) },
+            NodeStat::ShareAbove { threshold } => {
+                NodeAttribute { name: format!("{column} (share above {threshold})"), values: AttributeValues::Double(values) }
+            }
+        }]);
+    }
+    let levels = match data {
         Some(ColumnData::Category { levels, .. }) => Some(levels.clone()),
         _ => None,
     };
@@ -176,8 +192,9 @@ pub fn single_nodes_note(s: &crate::engine::Summary) -> String {
 }
 
 /// A short plain-text account of a build: what file, which settings, what came out, and
-/// the caution that goes with any Mapper graph.
-pub fn report(b: &Build, file_name: &str) -> String {
+/// the caution that goes with any Mapper graph. With the `table` the graph was built from,
+/// a lens that is a time column has its range written as ISO 8601 text.
+pub fn report(b: &Build, file_name: &str, table: Option<&Table>) -> String {
     let s = &b.summary;
     let mut t = String::new();
     let _ = writeln!(t, "Nervure graph of {file_name}\n");
@@ -206,7 +223,19 @@ pub fn report(b: &Build, file_name: &str) -> String {
         );
     }
     let _ = writeln!(t, "Cover elements holding rows: {}; rows in no node (noise): {}", s.elements, s.noise_rows);
-    let _ = writeln!(t, "Lens range: {} to {}", b.lens_range.0, b.lens_range.1);
+    let lens_times = match &b.settings.lens {
+        Lens::Column { column } => table.and_then(|t| t.column(column)).and_then(|c| c.as_times().map(|t| (column, t))),
+        _ => None,
+    };
+    match lens_times {
+        Some((column, times)) => {
+            let text = |x: f64| times.text_of(x).unwrap_or_else(|| "—".into());
+            let _ = writeln!(t, "Lens range: {} to {} (time column '{column}', {})", text(b.lens_range.0), text(b.lens_range.1), times.zone.label());
+        }
+        None => {
+            let _ = writeln!(t, "Lens range: {} to {}", b.lens_range.0, b.lens_range.1);
+        }
+    }
     let _ = writeln!(t, "\nSettings (load this to rebuild the same graph):\n{}\n", b.settings.to_json());
     t.push_str(
         "Caution: a Mapper graph depends on its settings (the lens, the number of intervals and \
@@ -243,7 +272,7 @@ mod tests {
         s.denoise = Some(Denoise { measure: DenoiseMeasure::NeighbourDistance, k: 3, quantile: 0.95 });
         let b = crate::engine::build(&t, &s).unwrap();
         assert_eq!(b.summary.rows_set_aside, 1);
-        let r = report(&b, "t.csv");
+        let r = report(&b, "t.csv", None);
         assert!(r.contains("Rows set aside before the filter: 1 (their k-th neighbour distance with k = 3 lies above its 0.95 quantile)"), "{r}");
         assert!(crate::graphfile::GraphFile::of_build(&b, &t, true).to_json().contains("\"rowsSetAside\":1"));
     }
@@ -327,10 +356,33 @@ mod tests {
         assert!(body.iter().all(|(r, _)| *r >= 1 && *r <= 40));
     }
 
+    /// A time column as the lens and the colour: the report's lens range and the GraphML
+    /// colour attribute are ISO 8601 text in the column's zone.
+    #[test]
+    fn times_are_written_as_iso_text() {
+        // Hourly from 2024-07-15T00:00+02:00 (1720994400 s, common practice: `date -u -d 2024-07-14T22:00Z +%s`).
+        let start = 1_720_994_400.0;
+        let x: Vec<f64> = (0..40).map(|i| if i < 20 { i as f64 * 0.1 } else { 10.0 + (i - 20) as f64 * 0.1 }).collect();
+        let when: Vec<f64> = (0..40).map(|i| start + i as f64 * 3600.0).collect();
+        let t = Table::from_columns("t", vec![Column::number("x", x.clone()), Column::time("when", when, crate::timecol::Zone::Offset(7200))]).unwrap();
+        let s = Settings::plain(vec!["x".into()], Lens::Column { column: "when".into() }, CoverSettings::uniform(8, 0.3), Clustering::Dbscan { eps: 0.3, min_points: 1 });
+        let mut w = Workbench::new();
+        w.set_table(t.clone());
+        w.run(&s, &mut |_, _| {}).unwrap();
+        let b = w.last().unwrap();
+        let r = report(b, "t.csv", Some(&t));
+        assert!(r.contains("Lens range: 2024-07-15T00:00+02:00 to 2024-07-16T15:00+02:00 (time column 'when', +02:00)"), "{r}");
+        let attrs = colour_attributes(&w, "when", NodeStat::Mean).unwrap();
+        let AttributeValues::Text(texts) = &attrs[0].values else { panic!("a time colour is text") };
+        assert!(texts.iter().all(|t| t.as_deref().is_some_and(|t| t.starts_with("2024-07-1") && t.ends_with("+02:00"))), "{texts:?}");
+        let g = graphml(b, &attrs);
+        assert!(g.contains("attr.name=\"when\" attr.type=\"string\""));
+    }
+
     #[test]
     fn report_carries_settings_summary_and_caution() {
         let b = small_build();
-        let r = report(&b, "arcs.csv");
+        let r = report(&b, "arcs.csv", None);
         assert!(r.contains("arcs.csv"));
         assert!(r.contains(&format!("Nodes: {}, edges: {}", b.summary.nodes, b.summary.edges)));
         assert!(r.contains("hypothesis"));
@@ -345,7 +397,7 @@ mod tests {
         let mut b = small_build();
         b.summary.components = 12;
         b.summary.single_node_components = 9;
-        assert!(report(&b, "t.csv").contains("connected components: 12 (9 of them single nodes), independent loops"));
+        assert!(report(&b, "t.csv", None).contains("connected components: 12 (9 of them single nodes), independent loops"));
         let mut note = |k: usize, c: usize| {
             b.summary.single_node_components = k;
             b.summary.components = c;

@@ -20,6 +20,7 @@ use crate::graph::{Edge, Nerve, Node};
 use crate::points;
 use crate::settings::{Missing, Settings};
 use crate::table::{ColumnData, Table, MISSING_CODE};
+use crate::timecol::Times;
 
 /// The value of the `format` field.
 pub const GRAPH_FORMAT: &str = "nervure-graph";
@@ -44,10 +45,14 @@ pub struct TableInfo {
 #[serde(rename_all = "camelCase")]
 pub struct ColumnInfo {
     pub name: String,
-    /// "number" or "category".
+    /// "number", "time" or "category".
     pub kind: String,
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub unit: Option<String>,
+    /// For a time column: its zone and precision, first and last instants (the column
+    /// list's summary); its statistics are of the instants in seconds since 1970 UTC.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub time: Option<crate::table::TimeSummary>,
 }
 
 /// Where the cover cut the filter's range: `[lo, hi]` and the intervals, per filter.
@@ -166,8 +171,9 @@ pub fn node_statistics(table: &Table, nodes: &[Node], missing: &Missing) -> Vec<
 fn column_statistics(name: &str, unit: Option<String>, data: &ColumnData, nodes: &[Node], missing: &Missing) -> ColumnStats {
     let some = |x: f64| x.is_finite().then_some(x);
     match data {
-        ColumnData::Number(v) => {
-            let fills = missing.fills_for(name);
+        ColumnData::Number(v) | ColumnData::Time(Times { seconds: v, .. }) => {
+            // A time column's statistics are of its instants; fill values are numbers'.
+            let fills = if matches!(data, ColumnData::Time(_)) { &[][..] } else { missing.fills_for(name) };
             let k = nodes.len();
             let (mut mean, mut median, mut spread, mut min, mut max, mut miss) =
                 (Vec::with_capacity(k), Vec::with_capacity(k), Vec::with_capacity(k), Vec::with_capacity(k), Vec::with_capacity(k), Vec::with_capacity(k));
@@ -315,8 +321,17 @@ impl GraphFile {
                     .iter()
                     .map(|c| ColumnInfo {
                         name: c.name.clone(),
-                        kind: if matches!(c.data, ColumnData::Number(_)) { "number" } else { "category" }.into(),
+                        kind: match c.data {
+                            ColumnData::Number(_) => "number",
+                            ColumnData::Time(_) => "time",
+                            ColumnData::Category { .. } => "category",
+                        }
+                        .into(),
                         unit: c.unit.clone(),
+                        time: c.as_times().map(|t| {
+                            let (lo, hi) = t.seconds.iter().filter(|x| !x.is_nan()).fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), &x| (lo.min(x), hi.max(x)));
+                            crate::table::TimeSummary::new(t, lo.is_finite().then_some(lo), hi.is_finite().then_some(hi))
+                        }),
                     })
                     .collect(),
             }),
@@ -596,6 +611,37 @@ mod tests {
         }
         assert!(f.column("kind").unwrap().values(NodeStat::ShareAbove { threshold: 1.0 }).is_ok());
         assert!(f.column("x").unwrap().values(NodeStat::ShareAbove { threshold: 1.0 }).unwrap_err().to_string().contains("not in the tab"));
+    }
+
+    /// A time column's statistics are its instants; the graph file opened with no table
+    /// gives each node the same first and last instants, as text, as the table did.
+    #[test]
+    fn a_time_column_keeps_its_instants_and_zone() {
+        let (t, b) = small();
+        let when: Vec<f64> = (0..60).map(|i| 1_700_000_000.0 + 3600.0 * i as f64).collect();
+        let mut columns = t.columns.clone();
+        columns.push(Column::of("when", ColumnData::times(when, crate::timecol::Zone::Offset(7200))));
+        let t = Table::from_columns("arcs.csv", columns).unwrap();
+        let f = GraphFile::of_build(&b, &t, true);
+        let info = f.table.as_ref().unwrap().columns.iter().find(|c| c.name == "when").unwrap();
+        assert_eq!((info.kind.as_str(), info.time.as_ref().map(|z| z.offset)), ("time", Some(Some(7200))));
+        let mut live = crate::Workbench::new();
+        live.set_table(t);
+        live.run(&b.settings, &mut |_, _| {}).unwrap();
+        let mut opened = crate::Workbench::new();
+        opened.open_graph(GraphFile::from_json(&f.to_json(), "g.json").unwrap());
+        for node in 0..b.nerve.nodes.len() {
+            let pick = |w: &crate::Workbench| {
+                let d = w.node_detail(node).unwrap();
+                let c = d.columns.into_iter().find(|c| c.name == "when").unwrap();
+                (c.kind, c.min, c.max, c.first, c.last)
+            };
+            let (kind, min, _, first, last) = pick(&live);
+            assert_eq!(kind, "time");
+            assert!(first.as_deref().unwrap().ends_with("+02:00") && last.is_some(), "{first:?}");
+            assert_eq!(min, Some(1_700_000_000.0 + 3600.0 * b.nerve.nodes[node].members[0] as f64));
+            assert_eq!(pick(&live), pick(&opened), "node {node}");
+        }
     }
 
     #[test]

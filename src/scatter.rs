@@ -49,6 +49,7 @@ pub struct ScatterData {
 fn numeric<'a>(table: &'a Table, name: &str, axis: &str) -> Result<&'a [f64]> {
     match table.column(name).map(|c| &c.data) {
         Some(ColumnData::Number(v)) => Ok(v),
+        Some(ColumnData::Time(t)) => Ok(&t.seconds),
         Some(_) => Err(Error::settings(format!("scatter.{axis}"), format!("'{name}' is a category column; choose a numeric column"))),
         None => Err(Error::settings(format!("scatter.{axis}"), format!("no column named '{name}'"))),
     }

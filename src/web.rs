@@ -524,7 +524,7 @@ impl Engine {
                 Err(fail("this graph file was written without its member rows, so there are no memberships to export"))
             }
             "memberships" => Ok(crate::export::memberships_csv(build)),
-            "report" => Ok(crate::export::report(build, file_name)),
+            "report" => Ok(crate::export::report(build, file_name, self.bench.table())),
             other => Err(fail(format!("internal: unknown export format '{other}'"))),
         }
     }

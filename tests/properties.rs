@@ -134,6 +134,12 @@ proptest! {
                         prop_assert_eq!(&levels[code as usize], &cell.written());
                     }
                 }
+                ColumnData::Time(_) => {
+                    for (i, cell) in cells.iter().enumerate() {
+                        let written = cell.written();
+                        prop_assert!(nervure::timecol::parse(&written, Some(nervure::timecol::DayOrder::DayFirst)).is_ok() || nervure::timecol::parse(&written, Some(nervure::timecol::DayOrder::MonthFirst)).is_ok(), "row {}: {:?} read as time", i, written);
+                    }
+                }
             }
         }
     }

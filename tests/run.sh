@@ -12,9 +12,10 @@ need_node_modules
 need_python_reader
 need_open_tables
 
-# This run's logs, in a folder of its own: other checkouts may be running their tests at the
-# same time on the same machine.
-logs=$(mktemp -d "${TMPDIR:-/tmp}/nervure-test-logs.XXXXXX")
+# The logs of this run in a folder of its own: several checkouts on one machine run this
+# script at the same time, and one shared file let one run count another's results.
+logs="$(mktemp -d "${TMPDIR:-/tmp}/nervure-run.XXXXXX")"
+echo "logs of this run: $logs"
 
 step "native tests (cargo test)"
 cargo test --quiet 2>&1 | tee "$logs/cargo-test.log"

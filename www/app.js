@@ -398,15 +398,39 @@ async function setColourColumn(column) {
 
 /* ---------------------------------------------------------------- settings */
 
+/** Columns the engine reads as numbers: number columns and time columns (seconds since
+ *  1970 UTC): the lens, colour and scatter choices. */
 function numericColumns() {
+  return state.table ? state.table.columns.filter((c) => c.kind === "number" || c.kind === "time").map((c) => c.name) : [];
+}
+
+/** Number columns alone (not time): the defaults a first choice falls back on. */
+function measureColumns() {
   return state.table ? state.table.columns.filter((c) => c.kind === "number").map((c) => c.name) : [];
+}
+
+/** The column list's summary of column `name`, or null. */
+function columnSummary(name) {
+  return state.table ? state.table.columns.find((c) => c.name === name) || null : null;
+}
+
+/** The `time` part of column `name`'s summary when it is a time column, else null. */
+function timeOf(name) {
+  const c = columnSummary(name);
+  return c && c.kind === "time" ? c.time : null;
+}
+
+/** A value of column `name` as the page writes it: an instant for a time column, else a number. */
+function formatValueOf(name, x, precision) {
+  const t = timeOf(name);
+  return t ? formatInstant(x, t, precision) : formatNumber(x);
 }
 
 function defaultColourColumn() {
   const numeric = numericColumns();
   if (state.settings && state.settings.lens && state.settings.lens.kind === "column" && numeric.indexOf(state.settings.lens.column) >= 0) return state.settings.lens.column;
   const used = state.settings ? state.settings.columns.filter((c) => numeric.indexOf(c) >= 0) : [];
-  return used[0] || numeric[0] || null;
+  return used[0] || measureColumns()[0] || numeric[0] || null;
 }
 
 /** Replaces the settings after the engine has checked them; rebuilds after a pause. */
@@ -484,7 +508,7 @@ function intValue(id) {
 
 function defaultLens(kind) {
   if (kind === "principal") return { kind, component: 1 };
-  if (kind === "column") return { kind, column: numericColumns()[0] || "" };
+  if (kind === "column") return { kind, column: measureColumns()[0] || numericColumns()[0] || "" };
   if (kind === "density") return { kind, bandwidth: null };
   if (hookDefaultLens(kind)) return hookDefaultLens(kind);
   return { kind: "eccentricity", norm: "rms" };
@@ -547,27 +571,73 @@ function renderColumns() {
     box.type = "checkbox";
     box.dataset.column = c.name;
     box.checked = used.has(c.name);
-    box.disabled = c.kind !== "number";
+    box.disabled = c.kind !== "number" && c.kind !== "time";
     box.setAttribute("aria-label", "Use column " + c.name);
-    if (c.kind !== "number") box.title = "Only numeric columns can be coordinates";
+    if (box.disabled) box.title = "Only numeric and time columns can be coordinates";
     tdUse.append(box);
-    // Name on the first line, detected kind under it.
+    // Name on the first line, what it holds under it, and a mark or a note on a third.
     const tdName = el("td", "name");
     tdName.append(el("span", "column-name", c.name));
     const derived = derivedNames().has(c.name);
-    const kind = el("span", "kind", derived ? "derived number" : c.kind === "number" ? "number" : "category");
-    if (c.kind !== "number" && c.levels !== null && c.levels !== undefined) kind.textContent += " · " + plural(c.levels, "value", "values");
-    if (c.unit) kind.textContent += " · " + c.unit;
-    tdName.append(kind);
+    const words = columnWords(c, derived);
+    tdName.append(el("span", "kind", words.kind));
+    // The automatic rule's reason for leaving a numeric column out (naming its mark when it
+    // has one); else the column's mark, or why its dates stayed text.
     const out = (state.leftOut || []).find((l) => l.column === c.name);
     if (out && !box.checked) tdName.append(el("span", "left-out", "left out: " + out.why));
-    tdName.title = c.name + (c.kind === "number" ? " (numbers)" : " (text values)");
-    if (c.firstText) tdName.title += "; read as text because data row " + c.firstText.row + " holds “" + c.firstText.text + "”";
+    else if (words.note) tdName.append(el("span", "column-note" + (words.noteClass ? " " + words.noteClass : ""), words.note));
+    tdName.title = words.title;
+    tr.dataset.kind = c.kind;
+    if (c.mark) tr.dataset.mark = c.mark.kind;
     const tdMissing = el("td", "num" + (c.missing > 0 ? " has-missing" : ""), formatCount(c.missing));
-    tr.append(tdUse, tdName, tdMissing, el("td", "num", formatNumber(c.min)), el("td", "num", formatNumber(c.max)));
+    tr.append(tdUse, tdName, tdMissing);
+    if (c.kind === "time") tr.append(timeRangeCell(c));
+    else tr.append(el("td", "num", formatNumber(c.min)), el("td", "num", formatNumber(c.max)));
     tr.classList.toggle("unused", !box.checked);
     body.append(tr);
   }
+}
+
+/** What the column list says of column `c`: its kind line, an optional note (a mark, or
+ *  why dates were not read as time) and the row's tooltip. */
+function columnWords(c, derived) {
+  let kind, title;
+  if (c.kind === "time") {
+    kind = "time · " + (!c.time.zoned ? "no zone" : typeof c.time.offset !== "number" ? "offsets differ, shown in UTC" : c.time.zone);
+    title = c.name + " (time: " + (c.time.first || "—") + " to " + (c.time.last || "—") + ", " + c.time.zone + ")";
+  } else if (c.kind === "number") {
+    kind = derived ? "derived number" : "number";
+    title = c.name + " (numbers)";
+  } else {
+    // A narrow no-break space inside the count: "4 043 values" never breaks after the 4.
+    kind = "category" + (c.levels !== null && c.levels !== undefined ? " · " + plural(c.levels, "value", "values").replace(/\u2009/g, "\u202f") : "");
+    title = c.name + " (text values)";
+    if (c.textInNumbers) title += "; read as text because data row " + c.textInNumbers.row + " holds “" + c.textInNumbers.text + "”";
+  }
+  if (c.unit) kind += " · " + c.unit;
+  let note = null, noteClass = null;
+  if (c.notTime) {
+    note = "not read as time: " + c.notTime;
+    noteClass = "not-time";
+    title += "; not read as time: " + c.notTime;
+  } else if (c.mark && c.mark.kind === "identifier") {
+    note = "identifier: " + c.mark.why;
+    title += "; looks like an identifier (" + c.mark.why + "), so it is not chosen automatically";
+  } else if (c.mark && c.mark.kind === "constant") {
+    note = "constant: " + c.mark.value;
+    title += "; one value throughout (" + c.mark.value + "), so it is not chosen automatically";
+  }
+  return { kind, title, note, noteClass };
+}
+
+/** The Min and Max cells of a time column as one: its first instant over its last. */
+function timeRangeCell(c) {
+  const td = el("td", "num time-range");
+  td.colSpan = 2;
+  if (c.min === null || c.min === undefined) { td.textContent = "—"; return td; }
+  td.append(el("span", null, formatInstant(c.min, c.time)), el("span", null, formatInstant(c.max, c.time)));
+  td.title = "first " + c.time.first + ", last " + c.time.last + " (" + c.time.zone + ")";
+  return td;
 }
 
 function setOptions(select, options, value) {
@@ -728,9 +798,9 @@ function renderLegend() {
   const has = state.colour.values && state.graph;
   legend.hidden = !has;
   if (!has) return;
-  byId("legend-title").textContent = colourTitle() + unitNote(state.colour.column);
-  byId("legend-min").textContent = formatNumber(state.colour.min);
-  byId("legend-max").textContent = formatNumber(state.colour.max);
+  byId("legend-title").textContent = colourTitle() + unitNote(state.colour.column) + colourZoneNote();
+  byId("legend-min").textContent = colourValueText(state.colour.min, state.colour.max - state.colour.min);
+  byId("legend-max").textContent = colourValueText(state.colour.max, state.colour.max - state.colour.min);
   byId("legend-bar").style.backgroundImage = legendGradient();
 }
 
@@ -784,7 +854,7 @@ const view = new GraphView(byId("graph-canvas"), {
     tooltip.style.left = "0px";   // measure at full width
     tooltip.textContent = "";
     tooltip.append(el("strong", null, "Node " + i), el("span", null, plural(state.graph.nodeSizes[i], "row", "rows")));
-    if (state.colour.values) tooltip.append(el("span", null, colourShort() + ": " + formatNumber(state.colour.values[i])));
+    if (state.colour.values) tooltip.append(el("span", null, colourShort() + ": " + colourValueText(state.colour.values[i])));
     const wrap = byId("canvas-wrap").getBoundingClientRect();
     const left = Math.min(x + 16, wrap.width - tooltip.offsetWidth - 8);
     const top = y + 16 + tooltip.offsetHeight > wrap.height ? y - tooltip.offsetHeight - 12 : y + 16;
@@ -967,6 +1037,10 @@ window.nervure = Object.freeze({
   files: function () { return state.files ? JSON.parse(JSON.stringify(state.files)) : null; },
   /** Milliseconds the last many-files load and the last alignment took (read, merge or align). */
   fileTimings: function () { return Object.assign({}, state.fileTimings || {}); },
+  /** The column list's summaries (copies): {name, kind ("number", "category", "time"),
+   *  missing, min, max, levels, time: {zone, offset, zoned, precision, first, last},
+   *  mark: {kind, why | value}, textInNumbers, notTime, ...}. */
+  columns: function () { return state.table ? JSON.parse(JSON.stringify(state.table.columns)) : []; },
   /** How the last table was read: the reader's notices (decoding, decimal commas...). */
   notices: function () { return state.table && state.table.notices ? state.table.notices.slice() : []; },
   /** Stops the build or read under way (the engine restarts; the graph shown stays). */

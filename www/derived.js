@@ -116,7 +116,7 @@ async function removeDerived(i) {
   const [gone] = list.splice(i, 1);
   const s = state.settings;
   s.columns = s.columns.filter((c) => c !== gone.name);
-  if (s.columns.length === 0) s.columns = numericColumns().filter((c) => !derivedNames().has(c)).slice(0, 1);
+  if (s.columns.length === 0) s.columns = measureColumns().filter((c) => !derivedNames().has(c)).slice(0, 1);
   if (s.lens.kind === "column" && s.lens.column === gone.name) s.lens = { kind: "principal", component: 1 };
   if (state.colour.column === gone.name) state.colour.column = null;
   if (derivedEditing === i) derivedEditing = null;

@@ -124,7 +124,7 @@ function graphSvg() {
   }
   out.push("</g></g>");
   if (state.colour.values) {
-    const title = colourTitle();
+    const title = colourTitle() + colourZoneNote();
     const lw = Math.min(w - 24, Math.max(240, Math.min(420, 14 + 7.4 * title.length)));
     const x = 12, y = 8;
     out.push('<defs><linearGradient id="legend-map" x1="0" x2="1" y1="0" y2="0">');
@@ -132,7 +132,8 @@ function graphSvg() {
     out.push("</linearGradient></defs>");
     out.push('<g class="legend"><rect x="' + n2(x) + '" y="' + y + '" width="' + n2(lw) + '" height="50" rx="8" fill="#fffdf8" stroke="#dcd7cd"/>');
     out.push('<text x="' + n2(x + 12) + '" y="' + (y + 19) + '" font-size="13" fill="#56616b">' + xmlEscape(title) + "</text>");
-    const minText = formatNumber(state.colour.min), maxText = formatNumber(state.colour.max);
+    const span = state.colour.max - state.colour.min;
+    const minText = colourValueText(state.colour.min, span), maxText = colourValueText(state.colour.max, span);
     out.push('<text x="' + n2(x + 12) + '" y="' + (y + 41) + '" font-size="13" font-weight="600" fill="#1c242c">' + xmlEscape(minText) + "</text>");
     const bx = x + 20 + 8 * minText.length, bw = lw - 40 - 8 * (minText.length + maxText.length);
     out.push('<rect x="' + n2(bx) + '" y="' + (y + 29) + '" width="' + n2(Math.max(40, bw)) + '" height="14" rx="4" fill="url(#legend-map)" stroke="rgba(0,0,0,0.15)"/>');

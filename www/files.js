@@ -158,9 +158,12 @@ function renderRoles() {
   });
 }
 
+/** The column an alignment most likely matches on: the first time column, else one named
+ *  like a time. */
 function guessTime(cols) {
   const names = cols.map((c) => c.name);
-  return names.find((n) => n === "time_utc") || names.find((n) => /time|date|when|stamp/i.test(n)) || names[0];
+  const time = cols.find((c) => c.kind === "time");
+  return (time && time.name) || names.find((n) => n === "time_utc") || names.find((n) => /time|date|when|stamp/i.test(n)) || names[0];
 }
 
 function fill(select, names, value, withNone) {

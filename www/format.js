@@ -52,3 +52,107 @@ function parseNumberList(text) {
   }
   return out;
 }
+
+/* ---------------------------------------------------------------- times
+ * A time column's values are seconds since 1970-01-01 00:00 UTC; its summary's `time`
+ * ({zone, offset, zoned, precision, first, last}) says how its clocks were written. The page
+ * writes an instant as "2013-01-01 06:00" in the column's own zone (UTC when its offsets
+ * differ by row) and says the zone once, beside it; the exports write ISO 8601 (the engine). */
+
+const TIME_UNIT_SECONDS = { day: 86400, minute: 60, second: 1, fraction: 0 };
+
+function pad2(n) {
+  return (n < 10 ? "0" : "") + n;
+}
+
+/** Seconds east of UTC of a time column's clocks as the page shows them. */
+function shownOffset(time) {
+  return time && typeof time.offset === "number" ? time.offset : 0;
+}
+
+/** A short word for the zone instants of a time column are shown in (legends, axes):
+ *  "UTC", "+02:00", or "no zone written". */
+function zoneShort(time) {
+  if (!time) return "";
+  if (!time.zoned) return "no zone written";
+  return typeof time.offset === "number" ? time.zone : "UTC";
+}
+
+/** The instant `seconds` in `time`'s zone: "2013-01-01" (precision "day"), "2013-01-01 06:00"
+ *  ("minute"), "… 06:00:15" ("second"), "… 06:00:15.25" ("fraction"); rounded to that unit.
+ *  `precision` defaults to the coarsest that shows every value of the column exactly
+ *  (`time.shown`: a file writing :00 seconds everywhere is shown to the minute); a
+ *  dates-only column shows the clock of a value
+ *  that is not a midnight (a node's mean). */
+function formatInstant(seconds, time, precision) {
+  if (seconds === null || seconds === undefined || !Number.isFinite(seconds)) return "—";
+  const offset = shownOffset(time);
+  let p = precision || (time && (time.shown || time.precision)) || "minute";
+  let local = seconds + offset;
+  if (p === "day" && ((local % 86400) + 86400) % 86400 !== 0 && !precision) p = "minute";
+  const unit = TIME_UNIT_SECONDS[p];
+  if (unit) local = Math.round(local / unit) * unit;
+  const d = new Date(Math.round(local * 1000));
+  const y = d.getUTCFullYear();
+  let text = (y < 1000 ? String(y).padStart(4, "0") : y) + "-" + pad2(d.getUTCMonth() + 1) + "-" + pad2(d.getUTCDate());
+  if (p === "day") return text;
+  text += " " + pad2(d.getUTCHours()) + ":" + pad2(d.getUTCMinutes());
+  if (p === "minute") return text;
+  text += ":" + pad2(d.getUTCSeconds());
+  if (p === "fraction") text += ("." + String(d.getUTCMilliseconds()).padStart(3, "0")).replace(/\.?0+$/, "");
+  return text;
+}
+
+/** The unit to show instants spread over `span` seconds in (bounds of a legend or an axis):
+ *  days over several days, minutes over several minutes, else seconds. */
+function spanPrecision(span) {
+  return span >= 3 * 86400 ? "day" : span >= 180 ? "minute" : "second";
+}
+
+/** A length of time in seconds, in the largest unit that keeps it above 1: "3.2 h". */
+function formatDuration(seconds) {
+  if (seconds === null || seconds === undefined || !Number.isFinite(seconds)) return "—";
+  const a = Math.abs(seconds);
+  const [unit, name] = a >= 86400 * 2 ? [86400, " d"] : a >= 7200 ? [3600, " h"] : a >= 120 ? [60, " min"] : [1, " s"];
+  return formatNumber(seconds / unit) + name;
+}
+
+/** Steps between time ticks, in seconds (months and years are counted in the calendar). */
+const TIME_STEPS = [
+  [1, "s"], [5, "s"], [15, "s"], [30, "s"], [60, "s"], [300, "s"], [900, "s"], [1800, "s"],
+  [3600, "s"], [3 * 3600, "s"], [6 * 3600, "s"], [12 * 3600, "s"], [86400, "s"], [2 * 86400, "s"], [7 * 86400, "s"],
+  [1, "month"], [3, "month"], [6, "month"], [1, "year"], [2, "year"], [5, "year"], [10, "year"], [50, "year"], [100, "year"],
+];
+
+/** At most `most` round instants between `lo` and `hi` (seconds) in `time`'s zone, each
+ *  {at: seconds, label}: whole hours, days, months or years as the span calls for. */
+function timeTicks(lo, hi, time, most) {
+  if (!(hi > lo)) return [];
+  const offset = shownOffset(time);
+  const span = hi - lo;
+  const approx = (s) => (s[1] === "month" ? s[0] * 30.44 * 86400 : s[1] === "year" ? s[0] * 365.25 * 86400 : s[0]);
+  const step = TIME_STEPS.find((s) => span / approx(s) <= most) || TIME_STEPS[TIME_STEPS.length - 1];
+  const out = [];
+  const label = step[1] === "year" ? (d) => String(d.getUTCFullYear())
+    : step[1] === "month" ? (d) => d.getUTCFullYear() + "-" + pad2(d.getUTCMonth() + 1)
+    : step[0] >= 86400 ? (d) => d.getUTCFullYear() + "-" + pad2(d.getUTCMonth() + 1) + "-" + pad2(d.getUTCDate())
+    : step[0] >= 60 ? (d) => pad2(d.getUTCMonth() + 1) + "-" + pad2(d.getUTCDate()) + " " + pad2(d.getUTCHours()) + ":" + pad2(d.getUTCMinutes())
+    : (d) => pad2(d.getUTCHours()) + ":" + pad2(d.getUTCMinutes()) + ":" + pad2(d.getUTCSeconds());
+  if (step[1] === "s") {
+    for (let t = Math.ceil((lo + offset) / step[0]) * step[0]; t <= hi + offset && out.length <= most; t += step[0]) {
+      out.push({ at: t - offset, label: label(new Date(t * 1000)) });
+    }
+    return out;
+  }
+  const months = step[1] === "year" ? step[0] * 12 : step[0];
+  const start = new Date((lo + offset) * 1000);
+  let m = start.getUTCFullYear() * 12 + start.getUTCMonth();
+  m = Math.ceil(m / months) * months;
+  for (;; m += months) {
+    const t = Date.UTC(Math.floor(m / 12), m % 12, 1) / 1000;
+    if (t < lo + offset) continue;
+    if (t > hi + offset || out.length > most) break;
+    out.push({ at: t - offset, label: label(new Date(t * 1000)) });
+  }
+  return out;
+}

@@ -64,7 +64,7 @@ async function openGraphText(text, name) {
   const t = out.table || { name: name, rows: out.summary.rows + out.summary.rowsLeftOut, columns: [] };
   state.table = {
     name: t.name, rows: t.rows, notices: [], encoding: "",
-    columns: t.columns.map((c) => ({ name: c.name, kind: c.kind, unit: c.unit || null, missing: null, min: null, max: null, mean: null, levels: null })),
+    columns: t.columns.map((c) => ({ name: c.name, kind: c.kind, unit: c.unit || null, time: c.time || null, missing: null, min: null, max: null, mean: null, levels: null })),
   };
   state.files = null;
   state.settings = out.settings;

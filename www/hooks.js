@@ -137,10 +137,44 @@ function colourShort() {
   return statWords(st).toLowerCase() + " " + c.column;
 }
 
+/** The time column whose instants the colour values are (the mean or median of a time
+ *  column, or the filter when it is a time column), or null. */
+function colourTime() {
+  const c = state.colour;
+  if (c.column === LENS_COLOUR) {
+    const lens = (state.builtSettings || state.settings || {}).lens;
+    return lens && lens.kind === "column" ? timeOf(lens.column) : null;
+  }
+  const st = c.stat && c.stat.kind ? c.stat.kind : c.stat;
+  return st === "mean" || st === "median" || !st ? timeOf(c.column) : null;
+}
+
+/** A node's colour value as the legend and the tooltip write it: an instant (to the unit
+ *  that `span`, the legend's range, calls for), a length of time for the spread of a time
+ *  column, else a number. */
+function colourValueText(x, span) {
+  const t = colourTime();
+  if (t) return formatInstant(x, t, span !== undefined && Number.isFinite(span) ? spanPrecision(span) : undefined);
+  const st = state.colour.stat && state.colour.stat.kind ? state.colour.stat.kind : state.colour.stat;
+  if (st === "spread" && timeOf(state.colour.column)) return formatDuration(x);
+  return formatNumber(x);
+}
+
+/** " (UTC)", " (+02:00)"... for a legend of instants, else "". */
+function colourZoneNote() {
+  const t = colourTime();
+  return t ? " (" + zoneShort(t) + ")" : "";
+}
+
+/** "Centre on zero" applies: it is ticked and the values are not instants (zero would be 1970). */
+function centred() {
+  return byId("colour-centre").checked && !colourTime();
+}
+
 /** The colour scale for node values over the data range [lo, hi]: the range shown (fixed
  *  or automatic; centred on zero, automatic is symmetric) and the value -> colour map. */
 function colourScale(lo, hi) {
-  const centre = byId("colour-centre").checked;
+  const centre = centred();
   const fixed = byId("colour-range").value === "fixed";
   if (fixed) {
     const a = Number(byId("colour-lo").value), b = Number(byId("colour-hi").value);
@@ -161,7 +195,7 @@ function colourScale(lo, hi) {
 
 /** The legend's and pictures' map at t in [0, 1]. */
 function legendColourAt(t) {
-  return byId("colour-centre").checked ? vikAt(t) : colourAt(t);
+  return centred() ? vikAt(t) : colourAt(t);
 }
 
 function legendGradient() {
@@ -188,6 +222,7 @@ function hookColourControls() {
   const st = state.colour.stat;
   byId("colour-stat").value = st && st.kind ? st.kind : st || "mean";
   byId("colour-stat").disabled = state.colour.column === LENS_COLOUR;
+  byId("colour-centre").disabled = !!colourTime();
   byId("colour-threshold-field").hidden = !(st && st.kind === "shareAbove");
   const fixed = byId("colour-range").value === "fixed";
   byId("colour-lo").hidden = byId("colour-hi").hidden = !fixed;
@@ -234,7 +269,7 @@ async function refreshLensHistogram() {
       const h = await engine.request("lensHistogram", { bins: HISTOGRAM_BINS, axis });
       lensHistograms[axis] = h;
       canvas.hidden = false;
-      drawLensHistogram(canvas, h);
+      drawLensHistogram(canvas, h, axis);
     } catch (e) {
       lensHistograms[axis] = null;
       canvas.hidden = true;   // an older graph's values are gone; the next build draws again
@@ -244,7 +279,7 @@ async function refreshLensHistogram() {
 
 /** Bars of the row counts per bin; under them each cover interval as a band (two rows, so
  *  neighbours' overlaps show) labelled with the rows it holds. */
-function drawLensHistogram(canvas, h) {
+function drawLensHistogram(canvas, h, axis) {
   const ratio = window.devicePixelRatio || 1;
   const w = canvas.clientWidth || 300, ht = canvas.clientHeight || 110;
   canvas.width = Math.round(w * ratio);
@@ -285,7 +320,11 @@ function drawLensHistogram(canvas, h) {
   });
   const rows = h.intervals.map((iv) => iv[2]);
   const listed = rows.length > 60 ? rows.slice(0, 60).join(", ") + ", … (" + rows.length + " intervals)" : rows.join(", ");
-  canvas.title = "Rows in each interval, in order: " + listed;
+  // A filter that is a time column says its range as instants.
+  const lens = state.builtSettings && (axis ? state.builtSettings.lens2 : state.builtSettings.lens);
+  const t = lens && lens.kind === "column" ? timeOf(lens.column) : null;
+  const range = t ? "Filter from " + formatInstant(lo, t, spanPrecision(hi - lo)) + " to " + formatInstant(hi, t, spanPrecision(hi - lo)) + " (" + zoneShort(t) + "). " : "";
+  canvas.title = range + "Rows in each interval, in order: " + listed;
   canvas.setAttribute("aria-label", "Histogram of the filter values with the cover's " + h.intervals.length + " intervals; rows in each interval: " + listed);
 }
 

@@ -169,7 +169,7 @@ function renderDetail() {
   if (state.groupRows) facts.push(plural(state.groupRows.length, "row", "rows"));
   else facts.push(plural(single ? state.graph.nodeSizes[list[0]] : size, "row", "rows") + (single ? "" : " (counted once per node)"));
   if (single && d) facts.push(plural(d.degree, "edge", "edges"));
-  if (single) facts.push("lens interval " + ((d ? d.element : state.graph.nodeElements[list[0]]) + 1) + (d && d.interval ? " [" + formatNumber(d.interval[0]) + ", " + formatNumber(d.interval[1]) + "]" : ""));
+  if (single) facts.push("lens interval " + ((d ? d.element : state.graph.nodeElements[list[0]]) + 1) + (d && d.interval ? " [" + lensValueText(d.interval[0]) + ", " + lensValueText(d.interval[1]) + "]" : ""));
   else facts.push("nodes " + (list.length <= 8 ? list.join(", ") : list.slice(0, 8).join(", ") + ", …"));
   byId("detail-sub").textContent = facts.join(" · ");
   const fileNote = byId("detail-file-note");
@@ -200,7 +200,14 @@ function renderStats(d) {
       th.title = c.name;
       tr.append(th);
       if (c.kind === "number") tr.append(el("td", "num", formatNumber(c.mean)), el("td", "num", formatNumber(c.min)), el("td", "num", formatNumber(c.max)));
-      else {
+      else if (c.kind === "time") {
+        // A time column: the node's first and last instants.
+        const t = timeOf(c.name);
+        const td = el("td", "top time-span", c.min === null || c.min === undefined ? "—" : formatInstant(c.min, t) + " to " + formatInstant(c.max, t));
+        td.title = c.first ? "first " + c.first + ", last " + c.last : "no value in this node";
+        td.colSpan = 3;
+        tr.append(td);
+      } else {
         const pct = c.topShare === null || c.topShare === undefined ? null : 100 * c.topShare;
         const share = pct === null ? "" : " (" + (pct > 0 && pct < 0.5 ? "under 1" : Math.round(pct)) + " %)";
         const td = el("td", "top", c.top === null || c.top === undefined ? "—" : "mostly “" + c.top + "”" + share);
@@ -215,11 +222,17 @@ function renderStats(d) {
       const tr = el("tr");
       const th = el("th", null, c.name);
       th.title = c.name;
-      tr.append(th, el("td", "num", formatNumber(c.meanIn)), el("td", "num", formatNumber(c.meanOut)));
+      tr.append(th, el("td", "num", formatValueOf(c.name, c.meanIn)), el("td", "num", formatValueOf(c.name, c.meanOut)));
       body.append(tr);
     }
   }
   wrap.hidden = !d && !state.contrast;
+}
+
+/** A value of the filter of the graph on screen: an instant when the filter is a time column. */
+function lensValueText(x) {
+  const lens = (state.builtSettings || state.settings || {}).lens;
+  return lens && lens.kind === "column" ? formatValueOf(lens.column, x) : formatNumber(x);
 }
 
 function columnOrder(name) {

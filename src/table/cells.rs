@@ -240,6 +240,20 @@ pub fn decimal_comma_number(cell: &[u8]) -> Option<f64> {
     fast_number(&text).or_else(|| parse_finite(&text).filter(|_| after[digits_after..].first().map_or(true, |&b| b == b'e' || b == b'E')))
 }
 
+/// Share of the present cells of a text column (`codes` into `levels`) whose text reads as
+/// a finite number; `None` when no cell is present.
+pub fn number_share(codes: &[u32], levels: &[String]) -> Option<f64> {
+    let is_number: Vec<bool> = levels.iter().map(|l| fast_number(l.as_bytes()).is_some() || parse_finite(l.as_bytes()).is_some()).collect();
+    let (mut numbers, mut present) = (0usize, 0usize);
+    for &c in codes {
+        if c != MISSING_CODE {
+            present += 1;
+            numbers += is_number[c as usize] as usize;
+        }
+    }
+    (present > 0).then(|| numbers as f64 / present as f64)
+}
+
 /// A cell's bytes are not valid UTF-8.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct NotUtf8;
@@ -448,18 +462,23 @@ impl ColumnBuilder {
         codes.push(code);
     }
 
+    /// The column: numbers, or text typed by [`Column::from_text`] (a time column when its
+    /// values are date-times).
     pub fn finish(self) -> Column {
-        let data = match self.kind {
-            Kind::Number(values) => ColumnData::numbers(values),
+        match self.kind {
+            Kind::Number(values) => Column::of(self.name, ColumnData::numbers(values)),
             Kind::Category { codes, index, .. } => {
                 let mut levels = vec![String::new(); index.len()];
                 for (text, code) in index {
                     levels[code as usize] = text;
                 }
-                ColumnData::categories(codes, levels)
+                let mut col = Column::from_text(self.name, codes, levels);
+                if !col.is_time() {
+                    col.first_text = self.first_text;
+                }
+                col
             }
-        };
-        Column { name: self.name, data, first_text: self.first_text, unit: None }
+        }
     }
 }
 

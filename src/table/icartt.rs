@@ -23,8 +23,8 @@
 //! Values read: `value * scale factor`; a raw value equal to the variable's missing flag,
 //! or to the `LLOD_FLAG` / `ULOD_FLAG` given in the normal comments (`LLOD_FLAG: -7777`),
 //! becomes missing (each counted in the notes). The start date plus the independent
-//! variable (seconds from midnight UTC of that date) gives a numeric time column
-//! `time_utc`, in seconds since 1970-01-01 00:00 UTC. Units go to [`Column::unit`].
+//! variable (seconds from midnight UTC of that date) gives a time column `time_utc`
+//! (instants in UTC, [`crate::timecol`]). Units go to [`Column::unit`].
 //!
 //! What it is not: a reader of the other format indices (2110, 2160, 2310), nor a checker
 //! of every rule of the standard (names of PIs, revision letters are not checked).
@@ -32,6 +32,7 @@
 
 use super::merge::{free_name, ReadNote};
 use super::{Column, Table};
+use crate::timecol::Zone;
 use crate::error::{Error, Result};
 
 /// Name of the time column built from the start date and the independent variable.
@@ -196,7 +197,7 @@ pub fn read(name: &str, bytes: &[u8]) -> Result<(Table, ReadNote)> {
     let mut columns: Vec<Column> = Vec::with_capacity(nv + 2);
     let taken: Vec<&str> = names.iter().map(String::as_str).collect();
     let time_name = free_name(TIME_COLUMN, &taken);
-    columns.push(Column::number(time_name, time).with_unit(Some("s since 1970-01-01 UTC".into())));
+    columns.push(Column::time(time_name, time, Zone::Offset(0)));
     for (k, values) in cols.into_iter().enumerate() {
         columns.push(Column::number(names[k].clone(), values).with_unit(units[k].clone()));
     }
@@ -270,6 +271,8 @@ mod tests {
         assert!((co[0] - 120.0).abs() < 1e-12 && co[1].is_nan() && (co[2] - 130.0).abs() < 1e-9);
         // 2013-07-15 00:00 UTC is 1373846400 s after 1970 (Python: datetime(2013,7,15,tzinfo=utc).timestamp()).
         assert_eq!(t.numbers(TIME_COLUMN, "").unwrap(), &[1373846400.0, 1373846460.0, 1373846520.0]);
+        let time = t.column(TIME_COLUMN).unwrap().as_times().expect("a time column");
+        assert_eq!(time.text(1).as_deref(), Some("2013-07-15T00:01Z"));
         assert_eq!(t.column("O3").unwrap().unit.as_deref(), Some("ppbv"));
         assert!(note.notes.iter().any(|n| n.contains("1 values equal to a missing-value flag")), "{:?}", note.notes);
         assert!(note.notes.iter().any(|n| n.contains("LLOD")));

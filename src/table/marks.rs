@@ -21,7 +21,11 @@
 //!   case changes (`SampleNumber` → sample, number), compared in lower case;
 //! - **identifier, text**: a text column with at least [`MIN_LABELS`] levels that are at
 //!   least half as many as its present values (sample codes), or with more than
-//!   [`MANY_LEVELS`] levels (tail numbers): too many to colour by or to compare.
+//!   [`MANY_LEVELS`] levels (tail numbers): too many to colour by or to compare; but not
+//!   a text column whose present cells are mostly numbers ([`super::MOSTLY_NUMBERS`]): that
+//!   is a measurement with a few text cells, which the page offers to read as missing;
+//! - a time column is never an identifier (its values are instants, however distinct);
+//!   it is a constant when every present instant is the same.
 
 use super::{Column, ColumnData, MISSING_CODE};
 
@@ -58,6 +62,11 @@ pub fn mark(col: &Column) -> Option<Mark> {
     match &col.data {
         ColumnData::Number(v) => number_mark(&col.name, v),
         ColumnData::Category { codes, levels } => text_mark(codes, levels),
+        ColumnData::Time(t) => {
+            let mut present = t.seconds.iter().copied().filter(|x| !x.is_nan());
+            let first = present.next()?;
+            present.all(|x| x == first).then(|| Mark::Constant { value: t.text_of(first).unwrap_or_default() })
+        }
     }
 }
 
@@ -72,10 +81,7 @@ fn number_mark(name: &str, values: &[f64]) -> Option<Mark> {
     }
     let n = values.iter().filter(|x| !x.is_nan()).count();
     if n >= MIN_RECORDS {
-        let mut sorted: Vec<f64> = values.iter().copied().filter(|x| !x.is_nan()).collect();
-        sorted.sort_unstable_by(f64::total_cmp);
-        let distinct = 1 + sorted.windows(2).filter(|w| w[0] != w[1]).count();
-        if distinct * 100 >= n * 99 {
+        if let Some(distinct) = nearly_all_distinct(values, n) {
             return Some(Mark::Identifier { why: format!("whole numbers, {} of {} distinct", distinct, n) });
         }
     }
@@ -100,6 +106,9 @@ fn text_mark(codes: &[u32], levels: &[String]) -> Option<Mark> {
     if used == 1 {
         let only = codes.iter().find(|&&c| c != MISSING_CODE).map(|&c| levels[c as usize].clone())?;
         return Some(Mark::Constant { value: only });
+    }
+    if super::cells::number_share(codes, levels).is_some_and(|share| share >= super::MOSTLY_NUMBERS) {
+        return None;
     }
     if used > MANY_LEVELS {
         return Some(Mark::Identifier { why: format!("{used} distinct texts") });
@@ -132,6 +141,25 @@ pub fn name_words(name: &str) -> Vec<String> {
         words.push(cur);
     }
     words
+}
+
+/// The number of distinct present values when at least 99 % of the `n` present values are
+/// distinct; stops at the first repeat too many (measured whole numbers repeat within the
+/// first few hundred rows, so a large column is not read to its end).
+fn nearly_all_distinct(values: &[f64], n: usize) -> Option<usize> {
+    let allowed = n - (n * 99).div_ceil(100);
+    let mut seen: std::collections::HashSet<u64> = std::collections::HashSet::with_capacity(n.min(1 << 16));
+    let mut repeats = 0;
+    for &x in values.iter().filter(|x| !x.is_nan()) {
+        // Whole numbers only reach here; +0.0 for -0.0 so the two count as one value.
+        if !seen.insert((x + 0.0).to_bits()) {
+            repeats += 1;
+            if repeats > allowed {
+                return None;
+            }
+        }
+    }
+    Some(n - repeats)
 }
 
 /// Distinct present values, counting no further than `cap`.
@@ -235,5 +263,10 @@ mod tests {
         assert!(matches!(text(&ids), Some(Mark::Identifier { .. })));
         let groups: Vec<&str> = (0..300).map(|i| ["EWR", "JFK", "LGA"][i % 3]).collect();
         assert_eq!(text(&groups), None);
+        // Measurements with a stray text cell are not labels, however distinct.
+        let mut measured: Vec<String> = (0..100).map(|i| format!("{}", i as f64 * 0.37)).collect();
+        measured[4] = "n/a".into();
+        let measured: Vec<&str> = measured.iter().map(String::as_str).collect();
+        assert_eq!(text(&measured), None);
     }
 }

@@ -10,6 +10,13 @@
 //!   column; the numbers become their shortest text (`2`, `1.5`), as the CSV reader does when
 //!   a column turns out to hold text. The report of each file whose numbers were turned
 //!   into text names the column.
+//! - A column that is time in every file that has a value in it stays time: the instants
+//!   are stacked, and the zone is the files' common one, or kept per row when the files'
+//!   zones differ (a file with no zone written counts as UTC there, as it was read). Time in
+//!   one file and numbers or text in another becomes text, times written as ISO 8601
+//!   ([`crate::timecol::Times::text`]), reported as above.
+//! - A column with no value at all in a file (read as numbers, all missing) takes the kind
+//!   it has in the other files.
 //! - Units (ICARTT) are kept from the first file that states them; a file stating other
 //!   units for the same column is reported.
 //!
@@ -22,6 +29,7 @@ use std::collections::HashMap;
 use serde::Serialize;
 
 use super::{Column, ColumnData, Table, MISSING_CODE};
+use crate::timecol::{Precision, Times, Zone};
 use crate::error::{Error, Result};
 
 /// Preferred name of the column naming each row's file; `_2`, `_3`... are added when a
@@ -154,10 +162,40 @@ pub fn free_name(base: &str, taken: &[&str]) -> String {
     (2..).map(|i| format!("{base}_{i}")).find(|n| !taken.contains(&n.as_str())).expect("some name is free")
 }
 
+/// What a merged column holds, as the files say so far.
+#[derive(Default, Clone, Copy, PartialEq, Eq)]
+enum SlotKind {
+    /// No file has a value in it yet.
+    #[default]
+    Empty,
+    Number,
+    Time,
+    Text,
+}
+
+impl SlotKind {
+    fn of(c: &Column) -> SlotKind {
+        match &c.data {
+            ColumnData::Number(v) if v.iter().all(|x| x.is_nan()) => SlotKind::Empty,
+            ColumnData::Number(_) => SlotKind::Number,
+            ColumnData::Time(_) => SlotKind::Time,
+            ColumnData::Category { .. } => SlotKind::Text,
+        }
+    }
+
+    fn with(self, other: SlotKind) -> SlotKind {
+        match (self, other) {
+            (SlotKind::Empty, k) | (k, SlotKind::Empty) => k,
+            (a, b) if a == b => a,
+            _ => SlotKind::Text,
+        }
+    }
+}
+
 #[derive(Default)]
 struct Slot {
     name: String,
-    is_text: bool,
+    kind: SlotKind,
     unit: Option<String>,
 }
 
@@ -172,9 +210,7 @@ pub fn merge(parts: &[&Part], merged_name: &str) -> Result<(Table, Vec<FileRepor
                 slots.push(Slot { name: c.name.clone(), ..Default::default() });
                 slots.len() - 1
             });
-            if matches!(c.data, ColumnData::Category { .. }) {
-                slots[i].is_text = true;
-            }
+            slots[i].kind = slots[i].kind.with(SlotKind::of(c));
             if slots[i].unit.is_none() {
                 slots[i].unit = c.unit.clone();
             }
@@ -188,7 +224,10 @@ pub fn merge(parts: &[&Part], merged_name: &str) -> Result<(Table, Vec<FileRepor
             let made_text = t
                 .columns
                 .iter()
-                .filter(|c| matches!(c.data, ColumnData::Number(_)) && slots[index[c.name.as_str()]].is_text)
+                .filter(|c| {
+                    let k = SlotKind::of(c);
+                    matches!(k, SlotKind::Number | SlotKind::Time) && slots[index[c.name.as_str()]].kind == SlotKind::Text
+                })
                 .map(|c| c.name.clone())
                 .collect();
             let other_units = t
@@ -216,8 +255,12 @@ pub fn merge(parts: &[&Part], merged_name: &str) -> Result<(Table, Vec<FileRepor
     let total: usize = parts.iter().map(|p| p.table.n_rows).sum();
     let mut columns = Vec::with_capacity(slots.len() + 1);
     for s in &slots {
-        let col = if s.is_text { stack_text(parts, &s.name, total) } else { stack_numbers(parts, &s.name, total) };
-        columns.push(Column { name: s.name.clone(), data: col, first_text: None, unit: s.unit.clone() });
+        let col = match s.kind {
+            SlotKind::Text => stack_text(parts, &s.name, total),
+            SlotKind::Time => stack_times(parts, &s.name, total),
+            SlotKind::Number | SlotKind::Empty => stack_numbers(parts, &s.name, total),
+        };
+        columns.push(Column::of(s.name.clone(), col).with_unit(s.unit.clone()));
     }
     let taken: Vec<&str> = slots.iter().map(|s| s.name.as_str()).collect();
     let source = free_name(SOURCE_COLUMN, &taken);
@@ -250,6 +293,37 @@ fn stack_numbers(parts: &[&Part], name: &str, total: usize) -> ColumnData {
     ColumnData::numbers(out)
 }
 
+fn stack_times(parts: &[&Part], name: &str, total: usize) -> ColumnData {
+    let mut seconds = Vec::with_capacity(total);
+    let zones: Vec<Option<&Zone>> = parts.iter().map(|p| p.table.column(name).and_then(Column::as_times).map(|t| &t.zone)).collect();
+    let first = zones.iter().flatten().next().copied().cloned().unwrap_or(Zone::Unwritten);
+    let one_zone = !matches!(first, Zone::PerRow(_)) && zones.iter().flatten().all(|z| **z == first);
+    let mut offsets = Vec::with_capacity(if one_zone { 0 } else { total });
+    for (p, zone) in parts.iter().zip(&zones) {
+        match p.table.column(name).and_then(Column::as_times) {
+            Some(t) => {
+                seconds.extend_from_slice(&t.seconds);
+                if !one_zone {
+                    offsets.extend((0..t.len()).map(|i| zone.map_or(0, |z| z.offset_at(i))));
+                }
+            }
+            None => {
+                seconds.extend(std::iter::repeat_n(f64::NAN, p.table.n_rows));
+                if !one_zone {
+                    offsets.extend(std::iter::repeat_n(0, p.table.n_rows));
+                }
+            }
+        }
+    }
+    let zone = if one_zone { first } else { Zone::PerRow(std::sync::Arc::new(offsets)) };
+    let times = || parts.iter().filter_map(|p| p.table.column(name).and_then(Column::as_times));
+    let precision = times().map(|t| t.precision).max().unwrap_or(Precision::Minute);
+    let shown = times().map(|t| t.shown).max().unwrap_or(Precision::Minute);
+    // Rows in UTC beside rows with an offset are written with one: at least minutes.
+    let (precision, shown) = if zone.written() { (precision.max(Precision::Minute), shown.max(Precision::Minute)) } else { (precision, shown) };
+    ColumnData::Time(Times { seconds: std::sync::Arc::new(seconds), precision, shown, zone })
+}
+
 fn stack_text(parts: &[&Part], name: &str, total: usize) -> ColumnData {
     let mut codes = Vec::with_capacity(total);
     let mut levels: Vec<String> = Vec::new();
@@ -274,6 +348,11 @@ fn stack_text(parts: &[&Part], name: &str, total: usize) -> ColumnData {
                     codes.push(if x.is_nan() { MISSING_CODE } else { code_of(format!("{x}"), &mut levels) });
                 }
             }
+            Some(ColumnData::Time(t)) => {
+                for i in 0..t.len() {
+                    codes.push(t.text(i).map_or(MISSING_CODE, |text| code_of(text, &mut levels)));
+                }
+            }
             None => codes.extend(std::iter::repeat_n(MISSING_CODE, p.table.n_rows)),
         }
     }
@@ -290,10 +369,7 @@ mod tests {
     }
 
     fn text_of(t: &Table, col: &str, row: usize) -> Option<String> {
-        match &t.column(col).unwrap().data {
-            ColumnData::Category { codes, levels } => (codes[row] != MISSING_CODE).then(|| levels[codes[row] as usize].clone()),
-            ColumnData::Number(v) => (!v[row].is_nan()).then(|| format!("{}", v[row])),
-        }
+        t.column(col).unwrap().text_at(row)
     }
 
     #[test]
@@ -334,6 +410,29 @@ mod tests {
         assert_eq!(text_of(&t, "id", 2).as_deref(), Some("A7"));
         assert_eq!(reports[0].made_text, ["id"]);
         assert!(reports[1].made_text.is_empty());
+    }
+
+    #[test]
+    fn time_columns_stack_as_time_across_forms_and_zones() {
+        let a = part("a.csv", "t,x\n2024-07-15T10:00+02:00,1\n2024-07-15T11:00+02:00,2\n");
+        let b = part("b.csv", "t,x\n2024/07/15 09:30,3\n");
+        let c = part("c.csv", "x,t\n4,\n");
+        let (t, reports) = merge(&[&a, &b, &c], "m").unwrap();
+        let times = t.column("t").unwrap().as_times().expect("stays time");
+        assert_eq!(times.text(0).as_deref(), Some("2024-07-15T10:00+02:00"));
+        assert_eq!(times.seconds[2] - times.seconds[0], 1.5 * 3600.0, "09:30 with no zone read as UTC");
+        assert!(times.seconds[3].is_nan(), "c.csv's column has no value: it takes the others' kind");
+        assert!(matches!(times.zone, Zone::PerRow(_)));
+        assert!(reports.iter().all(|r| r.made_text.is_empty()));
+        // One zone in every file: kept as it is.
+        let (t, _) = merge(&[&a, &a.clone()], "m").unwrap_or_else(|e| panic!("{e}"));
+        assert_eq!(t.column("t").unwrap().as_times().unwrap().zone, Zone::Offset(7200));
+        // Time against text: text, times written as ISO 8601, reported.
+        let d = part("d.csv", "t,x\nlater,5\n");
+        let (t, reports) = merge(&[&a, &d], "m").unwrap();
+        assert_eq!(text_of(&t, "t", 0).as_deref(), Some("2024-07-15T10:00+02:00"));
+        assert_eq!(text_of(&t, "t", 2).as_deref(), Some("later"));
+        assert_eq!(reports[0].made_text, ["t"]);
     }
 
     #[test]

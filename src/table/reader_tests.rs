@@ -104,6 +104,11 @@ fn matches_python_csv_module() {
                         assert_eq!(got, expected, "{name}: column {j}");
                         assert!(expected.iter().any(|e| e.parse::<f64>().is_err()), "{name}: column {j}");
                     }
+                    ColumnData::Time(_) => {
+                        for e in expected.iter().filter(|e| !e.is_empty()) {
+                            assert!(crate::timecol::parse(e, Some(crate::timecol::DayOrder::DayFirst)).is_ok(), "{name}: column {j} read as time, but {e:?} is no date-time");
+                        }
+                    }
                 }
             }
         }

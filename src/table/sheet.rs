@@ -6,9 +6,10 @@
 //! later row is a data row, and a row with no value at all is left out (counted in the
 //! report). A column whose values are all numbers is a number column; one whose values
 //! are all dates or date-times (cells with a date format; Excel stores serial day numbers)
-//! is a time column: a category column holding ISO 8601 text (`2024-07-15T08:30:00`), which
-//! [`crate::timecol`] reads as seconds since 1970 (UTC, as spreadsheets store no zone) and
-//! which stays readable in the page. Any other column is a category column; numbers in it
+//! is a time column: the cells are written as ISO 8601 text (`2024-07-15T08:30:00`) and
+//! typed as the CSV reader types text ([`crate::table::Column::from_text`]), so a sheet's
+//! dates, whether date cells or text, become a time column with no zone written
+//! (spreadsheets store none). Any other column is a category column; numbers in it
 //! become their shortest text, as the CSV reader does. Empty cells, error cells (`#N/A`)
 //! and the CSV reader's missing tokens are missing values.
 //!
@@ -174,5 +175,5 @@ fn typed(name: String, col: Vec<Cell>) -> Column {
             })
         })
         .collect();
-    Column::category(name, codes, levels)
+    Column::from_text(name, codes, levels)
 }

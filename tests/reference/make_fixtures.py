@@ -28,6 +28,7 @@ import warnings
 
 import networkx
 import numpy as np
+import pandas as pd
 import palmerpenguins
 import persim
 import scipy
@@ -341,11 +342,69 @@ def times_fixture():
                    "a value without offset is taken as UTC; seconds = aware.timestamp(), "
                    "hour = dt.hour + dt.minute/60 + (dt.second + dt.microsecond/1e6)/3600 (clock as "
                    "written), doy = dt.timetuple().tm_yday; random instants from "
-                   "numpy.random.default_rng(31); 'refused' are values fromisoformat raises ValueError on"),
+                   "numpy.random.default_rng(31); 'refused' are values fromisoformat raises ValueError on; "
+                   "'typed' are whole columns as pandas " + pd.__version__ + " reads them: "
+                   "pandas.to_datetime(Series) with its defaults ('default': 'ok' or the error it raises), "
+                   "seconds from the same call (or with utc=True, or dayfirst=True, as 'how' says) as "
+                   "Timestamp.timestamp() (a naive value taken as UTC), and each value written back by "
+                   "datetime.isoformat(timespec=...) of the value as written (date().isoformat() for 'date')"),
         "cases": cases,
         "columns": columns,
         "refused": refused,
+        "typed": typed_columns(),
     })
+
+
+def typed_columns():
+    """Whole text columns through pandas.to_datetime: accepted or refused by its defaults,
+    the instants, and each value written back in ISO 8601 at each precision."""
+    import pandas as pd
+    cols = [
+        ("iso with Z, seconds", ["2013-01-01T06:00:00Z", "2013-01-01T07:00:00Z", "2013-12-30T23:00:00Z"], {}),
+        ("iso, minutes, no zone", ["2024-07-15T00:00", "2024-07-15T01:00", "2024-09-01T23:00"], {}),
+        ("dates", ["2007-11-11", "2007-11-09", "2009-12-01"], {}),
+        ("dates with a gap", ["2024-07-15", None, "2024-07-17"], {}),
+        ("year first, slashes", ["2012/01/01", "2012/01/02", "2015/12/31"], {}),
+        ("year first, slashes, minutes", ["2010/01/01 00:00", "2010/01/01 01:00", "2010/12/31 23:00"], {}),
+        ("day first, dots", ["15.07.2024 08:30:00", "01.02.2024 10:00:00", "31.12.1999 23:59:59"], {"dayfirst": True}),
+        ("one offset", ["2024-07-15T10:00+02:00", "2024-07-15T11:30+02:00", "2024-12-31T23:59+02:00"], {}),
+        ("negative offset, seconds", ["2024-07-15T10:00:00-05:30", "2024-07-15T10:00:15-05:30"], {}),
+        ("offsets differ by row", ["2024-03-30T12:00+01:00", "2024-03-31T12:00+02:00", "2024-10-27T12:00+01:00"], {"utc": True}),
+        ("fractions of a second", ["2024-07-15T10:00:00.25", "2024-07-15T10:00:01.5", "2024-07-15T10:00:02"], {"format": "ISO8601"}),
+        ("slash dates settled day first", ["01/02/2024 08:00", "13/02/2024 09:30", "28/12/1999 23:59"], {"dayfirst": True}),
+        ("slash dates both ways", ["01/02/2024", "03/04/2024"], {}),
+        ("mixed forms", ["2024-07-15", "2024/07/16", "2024-07-17"], None),
+        ("with and without an offset", ["2024-07-15T10:00", "2024-07-15T11:00Z"], None),
+        ("a date and a date-time", ["2020-01-01", "2020-01-01 03:00"], {"format": "ISO8601"}),
+        ("dates and a word", ["2024-07-15", "2024-07-16", "soon"], None),
+    ]
+    out = []
+    for name, values, how in cols:
+        series = pd.Series(values, dtype="object")
+        try:
+            pd.to_datetime(series)
+            default = "ok"
+        except (ValueError, TypeError) as e:
+            default = type(e).__name__ + ": " + str(e).split("\n")[0][:120]
+        seconds = iso = None
+        if how is not None:
+            parsed = pd.to_datetime(series, **how)
+            seconds = [None if pd.isna(t) else t.timestamp() for t in parsed]
+            written = []
+            for v in values:
+                if v is None:
+                    written.append(None)
+                    continue
+                dt = pd.to_datetime(v, **{k: w for k, w in how.items() if k != "utc"}).to_pydatetime()
+                written.append({
+                    "date": dt.date().isoformat(),
+                    "minutes": dt.isoformat(timespec="minutes"),
+                    "seconds": dt.isoformat(timespec="seconds"),
+                    "microseconds": dt.isoformat(timespec="microseconds"),
+                })
+            iso = written
+        out.append({"name": name, "values": values, "how": how, "default": default, "seconds": seconds, "iso": iso})
+    return out
 
 
 def ks_fixture():

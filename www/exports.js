@@ -130,7 +130,8 @@ function graphSvg() {
     out.push('<text x="' + n2(x + lw - 12) + '" y="' + (y + 48) + '" font-size="13" font-weight="600" fill="#1c242c" text-anchor="end">' + xmlEscape(maxText) + "</text></g>");
   }
   const sm = state.summary;
-  out.push('<text x="12" y="' + (h - 12) + '" font-size="13" fill="#56616b">' + xmlEscape(state.table.name + " · " + sm.nodes + " nodes · " + sm.edges + " edges · " + sm.components + " components · " + sm.loops + " loops") + "</text>");
+  const rows = state.builtSettings && state.builtSettings.keepRows ? " · rows where " + state.builtSettings.keepRows : "";
+  out.push('<text x="12" y="' + (h - 12) + '" font-size="13" fill="#56616b">' + xmlEscape(state.table.name + rows + " · " + sm.nodes + " nodes · " + sm.edges + " edges · " + sm.components + " components · " + sm.loops + " loops") + "</text>");
   out.push("</svg>");
   return out.join("\n") + "\n";
 }

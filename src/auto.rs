@@ -217,6 +217,7 @@ pub fn auto_choice(table: &Table) -> Result<AutoChoice> {
         cover2: None,
         denoise: None,
         min_cluster_share: MIN_CLUSTER_SHARE,
+        keep_rows: None,
     };
     let pts = build_points(table, &s)?;
     let lens = crate::filter::compute_lens(table, &pts, &s)?;

@@ -16,7 +16,8 @@ use crate::filter;
 use crate::graph::{Nerve, Node};
 use crate::layout;
 use crate::points::{self, Points, PointsKey};
-use crate::settings::{Clustering, CoverSettings, Derived, EdgeRule, Lens, Settings};
+use crate::settings::{Clustering, CoverSettings, Derived, EdgeRule, Lens, Missing, Settings};
+use crate::subset::{self, RowSubset};
 use crate::table::{ColumnData, Table, MISSING_CODE};
 
 /// What one run produced, with the settings that produced it.
@@ -72,9 +73,18 @@ pub const CONTRAST_LEVELS: usize = 30;
 #[derive(Debug, Clone, PartialEq, Serialize, serde::Deserialize)]
 #[serde(rename_all = "camelCase")]
 pub struct Summary {
-    /// Rows that took part (had a value in every chosen column).
+    /// Rows that took part (kept by the row condition, with a value in every chosen column).
     pub rows: usize,
+    /// Rows kept by the row condition but left out for a missing value in a chosen column.
     pub rows_left_out: usize,
+    /// Rows the row condition (`keepRows`) did not keep; 0 without a condition.
+    /// `rows + rows_left_out + rows_set_aside + rows_not_kept` is the table's row count.
+    #[serde(default)]
+    pub rows_not_kept: usize,
+    /// Of `rows_not_kept`, rows where the condition could not be decided because a value
+    /// it reads is missing there (see [`crate::derive::condition`]).
+    #[serde(default)]
+    pub rows_not_kept_missing: usize,
     pub nodes: usize,
     pub edges: usize,
     pub components: usize,
@@ -279,6 +289,14 @@ fn graph_key(s: &Settings) -> GraphKey {
 /// Derived columns are recomputed when their list or the fill values change.
 type DerivedKey = (Vec<Derived>, Vec<f64>);
 
+/// The rows kept are recomputed when the condition, the derived columns or the
+/// missing-value rules change (nothing else changes what the condition reads).
+type SubsetKey = (Option<String>, Vec<Derived>, Missing);
+
+fn subset_key(s: &Settings) -> SubsetKey {
+    (s.keep_rows.clone(), s.derived.clone(), s.missing.clone())
+}
+
 /// A table and the cached stages of the last run on it.
 #[derive(Default)]
 pub struct Workbench {
@@ -289,6 +307,10 @@ pub struct Workbench {
     derived: Option<(DerivedKey, Vec<DerivedInfo>)>,
     /// Sorted rows per numeric column for [`Workbench::explain`], made on first use.
     sorted: Option<(DerivedKey, SortedColumns)>,
+    /// The rows the row condition keeps (`None` inside: no condition, every row).
+    subset: Option<(SubsetKey, Option<RowSubset>)>,
+    /// How many times a row condition has been evaluated (for the cache tests).
+    subset_evaluations: usize,
     points: Option<(PointsKey, Points)>,
     lens: Option<(LensKey, Lenses)>,
     cover: Option<(CoverKey, Cover)>,
@@ -469,14 +491,59 @@ impl Workbench {
         Ok(())
     }
 
+    /// The rows `s`'s condition keeps, evaluated only when its key changed (derived
+    /// columns synced by the caller). On error the previous rows stay.
+    fn sync_subset(&mut self, s: &Settings, progress: &mut dyn FnMut(&str, f64)) -> Result<()> {
+        let key = subset_key(s);
+        if self.subset.as_ref().map(|(k, _)| k) == Some(&key) {
+            return Ok(());
+        }
+        let rows = if s.keep_rows.is_some() {
+            progress("rows", 0.0);
+            self.subset_evaluations += 1;
+            subset::select(self.need_table()?, s)?
+        } else {
+            None
+        };
+        self.subset = Some((key, rows));
+        Ok(())
+    }
+
+    /// What a condition on column `name` can be written from (see
+    /// [`subset::ColumnOverview`]), listing at most `max_levels` values of a text column.
+    pub fn column_overview(&self, name: &str, max_levels: usize) -> Result<subset::ColumnOverview> {
+        let table = self.need_table()?;
+        let col = table.column(name).ok_or_else(|| Error::settings("keepRows", format!("no column named '{name}' in {}", table.name)))?;
+        Ok(subset::overview(col, max_levels))
+    }
+
+    /// How many times a row condition has been evaluated since the table was set: changing
+    /// anything but the condition, the derived columns or the missing-value rules (or
+    /// re-colouring) evaluates nothing.
+    pub fn subset_evaluations(&self) -> usize {
+        self.subset_evaluations
+    }
+
+    /// The rows kept by the last build's condition (`None`: every row), from the cache
+    /// when it is that build's, else evaluated again.
+    fn last_subset(&self) -> Result<std::borrow::Cow<'_, Option<RowSubset>>> {
+        let (table, b) = self.table_and_build()?;
+        match &self.subset {
+            Some((k, rows)) if *k == subset_key(&b.settings) => Ok(std::borrow::Cow::Borrowed(rows)),
+            _ => Ok(std::borrow::Cow::Owned(subset::select(table, &b.settings)?)),
+        }
+    }
+
     /// Points, lens and cover for `s`, each re-used when its part of the settings is
     /// unchanged (settings validated and derived columns synced by the caller).
     fn prepare(&mut self, s: &Settings, progress: &mut dyn FnMut(&str, f64)) -> Result<()> {
+        self.sync_subset(s, progress)?;
         let table = self.table.as_ref().ok_or_else(|| Error::Input("no table is loaded yet: open a CSV file first".into()))?;
         let pk = PointsKey::of(s);
         if self.points.as_ref().map(|(k, _)| k) != Some(&pk) {
             progress("points", 0.0);
-            self.points = Some((pk, points::build_points(table, s)?));
+            let rows = self.subset.as_ref().and_then(|(_, r)| r.as_ref());
+            self.points = Some((pk, points::build_points_in(table, s, rows)?));
             self.lens = None;
         }
         let pts = &self.points.as_ref().expect("just set").1;
@@ -719,8 +786,8 @@ impl Workbench {
         Ok(rows)
     }
 
-    /// Every column compared between the rows of `nodes` and all other rows of the table:
-    /// numeric columns and category columns in two lists, each most different first (see
+    /// Every column compared between the rows of `nodes` and all other rows of the table
+    /// (all other rows the row condition keeps, when there is one): numeric columns and category columns in two lists, each most different first (see
     /// [`crate::explain`]).
     pub fn explain(&mut self, nodes: &[usize]) -> Result<Contrast> {
         let rows = self.rows_of(nodes)?;
@@ -734,16 +801,18 @@ impl Workbench {
             let sorted = SortedColumns::new(table, &fills);
             self.sorted = Some((key, sorted));
         }
+        let subset = self.last_subset()?;
+        let among = subset.as_ref().as_ref().map(|r| &r.keep[..]);
         let table = self.table.as_ref().expect("checked");
         let mut in_group = vec![false; table.n_rows];
         for &r in &rows {
             in_group[r as usize] = true;
         }
-        let mut categories = explain::category_contrast(table, &in_group);
+        let mut categories = explain::category_contrast_among(table, &in_group, among);
         for c in &mut categories {
             c.keep_levels(CONTRAST_LEVELS);
         }
-        Ok(Contrast { columns: explain::contrast(table, &self.sorted.as_ref().expect("just set").1, &in_group), categories })
+        Ok(Contrast { columns: explain::contrast_among(table, &self.sorted.as_ref().expect("just set").1, &in_group, among), categories })
     }
 
     /// The values of `columns` (every column when empty) at table rows `rows`, for the
@@ -792,7 +861,9 @@ impl Workbench {
         let (table, b) = self.table_and_build()?;
         match axes {
             crate::scatter::Axes::Columns(x, y) => {
-                let mut d = crate::scatter::column_pair(table, &b.settings.missing.fill_values, x, y, limit, b.settings.seed)?;
+                let subset = self.last_subset()?;
+                let among = subset.as_ref().as_ref().map(|r| &r.keep[..]);
+                let mut d = crate::scatter::column_pair(table, &b.settings.missing.fill_values, x, y, among, limit, b.settings.seed)?;
                 let pts = self.points.as_ref().filter(|(k, _)| *k == PointsKey::of(&b.settings)).map(|(_, p)| p);
                 if let Some(p) = pts.filter(|p| !p.set_aside.is_empty()) {
                     d.set_aside = d.rows.iter().enumerate().filter(|(_, r)| p.set_aside.binary_search(r).is_ok()).map(|(i, _)| i as u32).collect();
@@ -1000,6 +1071,8 @@ impl Resampler {
             rows: (0..draws.len() as u32).collect(),
             columns: self.pts.columns.clone(),
             left_out: 0,
+            not_kept: 0,
+            not_kept_undecided: 0,
             left_out_by_column: Vec::new(),
             filled_by_column: Vec::new(),
             set_aside: Vec::new(),
@@ -1170,6 +1243,8 @@ fn assemble(table: &Table, pts: &Points, lens: &Lenses, cov: &Cover, c: &Cluster
     let summary = Summary {
         rows: pts.rows.len(),
         rows_left_out: pts.left_out,
+        rows_not_kept: pts.not_kept,
+        rows_not_kept_missing: pts.not_kept_undecided,
         nodes: nerve.nodes.len(),
         edges: nerve.edges.len(),
         components,

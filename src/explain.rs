@@ -118,10 +118,24 @@ pub fn smd(a: &[f64], b: &[f64]) -> (Option<f64>, Option<f64>, Option<f64>) {
 /// Compares every numeric column of `table` between rows flagged in `in_group` and the
 /// others, ranked as the module says.
 pub fn contrast(table: &Table, sorted: &SortedColumns, in_group: &[bool]) -> Vec<ColumnContrast> {
+    contrast_among(table, sorted, in_group, None)
+}
+
+/// [`contrast`] among the rows flagged in `among` only (the rows a row condition keeps;
+/// every row when `None`): the others are neither in the group nor in the rest.
+pub fn contrast_among(table: &Table, sorted: &SortedColumns, in_group: &[bool], among: Option<&[bool]>) -> Vec<ColumnContrast> {
+    let kept_order: Vec<Vec<u32>>;
+    let orders: Vec<Option<&Vec<u32>>> = match among {
+        None => sorted.orders.iter().map(Option::as_ref).collect(),
+        Some(keep) => {
+            kept_order = sorted.orders.iter().map(|o| o.as_ref().map_or_else(Vec::new, |o| o.iter().copied().filter(|&r| keep[r as usize]).collect())).collect();
+            sorted.orders.iter().zip(&kept_order).map(|(o, k)| o.as_ref().map(|_| k)).collect()
+        }
+    };
     let mut out: Vec<ColumnContrast> = table
         .columns
         .iter()
-        .zip(&sorted.orders)
+        .zip(orders)
         .filter_map(|(c, order)| {
             let (Some(v), Some(order)) = (c.as_numbers(), order) else { return None };
             let (mut a, mut b) = (Vec::new(), Vec::new());
@@ -174,11 +188,16 @@ pub fn contrast(table: &Table, sorted: &SortedColumns, in_group: &[bool]) -> Vec
 /// Compares every category column of `table` between rows flagged in `in_group` and the
 /// others, ranked by total variation distance (see [`category`]).
 pub fn category_contrast(table: &Table, in_group: &[bool]) -> Vec<CategoryContrast> {
+    category_contrast_among(table, in_group, None)
+}
+
+/// [`category_contrast`] among the rows flagged in `among` only (every row when `None`).
+pub fn category_contrast_among(table: &Table, in_group: &[bool], among: Option<&[bool]>) -> Vec<CategoryContrast> {
     let mut out: Vec<CategoryContrast> = table
         .columns
         .iter()
         .filter_map(|c| match &c.data {
-            ColumnData::Category { codes, levels } => Some(category::contrast_codes(&c.name, levels, codes, in_group)),
+            ColumnData::Category { codes, levels } => Some(category::contrast_codes_among(&c.name, levels, codes, in_group, among)),
             ColumnData::Number(_) | ColumnData::Time(_) => None,
         })
         .collect();

@@ -13,13 +13,16 @@
 //!   mean or median instant as ISO 8601 text (string, in the column's zone) and a spread
 //!   or share as a double (the spread in seconds, `column (spread, s)`); no value is
 //!   written for a node without one;
-//!   edge attribute `shared` (int, rows the two nodes share); graph attribute `settings`
-//!   (string, the settings JSON that rebuilds the graph). Checked with NetworkX's reader.
+//!   edge attribute `shared` (int, rows the two nodes share); graph attributes `settings`
+//!   (string, the settings JSON that rebuilds the graph), `rowsUsed`, `rowsLeftOut` (for a
+//!   missing value), `rowsSetAside` (by denoising), `rowsNotKept` (by the row condition)
+//!   (ints) and, when the settings keep only some rows, `keepRows` (string, the condition). Checked with NetworkX's reader.
 //! - Memberships CSV: header `data_row,node`, then one line per (row, node) membership,
 //!   by node then row; `data_row` counts the file's data rows from 1 (the header not
 //!   counted), `node` is the node's index (the `n` number of the GraphML id).
-//! - A short text report: the settings, the summary (a time lens's range as ISO 8601 text)
-//!   and the caution that goes with any Mapper graph.
+//! - A short text report: the rows used (and the condition that chose them), the settings,
+//!   the summary (a time lens's range as ISO 8601 text) and the caution that goes with any
+//!   Mapper graph.
 //!
 //! What it is not: a reader of these formats (settings are read back from the JSON).
 
@@ -122,6 +125,12 @@ pub fn graphml_sized(b: &Build, sizes: &[usize], extra: &[NodeAttribute]) -> Str
     x.push_str("<?xml version=\"1.0\" encoding=\"UTF-8\"?>\n");
     x.push_str("<graphml xmlns=\"http://graphml.graphdrawing.org/xmlns\" xmlns:xsi=\"http://www.w3.org/2001/XMLSchema-instance\" xsi:schemaLocation=\"http://graphml.graphdrawing.org/xmlns http://graphml.graphdrawing.org/xmlns/1.0/graphml.xsd\">\n");
     x.push_str("  <key id=\"settings\" for=\"graph\" attr.name=\"settings\" attr.type=\"string\"/>\n");
+    for key in ["rowsUsed", "rowsLeftOut", "rowsSetAside", "rowsNotKept"] {
+        let _ = writeln!(x, "  <key id=\"{key}\" for=\"graph\" attr.name=\"{key}\" attr.type=\"int\"/>");
+    }
+    if b.settings.keep_rows.is_some() {
+        x.push_str("  <key id=\"keepRows\" for=\"graph\" attr.name=\"keepRows\" attr.type=\"string\"/>\n");
+    }
     x.push_str("  <key id=\"size\" for=\"node\" attr.name=\"size\" attr.type=\"int\"/>\n");
     x.push_str("  <key id=\"element\" for=\"node\" attr.name=\"element\" attr.type=\"int\"/>\n");
     x.push_str("  <key id=\"lens\" for=\"node\" attr.name=\"lens\" attr.type=\"double\"/>\n");
@@ -136,6 +145,13 @@ pub fn graphml_sized(b: &Build, sizes: &[usize], extra: &[NodeAttribute]) -> Str
     x.push_str("  <graph id=\"G\" edgedefault=\"undirected\">\n");
     let settings = serde_json::to_string(&b.settings).expect("settings serialise");
     let _ = writeln!(x, "    <data key=\"settings\">{}</data>", xml_escape(&settings));
+    let sm = &b.summary;
+    for (key, v) in [("rowsUsed", sm.rows), ("rowsLeftOut", sm.rows_left_out), ("rowsSetAside", sm.rows_set_aside), ("rowsNotKept", sm.rows_not_kept)] {
+        let _ = writeln!(x, "    <data key=\"{key}\">{v}</data>");
+    }
+    if let Some(c) = &b.settings.keep_rows {
+        let _ = writeln!(x, "    <data key=\"keepRows\">{}</data>", xml_escape(c));
+    }
     for (i, n) in b.nerve.nodes.iter().enumerate() {
         let _ = write!(
             x,
@@ -198,6 +214,15 @@ pub fn report(b: &Build, file_name: &str, table: Option<&Table>) -> String {
     let s = &b.summary;
     let mut t = String::new();
     let _ = writeln!(t, "Nervure graph of {file_name}\n");
+    if let Some(c) = &b.settings.keep_rows {
+        let _ = writeln!(t, "Rows kept where: {c}");
+        let why = if s.rows_not_kept_missing > 0 {
+            format!(" ({} of them because a value the condition reads is missing)", s.rows_not_kept_missing)
+        } else {
+            String::new()
+        };
+        let _ = writeln!(t, "Rows not kept by that condition: {}{why}", s.rows_not_kept);
+    }
     let _ = writeln!(t, "Rows used: {} ({} left out for a missing value)", s.rows, s.rows_left_out);
     for (c, k) in &s.left_out_by_column {
         let _ = writeln!(t, "  '{c}' had no value in {k} rows");
@@ -254,10 +279,34 @@ mod tests {
 
     /// Two separate arcs of points along x: a small graph with a known number of nodes.
     fn small_build() -> Build {
+        small_build_where(None)
+    }
+
+    /// The same with a row condition (`<` and `>` to be escaped in XML).
+    fn small_build_where(condition: Option<&str>) -> Build {
         let x: Vec<f64> = (0..40).map(|i| if i < 20 { i as f64 * 0.1 } else { 10.0 + (i - 20) as f64 * 0.1 }).collect();
         let t = Table::from_columns("t", vec![Column::number("x", x.clone()), Column::number("y", x.iter().map(|v| v * 0.5).collect())]).unwrap();
-        let s = Settings::plain(vec!["x".into(), "y".into()], Lens::Column { column: "x".into() }, CoverSettings::uniform(8, 0.3), Clustering::Dbscan { eps: 0.3, min_points: 1 });
+        let mut s = Settings::plain(vec!["x".into(), "y".into()], Lens::Column { column: "x".into() }, CoverSettings::uniform(8, 0.3), Clustering::Dbscan { eps: 0.3, min_points: 1 });
+        s.keep_rows = condition.map(String::from);
         crate::engine::build(&t, &s).unwrap()
+    }
+
+    #[test]
+    fn report_and_graphml_say_which_rows_were_kept() {
+        let b = small_build_where(Some("x < 1.45 or x > 10.45 and y != 5.5"));
+        // By hand: x = 0.0 .. 1.4 (15 rows), and 10.5 .. 11.9 (15 rows; y = 5.25 .. 5.95, never 5.5
+        // exactly since 11.0 * 0.5 is not among them: x steps from 10.0 by 0.1 in floating point).
+        let kept = b.nerve.nodes.iter().flat_map(|n| n.members.iter().copied()).collect::<std::collections::BTreeSet<u32>>();
+        assert_eq!(b.summary.rows + b.summary.rows_not_kept, 40);
+        assert!(kept.iter().all(|&r| r < 15 || r >= 25), "{kept:?}");
+        let r = report(&b, "t.csv", None);
+        assert!(r.contains("Rows kept where: x < 1.45 or x > 10.45 and y != 5.5\n"), "{r}");
+        assert!(r.contains(&format!("Rows not kept by that condition: {}\n", b.summary.rows_not_kept)), "{r}");
+        let g = graphml(&b, &[]);
+        assert!(g.contains("<data key=\"keepRows\">x &lt; 1.45 or x &gt; 10.45 and y != 5.5</data>"), "{g}");
+        assert!(g.contains(&format!("<data key=\"rowsNotKept\">{}</data>", b.summary.rows_not_kept)));
+        assert!(!graphml(&small_build(), &[]).contains("keepRows"));
+        assert!(!report(&small_build(), "t.csv", None).contains("Rows kept where"));
     }
 
     const NAME: &str = "a&b <c> \"d\" 'e'";
@@ -304,9 +353,16 @@ mod tests {
 
     #[test]
     fn graphml_reads_back_with_networkx() {
-        let b = small_build();
+        // Without a row condition, and with one that has '<' and '>' to escape.
+        for condition in [None, Some("x < 1.45 or x > 10.45")] {
+            graphml_with_networkx(condition);
+        }
+    }
+
+    fn graphml_with_networkx(condition: Option<&str>) {
+        let b = small_build_where(condition);
         let colour: Vec<f64> = (0..b.nerve.nodes.len()).map(|i| i as f64 * 0.5).collect();
-        let dir = std::env::temp_dir().join(format!("nervure-graphml-{}", std::process::id()));
+        let dir = std::env::temp_dir().join(format!("nervure-graphml-{}-{}", std::process::id(), condition.is_some()));
         std::fs::create_dir_all(&dir).unwrap();
         let path = dir.join("small.graphml");
         std::fs::write(&path, graphml(&b, &[NodeAttribute { name: NAME.into(), values: AttributeValues::Double(colour) }])).unwrap();
@@ -331,6 +387,7 @@ mod tests {
             .arg(b.nerve.edges.len().to_string())
             .arg(NAME)
             .arg(b.nerve.edges.iter().map(|e| e.shared as usize).sum::<usize>().to_string())
+            .args(condition.map(|c| [c.to_string(), b.summary.rows_not_kept.to_string()]).into_iter().flatten())
             .output()
             .unwrap();
         let _ = std::fs::remove_dir_all(&dir);

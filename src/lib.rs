@@ -3,7 +3,7 @@
 //! Data flows one way, each stage a plain value the next one reads:
 //!
 //! ```text
-//! bytes ─► Table ─► Points ─► lens values ─► Cover ─► clusters ─► Nerve ─► Layout
+//! bytes ─► Table ─► rows kept ─► Points ─► lens values ─► Cover ─► clusters ─► Nerve ─► Layout
 //! ```
 //!
 //! This crate knows nothing of the DOM or of WebAssembly except in `web`, the thin
@@ -19,6 +19,7 @@ pub mod timecol;
 pub mod align;
 pub mod campaign;
 pub mod derive;
+pub mod subset;
 pub mod missing;
 pub mod points;
 pub mod filter;

@@ -22,10 +22,20 @@ impl<'a> ColumnValues<'a> {
     /// and no value at all in the column, `fill_with` stays `None`: there is nothing to
     /// take a median of, so rows are left out as usual.
     pub fn new(name: &str, raw: &'a [f64], m: &'a Missing) -> Self {
+        Self::among(name, raw, m, None)
+    }
+
+    /// As [`ColumnValues::new`], the median taken over the rows flagged in `among` only
+    /// (the rows a row condition keeps; every row when `None`).
+    pub fn among(name: &str, raw: &'a [f64], m: &'a Missing, among: Option<&[bool]>) -> Self {
         let fills = m.fills_for(name);
-        let fill_with = match m.policy_for(name) {
-            MissingPolicy::LeaveOut => None,
-            MissingPolicy::Median => median_of_present(raw, fills),
+        let fill_with = match (m.policy_for(name), among) {
+            (MissingPolicy::LeaveOut, _) => None,
+            (MissingPolicy::Median, None) => median_of_present(raw, fills),
+            (MissingPolicy::Median, Some(keep)) => {
+                let mut v: Vec<f64> = raw.iter().zip(keep).filter(|(&x, &k)| k && !is_missing(x, fills)).map(|(&x, _)| x).collect();
+                median_in_place(&mut v)
+            }
         };
         ColumnValues { raw, fills, fill_with }
     }

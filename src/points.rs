@@ -1,17 +1,20 @@
 //! From a table to points: the chosen columns, with rows that miss a value left out
 //! (and counted), scaled, as one contiguous row-major n × d matrix for distance work.
 //!
-//! This module decides which rows take part; every later stage works on point indices
-//! and maps back to table rows through [`Points::rows`]. The optional denoising stage
-//! ([`crate::settings::Denoise`], [`set_aside_far_rows`]) runs last here, after scaling
-//! and before any filter: the rows it sets aside are not points, and are listed in
-//! [`Points::set_aside`].
+//! This module decides which of the rows kept by the row condition ([`crate::subset`])
+//! take part; every later stage works on point indices and maps back to table rows
+//! through [`Points::rows`]. Rows the condition does not keep are not looked at at all:
+//! they are not counted as missing, and scaling and median fills use the kept rows only.
+//! The optional denoising stage ([`crate::settings::Denoise`], [`set_aside_far_rows`])
+//! runs last here, after scaling and before any filter: the rows it sets aside are not
+//! points, and are listed in [`Points::set_aside`].
 
 use ndarray::Array2;
 
 use crate::error::{Error, Result};
 use crate::missing::ColumnValues;
 use crate::settings::{Lens, Scaling, Settings};
+use crate::subset::RowSubset;
 use crate::table::Table;
 
 #[derive(Debug, Clone, PartialEq)]
@@ -21,8 +24,13 @@ pub struct Points {
     /// Table row index of each point, increasing.
     pub rows: Vec<u32>,
     pub columns: Vec<String>,
-    /// Rows left out because a chosen column (or the lens column) had no value.
+    /// Rows kept by the row condition but left out because a chosen column (or the lens
+    /// column) had no value.
     pub left_out: usize,
+    /// Rows the row condition did not keep (0 without a condition).
+    pub not_kept: usize,
+    /// Of `not_kept`, rows where the condition was unknown for a missing value.
+    pub not_kept_undecided: usize,
     /// For each column that cost rows, how many rows had no value there.
     pub left_out_by_column: Vec<(String, usize)>,
     /// For each column under the median policy, how many of the points took its median
@@ -43,6 +51,8 @@ pub struct PointsKey {
     /// Derived columns change the values behind their names.
     derived: Vec<crate::settings::Derived>,
     denoise: Option<crate::settings::Denoise>,
+    /// The row condition.
+    keep_rows: Option<String>,
 }
 
 impl PointsKey {
@@ -61,6 +71,7 @@ impl PointsKey {
                 .collect(),
             derived: s.derived.clone(),
             denoise: s.denoise.clone(),
+            keep_rows: s.keep_rows.clone(),
         }
     }
 }
@@ -70,7 +81,17 @@ pub fn is_missing(x: f64, fill_values: &[f64]) -> bool {
     !x.is_finite() || fill_values.contains(&x)
 }
 
+/// The points of `s` over `table` (with the derived columns of `s` appended), the row
+/// condition evaluated here; [`crate::engine::Workbench`] keeps the rows kept instead and
+/// calls [`build_points_in`].
 pub fn build_points(table: &Table, s: &Settings) -> Result<Points> {
+    let rows = crate::subset::select(table, s)?;
+    build_points_in(table, s, rows.as_ref())
+}
+
+/// The points of `s` over the rows `rows` keeps (every row when `None`); `rows` must be
+/// [`crate::subset::select`]'s answer for `table` and `s`.
+pub fn build_points_in(table: &Table, s: &Settings, rows: Option<&RowSubset>) -> Result<Points> {
     let key = PointsKey::of(s);
     let mut seen = std::collections::HashSet::new();
     for c in &key.columns {
@@ -78,14 +99,15 @@ pub fn build_points(table: &Table, s: &Settings) -> Result<Points> {
             return Err(Error::settings("columns", format!("column '{c}' is listed twice")));
         }
     }
-    let view = |c: &str, field: &str| -> Result<ColumnValues<'_>> { Ok(ColumnValues::new(c, table.numbers(c, field)?, &s.missing)) };
+    let among = rows.map(|r| &r.keep[..]);
+    let view = |c: &str, field: &str| -> Result<ColumnValues<'_>> { Ok(ColumnValues::among(c, table.numbers(c, field)?, &s.missing, among)) };
     let cols: Vec<ColumnValues> = key.columns.iter().map(|c| view(c, "columns")).collect::<Result<_>>()?;
     let lens_fields = if matches!(s.lens, Lens::Column { .. }) { ["lens.column", "lens2.column"] } else { ["lens2.column", "lens2.column"] };
     let lens_cols: Vec<ColumnValues> = key.lens_columns.iter().zip(lens_fields).map(|(c, f)| view(c, f)).collect::<Result<_>>()?;
-    let n = table.n_rows;
+    let n = rows.map_or(table.n_rows, |r| r.kept);
     let d = cols.len();
 
-    let mut keep = vec![true; n];
+    let mut keep = rows.map_or_else(|| vec![true; table.n_rows], |r| r.keep.clone());
     let mut by_column = Vec::new();
     let mut filled_cols = Vec::new();
     for (name, col) in key.columns.iter().zip(&cols).chain(key.lens_columns.iter().zip(&lens_cols)) {
@@ -97,7 +119,7 @@ pub fn build_points(table: &Table, s: &Settings) -> Result<Points> {
         }
         let mut count = 0;
         for (r, k) in keep.iter_mut().enumerate() {
-            if col.is_missing(r) {
+            if col.is_missing(r) && (among.is_none_or(|a| a[r])) {
                 *k = false;
                 count += 1;
             }
@@ -106,10 +128,13 @@ pub fn build_points(table: &Table, s: &Settings) -> Result<Points> {
             by_column.push((name.clone(), count));
         }
     }
-    let rows: Vec<u32> = (0..n as u32).filter(|&i| keep[i as usize]).collect();
+    let subset = rows;
+    let rows: Vec<u32> = (0..table.n_rows as u32).filter(|&i| keep[i as usize]).collect();
+    let kept_words = |r: &RowSubset| format!(" of the {} rows kept by the condition {}", r.kept, r.condition);
     if let Some((c, _)) = by_column.iter().find(|(_, k)| *k == n && n > 0) {
+        let place = subset.map_or_else(|| " in any row".to_string(), |r| format!(" in any{}", kept_words(r)));
         return Err(Error::Data(format!(
-            "column '{c}' has no value in any row (every cell is empty, a missing marker or a fill value); leave it out"
+            "column '{c}' has no value{place} (every cell is empty, a missing marker or a fill value); leave it out"
         )));
     }
     let filled_by_column: Vec<(String, usize)> = filled_cols
@@ -119,8 +144,9 @@ pub fn build_points(table: &Table, s: &Settings) -> Result<Points> {
         .collect();
     if rows.is_empty() {
         let worst = by_column.iter().max_by_key(|(_, c)| *c).map(|(c, k)| format!(" ('{c}' is missing in {k} rows)")).unwrap_or_default();
+        let place = subset.map_or_else(String::new, kept_words);
         return Err(Error::Data(format!(
-            "no row has a value in every chosen column{worst}; choose other columns or declare fewer fill values"
+            "no row{place} has a value in every chosen column{worst}; choose other columns or declare fewer fill values"
         )));
     }
     let m = rows.len();
@@ -130,7 +156,8 @@ pub fn build_points(table: &Table, s: &Settings) -> Result<Points> {
         values.clear();
         values.extend(rows.iter().map(|&r| col.get(r as usize).expect("kept rows have a value or a fill")));
         scales.push(scaling_of(&values, s.scaling).map_err(|why| {
-            Error::Data(format!("column '{}' {why}; leave it out or choose scaling 'none'", key.columns[j]))
+            let kept = subset.map_or_else(String::new, |r| format!(" (the rows used are those kept by the condition {})", r.condition));
+            Error::Data(format!("column '{}' {why}{kept}; leave it out or choose scaling 'none'", key.columns[j]))
         })?);
     }
     drop(values);
@@ -143,7 +170,17 @@ pub fn build_points(table: &Table, s: &Settings) -> Result<Points> {
         }));
     }
     let data = Array2::from_shape_vec((m, d), flat).expect("m rows of d values");
-    let pts = Points { data, rows, columns: key.columns, left_out: n - m, left_out_by_column: by_column, filled_by_column, set_aside: Vec::new() };
+    let pts = Points {
+        data,
+        rows,
+        columns: key.columns,
+        left_out: n - m,
+        not_kept: subset.map_or(0, |r| r.not_kept),
+        not_kept_undecided: subset.map_or(0, |r| r.undecided),
+        left_out_by_column: by_column,
+        filled_by_column,
+        set_aside: Vec::new(),
+    };
     match &s.denoise {
         Some(dn) => set_aside_far_rows(pts, dn),
         None => Ok(pts),
@@ -231,7 +268,7 @@ mod tests {
 
     fn settings(cols: &[&str], scaling: Scaling) -> Settings {
         Settings {
-            version: 1,
+            version: SETTINGS_VERSION,
             columns: cols.iter().map(|s| s.to_string()).collect(),
             scaling,
             missing: Missing { fill_values: vec![-9999.0], ..Default::default() },
@@ -245,6 +282,7 @@ mod tests {
             cover2: None,
             denoise: None,
             min_cluster_share: 0.0,
+            keep_rows: None,
         }
     }
 

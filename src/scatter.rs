@@ -60,11 +60,13 @@ fn sample(total: usize, limit: usize, seed: u64) -> Vec<usize> {
     SplitMix64::new(seed).sample_indices(total, limit)
 }
 
-/// Two columns of `table` at a sample of the rows that have both (fill values missing).
-pub fn column_pair(table: &Table, fill_values: &[f64], x: &str, y: &str, limit: usize, seed: u64) -> Result<ScatterData> {
+/// Two columns of `table` at a sample of the rows that have both (fill values missing),
+/// among the rows flagged in `among` (those a row condition keeps; every row when `None`).
+pub fn column_pair(table: &Table, fill_values: &[f64], x: &str, y: &str, among: Option<&[bool]>, limit: usize, seed: u64) -> Result<ScatterData> {
     let xs = numeric(table, x, "x")?;
     let ys = numeric(table, y, "y")?;
     let both: Vec<u32> = (0..table.n_rows as u32)
+        .filter(|&r| among.is_none_or(|a| a[r as usize]))
         .filter(|&r| !is_missing(xs[r as usize], fill_values) && !is_missing(ys[r as usize], fill_values))
         .collect();
     let keep = sample(both.len(), limit, seed);
@@ -114,7 +116,7 @@ mod tests {
     #[test]
     fn column_pair_keeps_rows_with_both_values_and_their_values() {
         let t = table();
-        let s = column_pair(&t, &[-9999.0], "x", "y", 1000, 1).unwrap();
+        let s = column_pair(&t, &[-9999.0], "x", "y", None, 1000, 1).unwrap();
         // By construction: rows with i % 10 == 3 (10 rows) or i % 7 == 0 (15 rows) lack a
         // value; only 63 is in both sets, so 100 - 10 - 15 + 1 = 76 rows have both.
         assert_eq!(s.total, 76);
@@ -129,21 +131,21 @@ mod tests {
     #[test]
     fn sample_is_bounded_seeded_and_a_subset() {
         let t = table();
-        let a = column_pair(&t, &[-9999.0], "x", "y", 20, 7).unwrap();
-        let b = column_pair(&t, &[-9999.0], "x", "y", 20, 7).unwrap();
-        let c = column_pair(&t, &[-9999.0], "x", "y", 20, 8).unwrap();
+        let a = column_pair(&t, &[-9999.0], "x", "y", None, 20, 7).unwrap();
+        let b = column_pair(&t, &[-9999.0], "x", "y", None, 20, 7).unwrap();
+        let c = column_pair(&t, &[-9999.0], "x", "y", None, 20, 8).unwrap();
         assert_eq!(a.rows.len(), 20);
         assert_eq!(a.total, 76);
         assert_eq!(a, b, "same seed, same sample");
         assert_ne!(a.rows, c.rows, "another seed, another sample");
-        let all = column_pair(&t, &[-9999.0], "x", "y", 1000, 7).unwrap();
+        let all = column_pair(&t, &[-9999.0], "x", "y", None, 1000, 7).unwrap();
         assert!(a.rows.iter().all(|r| all.rows.contains(r)));
     }
 
     #[test]
     fn category_or_unknown_columns_are_refused_by_name() {
         let t = Table::from_columns("t", vec![Column::number("x", vec![1.0, 2.0])]).unwrap();
-        let e = column_pair(&t, &[], "x", "nope", 10, 1).unwrap_err().to_string();
+        let e = column_pair(&t, &[], "x", "nope", None, 10, 1).unwrap_err().to_string();
         assert!(e.contains("scatter.y") && e.contains("nope"), "{e}");
     }
 
@@ -153,7 +155,7 @@ mod tests {
         let y: Vec<f64> = (0..50).map(|i| (i as f64 * 0.11).cos()).collect();
         let t = Table::from_columns("t", vec![Column::number("x", x), Column::number("y", y)]).unwrap();
         let s = Settings {
-            version: 1,
+            version: SETTINGS_VERSION,
             columns: vec!["x".into(), "y".into()],
             scaling: Scaling::Zscore,
             missing: Missing::default(),
@@ -163,6 +165,7 @@ mod tests {
             cover2: None,
             denoise: None,
             min_cluster_share: 0.0,
+            keep_rows: None,
             clustering: Clustering::Dbscan { eps: 0.5, min_points: 2 },
             edges: EdgeRule::default(),
             seed: 1,

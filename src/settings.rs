@@ -10,8 +10,10 @@ use serde::{Deserialize, Serialize};
 use crate::error::{Error, Result};
 
 /// The settings format this build writes. Version 2 added `denoise` and
-/// `minClusterShare`; a version-1 document (which has neither) still reads, with neither.
-pub const SETTINGS_VERSION: u32 = 2;
+/// `minClusterShare`, version 3 `keepRows`; a document of an older version (which has
+/// none of the later fields) still reads, with none of them, and is held, and written
+/// back, as the current version.
+pub const SETTINGS_VERSION: u32 = 3;
 
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 #[serde(rename_all = "camelCase", deny_unknown_fields)]
@@ -51,6 +53,16 @@ pub struct Settings {
     /// overlapping element). 0 (the default) keeps every cluster. In [0, 0.5].
     #[serde(default, skip_serializing_if = "is_zero")]
     pub min_cluster_share: f64,
+    /// A row condition (version 3): only the rows where it holds take part, as in
+    /// `origin == "JFK" and hour(time_hour) >= 6` (the language is in
+    /// [`crate::derive::condition`]). Absent, every row takes part; a blank text is refused.
+    ///
+    /// One text, not a structure of ranges and ticked values: the page's ranges, tick boxes
+    /// and time windows write condition text, so the document has one source of truth,
+    /// what the user reads is exactly what is applied, and a condition typed by hand
+    /// (an `or`, a derived column) needs no second form.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub keep_rows: Option<String>,
 }
 
 fn is_zero(x: &f64) -> bool {
@@ -116,8 +128,9 @@ pub enum Scaling {
 /// JSON: `{"fillValues": [-9999], "perColumn": {"depth": {"fillValues": [0], "policy": "median"}}}`.
 /// A column listed in `perColumn` uses its own `fillValues` instead of the global list
 /// (absent: the global list) and its own `policy` (absent: `"leaveOut"`). Per-column
-/// entries apply to the points (coordinates and filter columns) and to node statistics;
-/// derived-column inputs, column summaries and the contrast ranking read the global list.
+/// entries apply to the points (coordinates and filter columns), to node statistics and to
+/// the row condition (`keepRows`); derived-column inputs, column summaries and the contrast
+/// ranking read the global list.
 #[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
 #[serde(rename_all = "camelCase", deny_unknown_fields)]
 pub struct Missing {
@@ -145,7 +158,7 @@ pub enum MissingPolicy {
     #[default]
     LeaveOut,
     /// The row takes the column's median over the table rows that have a value there
-    /// (NumPy's `median`: the mean of the two middle values for an even count), and is
+    /// (among the rows `keepRows` keeps, when there is a condition; NumPy's `median`: the mean of the two middle values for an even count), and is
     /// counted in `Summary.filledByColumn`.
     Median,
 }
@@ -284,6 +297,7 @@ impl Settings {
             cover2: None,
             denoise: None,
             min_cluster_share: 0.0,
+            keep_rows: None,
         }
     }
 
@@ -294,19 +308,23 @@ impl Settings {
         Self::from_value(value)
     }
 
+    /// Reads a settings document given as a JSON value. A document of an older version is
+    /// read by that version's rules and held as the current version.
     pub fn from_value(value: serde_json::Value) -> Result<Settings> {
-        match value.get("version").and_then(|v| v.as_u64()) {
+        let version = match value.get("version").and_then(|v| v.as_u64()) {
             None => return Err(Error::settings("version", format!("missing; this build reads versions 1 to {SETTINGS_VERSION}"))),
-            Some(v) if v as u32 > SETTINGS_VERSION => {
+            Some(0) => return Err(Error::settings("version", format!("0 is not a version; this build reads versions 1 to {SETTINGS_VERSION}"))),
+            Some(v) if v > SETTINGS_VERSION as u64 => {
                 return Err(Error::settings(
                     "version",
                     format!("the file is version {v}, written by a newer Nervure; this build reads versions 1 to {SETTINGS_VERSION}"),
                 ))
             }
-            _ => {}
-        }
-        check_shape(&value)?;
-        let s: Settings = serde_json::from_value(value).map_err(|e| Error::settings("(document)", e.to_string()))?;
+            Some(v) => v as u32,
+        };
+        check_shape(&value, version)?;
+        let mut s: Settings = serde_json::from_value(value).map_err(|e| Error::settings("(document)", e.to_string()))?;
+        s.version = SETTINGS_VERSION;
         s.validate()?;
         Ok(s)
     }
@@ -402,6 +420,9 @@ impl Settings {
             }
         }
         crate::derive::validate(&self.derived)?;
+        if let Some(text) = &self.keep_rows {
+            crate::subset::validate(text)?;
+        }
         Ok(())
     }
 }
@@ -413,7 +434,7 @@ const KNOWN_FIELDS: [(&str, &[&str]); 6] = [
         "",
         &[
             "version", "columns", "scaling", "missing", "lens", "cover", "clustering", "edges", "seed", "derived", "lens2", "cover2",
-            "denoise", "minClusterShare",
+            "denoise", "minClusterShare", "keepRows",
         ],
     ),
     ("denoise", &["measure", "k", "quantile"]),
@@ -457,12 +478,29 @@ fn path(parent: &str, field: &str) -> String {
     }
 }
 
+/// Fields that came with a version after the first, and that version.
+const LATER_FIELDS: [(&str, u32); 3] = [("denoise", 2), ("minClusterShare", 2), ("keepRows", 3)];
+
 /// Checks, before serde reads the document, what serde would refuse without naming the
-/// field's place: unknown fields, negative or fractional counts, text where a number goes.
-fn check_shape(value: &serde_json::Value) -> Result<()> {
+/// field's place: unknown fields (and fields newer than the document's `version`),
+/// negative or fractional counts, text where a number goes.
+fn check_shape(value: &serde_json::Value, version: u32) -> Result<()> {
     let obj = |parent: &str| if parent.is_empty() { value.as_object() } else { value.get(parent).and_then(|v| v.as_object()) };
-    if value.as_object().is_none() {
-        return Err(Error::settings("(document)", "a settings document is a JSON object: { \"version\": 1, ... }"));
+    let Some(top) = value.as_object() else {
+        return Err(Error::settings("(document)", format!("a settings document is a JSON object: {{ \"version\": {SETTINGS_VERSION}, ... }}")));
+    };
+    for (field, since) in LATER_FIELDS {
+        if version < since && top.contains_key(field) {
+            return Err(Error::settings(
+                field,
+                format!("came with settings version {since}, and this document says version {version}; write \"version\": {since}"),
+            ));
+        }
+    }
+    if let Some(v) = top.get("keepRows") {
+        if !v.is_string() {
+            return Err(Error::settings("keepRows", format!("{v} is not a condition; write it as text, as in \"depth > 2\"")));
+        }
     }
     for (parent, known) in KNOWN_FIELDS {
         let Some(o) = obj(parent) else { continue };
@@ -544,6 +582,7 @@ mod tests {
             cover2: None,
             denoise: None,
             min_cluster_share: 0.0,
+            keep_rows: None,
         }
     }
 
@@ -577,7 +616,46 @@ mod tests {
         let mut v: serde_json::Value = serde_json::from_str(&sample().to_json()).unwrap();
         v["version"] = serde_json::json!(SETTINGS_VERSION + 1);
         let e = Settings::from_value(v).unwrap_err().to_string();
-        assert!(e.contains("newer"), "{e}");
+        assert!(e.contains("newer") && e.contains(&format!("versions 1 to {SETTINGS_VERSION}")), "{e}");
+    }
+
+    #[test]
+    fn a_row_condition_round_trips_and_older_documents_still_read() {
+        // With and without a condition.
+        let mut s = sample();
+        s.keep_rows = Some("station in (\"north\", 'ridge') and hour(time) >= 6".into());
+        let text = s.to_json();
+        assert!(text.contains("\"keepRows\": \"station in (\\\"north\\\", 'ridge') and hour(time) >= 6\""), "{text}");
+        assert_eq!(Settings::from_json(&text).unwrap(), s);
+        assert!(!sample().to_json().contains("keepRows"), "no condition writes no field");
+        // A version 1 document (written before conditions existed) reads, keeps every row,
+        // and is held (and written back) as the current version.
+        let old = r#"{"version":1,"columns":["a"],"scaling":"none","lens":{"kind":"principal","component":1},
+            "cover":{"intervals":3,"overlap":0.2},"clustering":{"kind":"singleLinkage","gapBins":8}}"#;
+        let t = Settings::from_json(old).unwrap();
+        assert_eq!((t.version, t.keep_rows.clone()), (3, None));
+        assert!(t.to_json().contains("\"version\": 3"));
+        // A document cannot carry a field of a later version: keepRows came with version 3.
+        let mut v: serde_json::Value = serde_json::from_str(old).unwrap();
+        v["keepRows"] = serde_json::json!("a > 0");
+        let e = Settings::from_value(v.clone()).unwrap_err().to_string();
+        assert!(e.starts_with("setting 'keepRows': came with settings version 3, and this document says version 1"), "{e}");
+        v["version"] = serde_json::json!(2);
+        assert!(Settings::from_value(v.clone()).unwrap_err().to_string().contains("this document says version 2; write \"version\": 3"));
+        v["version"] = serde_json::json!(3);
+        assert_eq!(Settings::from_value(v.clone()).unwrap().keep_rows.as_deref(), Some("a > 0"));
+        // Unknown fields are still refused, naming the field; the condition must be text.
+        v["keepRowz"] = serde_json::json!("a > 0");
+        assert!(Settings::from_value(v.clone()).unwrap_err().to_string().contains("'keepRowz': unknown field"));
+        v.as_object_mut().unwrap().remove("keepRowz");
+        v["keepRows"] = serde_json::json!(["a > 0"]);
+        assert!(Settings::from_value(v.clone()).unwrap_err().to_string().contains("'keepRows': [\"a > 0\"] is not a condition"));
+        // A blank or malformed condition is refused with the caret message.
+        v["keepRows"] = serde_json::json!(" ");
+        assert!(Settings::from_value(v.clone()).unwrap_err().to_string().contains("leave keepRows out"));
+        v["keepRows"] = serde_json::json!("a >= 2 and or b");
+        let e = Settings::from_value(v).unwrap_err().to_string();
+        assert_eq!(e, "setting 'keepRows': a >= 2 and or b\n           ^^ expected a column name, a number or a value here, found the word 'or' (quote a column of that name: \"or\")");
     }
 
     #[test]
@@ -593,7 +671,7 @@ mod tests {
         let old = r#"{"version":1,"columns":["a"],"scaling":"none","lens":{"kind":"principal","component":1},
             "cover":{"intervals":3,"overlap":0.2},"clustering":{"kind":"dbscan","eps":0.5,"minPoints":5}}"#;
         let t = Settings::from_json(old).unwrap();
-        assert_eq!((t.version, t.denoise.clone(), t.min_cluster_share), (1, None, 0.0));
+        assert_eq!((t.version, t.denoise.clone(), t.min_cluster_share), (SETTINGS_VERSION, None, 0.0), "held as the current version");
         let err = |v: serde_json::Value| Settings::from_value(v).unwrap_err().to_string();
         let mut v: serde_json::Value = serde_json::from_str(&text).unwrap();
         v["denoise"]["quantile"] = serde_json::json!(1.0);

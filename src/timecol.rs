@@ -709,6 +709,25 @@ fn check_date(y: u32, m: u32, d: u32) -> Result<(), String> {
     Ok(())
 }
 
+/// An instant (seconds since 1970-01-01 00:00 UTC) as ISO 8601 text in UTC:
+/// `2013-06-01T04:00:00Z`, with milliseconds when the instant has a fraction of a second.
+/// [`parse`] reads it back to the same instant (to the millisecond).
+pub fn iso_utc(seconds: f64) -> String {
+    let whole = seconds.floor();
+    let days = (whole / DAY as f64).floor() as i64;
+    let in_day = (whole as i64) - days * DAY;
+    let (y, m, d) = civil_from_days(days);
+    let (hh, mm, ss) = (in_day / 3600, in_day % 3600 / 60, in_day % 60);
+    let ms = ((seconds - whole) * 1000.0).round() as i64;
+    if ms == 0 {
+        format!("{y:04}-{m:02}-{d:02}T{hh:02}:{mm:02}:{ss:02}Z")
+    } else if ms >= 1000 {
+        iso_utc(whole + 1.0)
+    } else {
+        format!("{y:04}-{m:02}-{d:02}T{hh:02}:{mm:02}:{ss:02}.{ms:03}Z")
+    }
+}
+
 /// Days since 1970-01-01 of a proleptic Gregorian date (H. Hinnant, "chrono-Compatible
 /// Low-Level Date Algorithms", days_from_civil).
 pub fn days_from_civil(y: i64, m: u32, d: u32) -> i64 {
@@ -747,6 +766,16 @@ mod tests {
         for z in (-800_000..800_000).step_by(997) {
             let (y, m, d) = civil_from_days(z);
             assert_eq!(days_from_civil(y, m, d), z);
+        }
+    }
+
+    #[test]
+    fn iso_text_reads_back_to_the_same_instant() {
+        // 2013-01-01T06:00:00Z is 1 357 020 000 s (common practice: `date -u -d 2013-01-01T06:00Z +%s`).
+        assert_eq!(iso_utc(1_357_020_000.0), "2013-01-01T06:00:00Z");
+        assert_eq!(iso_utc(-1.5), "1969-12-31T23:59:58.500Z");
+        for s in [0.0, 1_357_020_000.0, 951_782_400.25, -86_400.0 * 365.0, 4_102_444_799.0] {
+            assert!((parse(&iso_utc(s), None).unwrap().seconds() - s).abs() < 1e-3, "{s}: {}", iso_utc(s));
         }
     }
 

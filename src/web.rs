@@ -138,6 +138,9 @@ pub struct Engine {
     /// The second table of a comparison, and its reader.
     bench_b: Workbench,
     reader_b: Option<TableReader>,
+    /// When the second table is a subset of the first: its row condition, which replaces
+    /// the settings' own for the second table ([`shape::swap::second_settings`]).
+    second_rows: Option<String>,
     /// Step-wise jobs of the shape panel (see the functions at the end).
     boot: Option<Bootstrap>,
     sweeping: Option<Sweeping>,
@@ -157,6 +160,7 @@ impl Engine {
             node_limit: 0,
             bench_b: Workbench::new(),
             reader_b: None,
+            second_rows: None,
             boot: None,
             sweeping: None,
             comparing: None,
@@ -477,6 +481,13 @@ impl Engine {
         to_js(&self.bench.row_values(rows, &columns).map_err(fail)?)
     }
 
+    /// What a row condition on `column` can be written from: `{name, kind, missing, min,
+    /// max, levels: [[value, rows]], moreLevels, first, last}` (see
+    /// [`crate::subset::ColumnOverview`]), at most `max_levels` values listed.
+    pub fn column_overview(&self, column: &str, max_levels: usize) -> Result<JsValue, JsValue> {
+        to_js(&self.bench.column_overview(column, max_levels).map_err(fail)?)
+    }
+
     /// What the derived columns of the last run found: `[{name, missing, undefined}]`.
     pub fn derived_info(&self) -> Result<JsValue, JsValue> {
         to_js(self.bench.derived_info())
@@ -645,6 +656,7 @@ impl Engine {
     pub fn finish_table_b(&mut self) -> Result<JsValue, JsValue> {
         let table = self.reader_b.take().ok_or_else(|| fail("internal: finish_table_b before begin_table_b"))?.finish().map_err(fail)?;
         self.comparing = None;
+        self.second_rows = None;
         self.bench_b.set_table(table);
         let t = self.bench_b.table().expect("just set");
         to_js(&TableInfo { name: &t.name, rows: t.n_rows, columns: t.summaries(&[]), notices: &[], encoding: "UTF-8" })
@@ -660,14 +672,33 @@ impl Engine {
         let a = self.bench.table().ok_or_else(|| fail("no table is loaded yet; open a CSV file first"))?;
         let table = shape::swap::second_table(a, &pairs, &s).map_err(fail)?;
         self.comparing = None;
+        self.second_rows = None;
         self.bench_b.set_table(table);
         let t = self.bench_b.table().expect("just set");
         to_js(&TableInfo { name: &t.name, rows: t.n_rows, columns: t.summaries(&[]), notices: &[], encoding: "UTF-8" })
     }
 
-    /// Builds the second table's graph with `settings`; returns its summary.
-    pub fn run_b(&mut self, settings: JsValue) -> Result<JsValue, JsValue> {
+    /// The second table made of other rows of the first ([`shape::swap::subset`]): the
+    /// first table under the row condition `condition`, which must keep two rows or more.
+    /// Returns `{name, rows, columns, keepRows}`, `rows` being the rows it keeps.
+    pub fn table_b_from_rows(&mut self, condition: &str, settings: JsValue) -> Result<JsValue, JsValue> {
         let s = settings_from_js(&settings)?;
+        let a = self.bench.table().ok_or_else(|| fail("no table is loaded yet; open a CSV file first"))?;
+        let (table, rows) = shape::swap::subset(a, &s, condition).map_err(fail)?;
+        self.comparing = None;
+        self.second_rows = Some(condition.to_string());
+        self.bench_b.set_table(table);
+        let t = self.bench_b.table().expect("just set");
+        let out = TableInfo { name: &t.name, rows: rows.kept, columns: t.summaries(&[]), notices: &[], encoding: "UTF-8" };
+        let value = to_js(&out)?;
+        set(&Object::from(value.clone()), "keepRows", &JsValue::from_str(condition));
+        Ok(value)
+    }
+
+    /// Builds the second table's graph with `settings` (its own row condition in place of
+    /// the settings' one when it is a subset of the first); returns its summary.
+    pub fn run_b(&mut self, settings: JsValue) -> Result<JsValue, JsValue> {
+        let s = shape::swap::second_settings(&settings_from_js(&settings)?, self.second_rows.as_deref());
         if self.bench_b.table().is_none() {
             return Err(fail("no second table is loaded yet; open a second CSV file to compare with"));
         }
@@ -683,9 +714,10 @@ impl Engine {
     /// been built with them: [`Engine::run`], [`Engine::run_b`]); returns 2 × `draws`.
     pub fn compare_begin(&mut self, settings: JsValue, draws: usize, alpha: f64, seed: f64) -> Result<usize, JsValue> {
         let s = settings_from_js(&settings)?;
+        let s_b = shape::swap::second_settings(&s, self.second_rows.as_deref());
         let a = self.bench.table().ok_or_else(|| fail("no table is loaded yet; open a CSV file first"))?;
         let b = self.bench_b.table().ok_or_else(|| fail("no second table is loaded yet; open a second CSV file to compare with"))?;
-        let c = Comparing::new(a, b, &s, draws, alpha, seed_of(seed)?).map_err(fail)?;
+        let c = Comparing::new_pair((a, &s), (b, &s_b), draws, alpha, seed_of(seed)?).map_err(fail)?;
         let total = c.total();
         self.comparing = Some(c);
         Ok(total)

@@ -40,6 +40,7 @@ fn base(columns: &[&str]) -> Settings {
         cover2: None,
         denoise: None,
         min_cluster_share: 0.0,
+        keep_rows: None,
     }
 }
 
@@ -200,11 +201,11 @@ fn bad_settings_documents_name_the_field() {
     );
     assert_eq!(
         refused(|v| v["version"] = json!(7)),
-        "setting 'version': the file is version 7, written by a newer Nervure; this build reads versions 1 to 2"
+        "setting 'version': the file is version 7, written by a newer Nervure; this build reads versions 1 to 3"
     );
     assert_eq!(
         refused(|v| v["colour"] = json!("red")),
-        "setting 'colour': unknown field; this build does not read it (fields: version, columns, scaling, missing, lens, cover, clustering, edges, seed, derived, lens2, cover2, denoise, minClusterShare)"
+        "setting 'colour': unknown field; this build does not read it (fields: version, columns, scaling, missing, lens, cover, clustering, edges, seed, derived, lens2, cover2, denoise, minClusterShare, keepRows)"
     );
     assert_eq!(
         refused(|v| v["cover"]["width"] = json!(1)),

@@ -308,6 +308,7 @@ fn settings(lens: &str) -> Settings {
         cover2: None,
         denoise: None,
         min_cluster_share: 0.0,
+        keep_rows: None,
     }
 }
 

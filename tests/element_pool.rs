@@ -30,6 +30,7 @@ fn settings(clustering: Clustering, overlap: f64) -> Settings {
         cover2: None,
         denoise: None,
         min_cluster_share: 0.0,
+        keep_rows: None,
         clustering,
         edges: EdgeRule { min_shared: 1 },
         seed: 1,

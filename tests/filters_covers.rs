@@ -52,6 +52,7 @@ fn settings(columns: &[&str], lens: Lens) -> Settings {
         cover2: None,
         denoise: None,
         min_cluster_share: 0.0,
+        keep_rows: None,
     };
     s.validate().unwrap();
     s

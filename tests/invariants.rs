@@ -44,6 +44,7 @@ fn settings(d: usize, lens: Lens, clustering: Clustering) -> Settings {
         cover2: None,
         denoise: None,
         min_cluster_share: 0.0,
+        keep_rows: None,
     }
 }
 

@@ -1,5 +1,5 @@
-//! Property tests of the three readers of outside input: the CSV reader, the expression
-//! parser and the settings reader, on generated inputs (the `proptest` crate; cargo-fuzz
+//! Property tests of the readers of outside input: the CSV reader, the expression and
+//! row-condition parser (and the condition's evaluation) and the settings reader, on generated inputs (the `proptest` crate; cargo-fuzz
 //! would need a nightly compiler, which the build machines lack).
 //!
 //! The number of cases per property is proptest's `PROPTEST_CASES` (256 unless set; CI uses
@@ -12,7 +12,7 @@
 //! reader must read back; Rust's `{}` formatting of `f64` writes numbers that
 //! `str::parse::<f64>` reads back exactly (both std's documented round-trip guarantee).
 
-use nervure::derive::parse_expression;
+use nervure::derive::{condition, parse_condition, parse_expression};
 use nervure::settings::*;
 use nervure::table::{ColumnData, MISSING_CODE};
 use nervure::{ReadOptions, Settings, Table, TableReader};
@@ -160,6 +160,31 @@ proptest! {
         }
     }
 
+    /// The row-condition parser never panics and its errors point inside the text, on
+    /// character boundaries; a condition that parses is evaluated on a table with every
+    /// kind of column (numbers with a gap, text with a gap, date-times) or refused with an
+    /// error that points inside the text too, never a panic, and gives one verdict per row.
+    #[test]
+    fn condition_parser_and_evaluation_never_panic(text in prop_oneof![
+        "[a-z0-9_ .()+*/,<>=!'\"-]{0,40}",
+        "(x|s|t|n|\\(|\\)|<|<=|==|!=|>=|>| and | or |not | in |'a'|'b'|\"x\"|\"s\"|'2024-01-02'|1|2\\.5|-|\\+|,|hour\\(t\\)| ){0,16}",
+        any::<String>(),
+    ]) {
+        let check = |span: nervure::derive::parse::Span, text: &str| {
+            span.start <= span.end && span.end <= text.len() && text.is_char_boundary(span.start) && text.is_char_boundary(span.end)
+        };
+        match parse_condition(&text) {
+            Err(e) => {
+                prop_assert!(check(e.span, &text), "span {:?} outside {:?}", e.span, text);
+                prop_assert!(e.render(&text).starts_with(text.as_str()));
+            }
+            Ok(e) => match condition::verdicts(&e, &condition_table(), &Missing::default()) {
+                Err(e) => prop_assert!(check(e.span, &text), "span {:?} outside {:?}", e.span, text),
+                Ok(v) => prop_assert_eq!(v.len(), 4),
+            },
+        }
+    }
+
     /// Any JSON value is read or refused with a message, never a panic.
     #[test]
     fn settings_reader_never_panics(value in json_value()) {
@@ -170,11 +195,11 @@ proptest! {
     /// A valid document with one field replaced by any JSON is read or refused, never a
     /// panic; when it is read, writing and reading it again gives the same settings.
     #[test]
-    fn settings_with_a_field_replaced_never_panic(s in valid_settings(), which in 0usize..12, value in json_value()) {
+    fn settings_with_a_field_replaced_never_panic(s in valid_settings(), which in 0usize..13, value in json_value()) {
         let mut v: serde_json::Value = serde_json::from_str(&s.to_json()).unwrap();
-        let paths: [&[&str]; 12] = [
+        let paths: [&[&str]; 13] = [
             &["version"], &["columns"], &["scaling"], &["missing"], &["lens"], &["cover"], &["cover", "intervals"],
-            &["cover", "overlap"], &["clustering"], &["edges", "minShared"], &["seed"], &["derived"],
+            &["cover", "overlap"], &["clustering"], &["edges", "minShared"], &["seed"], &["derived"], &["keepRows"],
         ];
         let mut slot = &mut v;
         for key in paths[which] {
@@ -194,6 +219,21 @@ proptest! {
     }
 }
 
+/// Four rows: numbers with a gap, text with a gap, date-times.
+fn condition_table() -> Table {
+    use nervure::table::Column;
+    Table::from_columns(
+        "c",
+        vec![
+            Column::number("x", vec![1.0, f64::NAN, 3.0, -2.0]),
+            Column::number("n", vec![0.0, 1.0, 2.0, 3.0]),
+            Column::category("s", vec![0, 1, MISSING_CODE, 0], vec!["a".into(), "b".into()]),
+            Column::category("t", vec![0, 1, 2, 0], vec!["2024-01-01T10:00Z".into(), "2024-01-02".into(), "2024-01-03 08:00".into()]),
+        ],
+    )
+    .unwrap()
+}
+
 fn json_value() -> impl Strategy<Value = serde_json::Value> {
     use serde_json::{json, Value};
     let leaf = prop_oneof![
@@ -201,14 +241,14 @@ fn json_value() -> impl Strategy<Value = serde_json::Value> {
         any::<bool>().prop_map(Value::Bool),
         any::<i64>().prop_map(|i| json!(i)),
         any::<f64>().prop_filter("JSON numbers are finite", |x| x.is_finite()).prop_map(|x| json!(x)),
-        prop::sample::select(vec!["version", "columns", "kind", "dbscan", "principal", "zscore", "1", ""]).prop_map(|s| json!(s)),
+        prop::sample::select(vec!["version", "columns", "kind", "dbscan", "principal", "zscore", "1", "", "a > 1", "not"]).prop_map(|s| json!(s)),
         ".{0,8}".prop_map(Value::String),
     ];
     leaf.prop_recursive(4, 40, 6, |inner| {
         let keys = prop::sample::select(vec![
             "version", "columns", "scaling", "missing", "lens", "cover", "clustering", "edges", "seed", "derived", "kind",
             "intervals", "overlap", "eps", "minPoints", "gapBins", "component", "bandwidth", "norm", "minShared",
-            "fillValues", "name", "expression", "column", "other",
+            "fillValues", "name", "expression", "column", "other", "keepRows",
         ]);
         prop_oneof![
             prop::collection::vec(inner.clone(), 0..5).prop_map(Value::Array),
@@ -241,8 +281,9 @@ fn valid_settings() -> impl Strategy<Value = Settings> {
         clustering,
         1usize..10,
         any::<u64>(),
+        prop::option::of(prop::sample::select(vec!["a > 1", "s in ('x', \"y\") and not (b != 2.5)", "hour(t) >= 6 or t < '2013-06-01'"])),
     )
-        .prop_map(|(columns, scaling, fill_values, lens, (intervals, overlap), clustering, min_shared, seed)| Settings {
+        .prop_map(|(columns, scaling, fill_values, lens, (intervals, overlap), clustering, min_shared, seed, keep)| Settings {
             version: SETTINGS_VERSION,
             columns,
             scaling,
@@ -257,6 +298,7 @@ fn valid_settings() -> impl Strategy<Value = Settings> {
             cover2: None,
             denoise: None,
             min_cluster_share: 0.0,
+            keep_rows: keep.map(String::from),
         })
 }
 

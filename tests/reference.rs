@@ -81,6 +81,7 @@ fn settings(columns: &[String], lens: Lens, intervals: usize, overlap: f64, clus
         cover2: None,
         denoise: None,
         min_cluster_share: 0.0,
+        keep_rows: None,
     };
     s.validate().expect("test settings are valid");
     s

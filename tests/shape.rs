@@ -300,6 +300,7 @@ fn settings() -> Settings {
         cover2: None,
         denoise: None,
         min_cluster_share: 0.0,
+        keep_rows: None,
         lens: Lens::Column { column: "x".into() },
         cover: CoverSettings::uniform(6, 0.3),
         clustering: Clustering::Dbscan { eps: 0.35, min_points: 3 },

@@ -41,6 +41,7 @@ fn run(name: &str, pts: &Cloud, lens: Lens, intervals: usize, overlap: f64, eps:
         cover2: None,
         denoise: None,
         min_cluster_share: 0.0,
+        keep_rows: None,
     };
     nervure::build(&table, &s).unwrap_or_else(|e| panic!("{name}: {e}"))
 }
@@ -214,6 +215,7 @@ fn demo_temperature_and_oxygen_make_one_loop() {
         cover2: None,
         denoise: None,
         min_cluster_share: 0.0,
+        keep_rows: None,
     };
     let b = nervure::build(&table, &s).unwrap();
     expect("demo temperature-oxygen", &b, 1, 1);
@@ -251,6 +253,7 @@ fn run_grid(name: &str, pts: &Cloud, intervals: usize, overlap: f64, eps: f64) -
         cover2: None,
         denoise: None,
         min_cluster_share: 0.0,
+        keep_rows: None,
     };
     nervure::build(&table, &s).unwrap_or_else(|e| panic!("{name}: {e}"))
 }

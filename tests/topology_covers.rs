@@ -40,6 +40,7 @@ fn settings(cover: CoverSettings, lens2: Option<Lens>) -> Settings {
         lens2,
         denoise: None,
         min_cluster_share: 0.0,
+        keep_rows: None,
     };
     s.validate().unwrap();
     s

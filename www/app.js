@@ -171,6 +171,7 @@ function onEngineLost() {
 
 const STAGE_LABELS = {
   reading: "Reading the file",
+  rows: "Keeping the rows asked for",
   points: "Preparing the points",
   lens: "Computing the lens",
   cover: "Covering the lens range",
@@ -180,7 +181,7 @@ const STAGE_LABELS = {
 };
 
 /** Share of a build's bar each stage takes, in stage order (rough, for a steady bar). */
-const STAGE_SHARES = [["points", 0.05], ["lens", 0.15], ["cover", 0.05], ["clusters", 0.6], ["graph", 0.1], ["layout", 0.05]];
+const STAGE_SHARES = [["rows", 0.02], ["points", 0.05], ["lens", 0.15], ["cover", 0.05], ["clusters", 0.6], ["graph", 0.1], ["layout", 0.05]];
 
 function overallFraction(stage, fraction) {
   let before = 0;
@@ -241,6 +242,7 @@ async function loadTable(source, ask) {
   state.clusteringMemory = {};
   state.colour = { column: defaultColourColumn(), stat: "mean", values: null, min: NaN, max: NaN };
   view.setGraph(null);
+  rowsTableChanged();
   renderAll();
   shapePanel.tableChanged();
   await buildNow();
@@ -455,6 +457,29 @@ async function applySettings(candidate) {
   return JSON.parse(JSON.stringify(checked));
 }
 
+/** Applies the settings `change(copy)` makes and builds at once. On error the settings of
+ *  the graph on screen come back, and `showError(message)` shows the engine's message beside
+ *  the control that made the change (with its caret line) instead of above the graph;
+ *  `showError(null)` clears it after a success. Resolves with the summary. */
+async function applyOrRestore(change, showError) {
+  const before = JSON.parse(JSON.stringify(state.settings));
+  const candidate = JSON.parse(JSON.stringify(state.settings));
+  change(candidate);
+  try {
+    await applySettings(candidate);
+    await buildNow();
+  } catch (e) {
+    state.settings = before;
+    state.stale = false;
+    state.message = null;
+    renderAll();
+    showError(e.message);
+    throw e;
+  }
+  showError(null);
+  return state.summary;
+}
+
 async function refreshColumnSummaries() {
   const fill = (state.settings.missing && state.settings.missing.fillValues) || [];
   const info = await engine.request("summaries", { fillValues: fill });
@@ -542,6 +567,7 @@ function renderAll() {
   renderScaleHelp();
   renderDetail();
   renderDerived();
+  renderRows();
   renderRestored();
   renderOpenedNote();
   renderChrome();
@@ -715,14 +741,21 @@ function renderSummary() {
     line.append(fact);
   });
   const rows = [plural(s.rows, "row used", "rows used"), plural(s.rowsLeftOut, "row left out", "rows left out")];
+  if (state.builtSettings && state.builtSettings.keepRows) rows.splice(1, 0, formatCount(s.rowsNotKept) + " not kept by the condition");
   if (s.noiseRows > 0) rows.push(plural(s.noiseRows, "row in no cluster", "rows in no cluster"));
   if (s.rowsSetAside > 0) rows.push(plural(s.rowsSetAside, "far row set aside", "far rows set aside"));
   const rowLine = byId("summary-rows");
   rowLine.textContent = rows.join(" · ");
   rowLine.hidden = false;
+  const why = [];
+  if (state.builtSettings && state.builtSettings.keepRows) {
+    why.push("Rows not kept: the condition " + state.builtSettings.keepRows + " does not hold there" +
+      (s.rowsNotKeptMissing > 0 ? " (for " + formatCount(s.rowsNotKeptMissing) + " of them, a value it reads is missing)" : "") + ".");
+  }
   if (s.rowsLeftOut > 0 && s.leftOutByColumn && s.leftOutByColumn.length) {
-    line.title = "Rows left out for missing values: " + s.leftOutByColumn.map((p) => p[0] + " " + p[1]).join(", ");
-  } else line.removeAttribute("title");
+    why.push("Rows left out for missing values: " + s.leftOutByColumn.map((p) => p[0] + " " + p[1]).join(", "));
+  }
+  for (const e of [line, rowLine]) if (why.length) e.title = why.join(" "); else e.removeAttribute("title");
   if (state.stale) line.append(el("span", "stale-note", "(graph not updated: see the message)"));
   caution.hidden = false;
 }
@@ -940,6 +973,7 @@ function wire() {
   });
   wireInspector();
   wireDerived();
+  wireRows();
   wireExports();
   wireScatter();
   wireHistory();

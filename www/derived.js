@@ -54,35 +54,14 @@ function showDerivedError(message) {
   const box = byId("d-error");
   box.hidden = !message;
   // The engine's message: "setting 'derived[0].expression': <expression>\n<carets> <what>".
-  // The field goes on its own line, so the carets line up under the expression.
-  const m = /^(setting '[^']*':) ([^\n]*\n)/.exec(message || "");
-  box.textContent = m ? m[1] + "\n" + message.slice(m[0].length - m[2].length) : (message || "");
+  showCaretMessage(box, message);
   if (message) box.scrollIntoView({ block: "nearest" });
 }
 
 /** Replaces the derived list, checks and builds; on error the previous list comes back
  *  (the graph on screen still matches it) and the message shows under the form. */
 async function setDerivedList(list) {
-  const before = JSON.parse(JSON.stringify(state.settings));
-  const candidate = JSON.parse(JSON.stringify(state.settings));
-  candidate.derived = list;
-  try {
-    await applySettings(candidate);
-    await buildNow();
-  } catch (e) {
-    state.settings = before;
-    state.stale = false;
-    state.message = null;   // shown under the form instead, with its caret line
-    renderMessage();
-    renderSettings();
-    renderDerived();
-    renderSummary();
-    renderChrome();
-    showDerivedError(e.message);
-    throw e;
-  }
-  showDerivedError(null);
-  return state.summary;
+  return applyOrRestore(function (s) { s.derived = list; }, showDerivedError);
 }
 
 /** Adds a derived column (or replaces the one being edited). */

@@ -147,8 +147,9 @@ function graphSvg() {
 /** The line under an exported picture: the file, the counts, and what was hidden. */
 function pictureCaption() {
   const sm = state.summary, h = state.hiding;
-  const parts = [state.table.name, plural(sm.nodes, "node", "nodes"), plural(sm.edges, "edge", "edges"),
-    plural(sm.components, "component", "components") + singleNodesNote(sm), plural(sm.loops, "loop", "loops")];
+  const rows = state.builtSettings && state.builtSettings.keepRows ? "rows where " + state.builtSettings.keepRows : null;
+  const parts = [state.table.name].concat(rows ? [rows] : [], [plural(sm.nodes, "node", "nodes"), plural(sm.edges, "edge", "edges"),
+    plural(sm.components, "component", "components") + singleNodesNote(sm), plural(sm.loops, "loop", "loops")]);
   if (h && h.components > 0) {
     parts.push(plural(h.components, "component", "components") + " smaller than " + plural(state.view.hideBelow, "row", "rows") + " hidden (" + plural(h.rows, "row", "rows") + ")");
   }

@@ -41,6 +41,25 @@ function byId(id) {
   return e;
 }
 
+/** An engine message whose second line puts carets under a text ("setting 'f': TEXT\n
+ *  ^^^ why"), with the field on a line of its own so that the carets line up under the
+ *  text in a monospace block. Other messages come back as they are. */
+function caretText(message) {
+  const m = /^(setting '[^']*':) ([^\n]*\n)/.exec(message || "");
+  return m ? m[1] + "\n" + message.slice(m[0].length - m[2].length) : (message || "");
+}
+
+/** Shows `message` in `box` (a monospace block) as caretText() writes it: the lines up to
+ *  the carets kept as they are, so that the carets line up, and the reason after them
+ *  wrapping within the box instead of running out of sight. */
+function showCaretMessage(box, message) {
+  box.textContent = "";
+  const text = caretText(message);
+  const m = /^([\s\S]*\n *\^+ )([\s\S]*)$/.exec(text);
+  if (!m) { box.textContent = text; return; }
+  box.append(el("span", "caret-lines", m[1]), el("span", "caret-why", m[2]));
+}
+
 /** Parses "−9999, 999" into numbers; throws with a message that names the bad entry. */
 function parseNumberList(text) {
   const out = [];

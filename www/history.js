@@ -106,6 +106,7 @@ function renderHistory() {
     const thumb = thumbnail(r);
     const text = el("div", "history-text");
     text.append(el("strong", null, "Run " + r.id + (k === 0 ? " (on screen)" : "")), el("span", null, summaryText(r.summary)));
+    if (r.settings.keepRows) text.append(el("span", "history-rows", "rows where " + r.settings.keepRows));
     const prev = runs[k + 1];
     if (prev) {
       const diff = settingsDiff(prev.settings, r.settings);
@@ -154,7 +155,8 @@ function compareRuns(ids) {
   [["compare-a", pair[0]], ["compare-b", pair[1]]].forEach(function ([id, r]) {
     const c = byId(id);
     drawGraphStatic(c.getContext("2d"), c.width, c.height, r.graph, r.fills, 10);
-    byId(id + "-text").textContent = "Run " + r.id + ": " + summaryText(r.summary) + " · " + plural(r.summary.rows, "row", "rows") + " · " + r.fileName;
+    byId(id + "-text").textContent = "Run " + r.id + ": " + summaryText(r.summary) + " · " + plural(r.summary.rows, "row", "rows") + " · " + r.fileName +
+      (r.settings.keepRows ? " · rows where " + r.settings.keepRows : "");
   });
   const diff = byId("compare-diff");
   diff.textContent = "";

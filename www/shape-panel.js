@@ -2,7 +2,8 @@
  * on screen (components, loops, branches: the points of its extended persistence
  * diagram), marks a feature's nodes on the graph, and runs the engine's checks of them:
  * resampling the rows (bootstrap), settings suggested by rule, a grid of settings, and a
- * comparison with a second table. Every number shown comes from the engine; this file only
+ * comparison with a second table (another file, other columns of this one standing in, or
+ * other rows of this one: a second row condition, the rest of the settings the same). Every number shown comes from the engine; this file only
  * asks, waits and writes. It owns its own state and the elements under #shape-panel; the
  * page's state, settings and graph view come in through `deps` (see createShapePanel).
  *
@@ -457,6 +458,30 @@ function createShapePanel(deps) {
     }
   }
 
+  /** The second table made of the rows of this one where `condition` holds; the engine
+   *  checks the condition (a caret under a mistake, shown under the line). */
+  function useRows(condition) {
+    const text = String(condition).trim();
+    const box = byId("sp-rows-error");
+    box.hidden = true;
+    return setSecond(async () => {
+      if (!text) throw new Error("write the condition the second table's rows meet, e.g. origin == \"LGA\"");
+      return deps.request("rowsB", { condition: text, settings: copySettings() });
+    }).catch(function (e) {
+      box.hidden = false;
+      showCaretMessage(box, e.message);
+      throw e;
+    });
+  }
+
+  /** What the first table of a comparison of two subsets is. */
+  function renderRowsChoice() {
+    const s = deps.settings();
+    byId("sp-rows-first").textContent = s && s.keepRows
+      ? "The first table is the graph above: the rows where " + s.keepRows + ". Both graphs use the settings above; only the rows differ."
+      : "The first table is the graph above: every row. Both graphs use the settings above; only the rows differ.";
+  }
+
   function useSwap() {
     const pairs = Array.from(document.querySelectorAll("#sp-swap-body select")).filter((s) => s.value !== s.dataset.column).map((s) => [s.value, s.dataset.column]);
     return setSecond(async () => {
@@ -498,11 +523,20 @@ function createShapePanel(deps) {
   function renderCompare() {
     const pair = byId("sp-pair");
     const table = deps.table();
-    byId("sp-b-line").textContent = sp.second ? "Second table: " + sp.second.table.name + " · " + plural(sp.second.table.rows, "row", "rows") + ". Both graphs use the settings above." : "Open a second table with the same columns (for example, model output beside measurements).";
+    const settings = deps.settings();
+    const subset = sp.second && sp.second.table.keepRows;
+    byId("sp-b-line").textContent = !sp.second
+      ? "Open a second table with the same columns (for example, model output beside measurements), or take other rows of this one."
+      : subset
+      ? "Second table: the rows of " + table.name + " where " + subset + " · " + plural(sp.second.table.rows, "row", "rows") + ". Both graphs use the settings above; only the rows differ."
+      : "Second table: " + sp.second.table.name + " · " + plural(sp.second.table.rows, "row", "rows") + ". Both graphs use the settings above.";
+    renderRowsChoice();
     pair.hidden = !sp.second || !sp.second.graph;
     if (!pair.hidden) {
-      const sum = (s) => s ? plural(s.nodes, "node", "nodes") + " · " + plural(s.components, "component", "components") + " · " + plural(s.loops, "loop", "loops") : "";
-      byId("sp-a-caption").textContent = (table ? table.name : "") + ": " + sum(deps.summary());
+      const sum = (s) => s ? plural(s.rows, "row", "rows") + " · " + plural(s.nodes, "node", "nodes") + " · " + plural(s.components, "component", "components") + " · " + plural(s.loops, "loop", "loops") : "";
+      const cond = settings && settings.keepRows;
+      const rows = cond ? " (rows where " + cond + ")" : subset ? " (every row)" : "";
+      byId("sp-a-caption").textContent = (table ? table.name : "") + rows + ": " + sum(deps.summary());
       byId("sp-b-caption").textContent = sp.second.table.name + ": " + sum(sp.second.summary);
       miniA.resize();
       miniB.resize();
@@ -587,6 +621,10 @@ function createShapePanel(deps) {
     file.value = "";
   });
   byId("sp-swap-use").addEventListener("click", () => useSwap().catch(quiet));
+  byId("sp-rows-form").addEventListener("submit", function (ev) {
+    ev.preventDefault();
+    useRows(byId("sp-rows-condition").value).catch(quiet);
+  });
   byId("sp-compare-run").addEventListener("click", () => runCompare().catch(quiet));
   byId("sp-compare-cancel").addEventListener("click", () => cancel("compare"));
 
@@ -603,6 +641,8 @@ function createShapePanel(deps) {
     marked: () => (deps.view.highlight ? Array.from(deps.view.highlight).sort((a, b) => a - b) : null),
     running: () => ({ boot: !!sp.running.boot, grid: !!sp.running.grid, compare: !!sp.running.compare }),
     loadSecondCsv: (text, name) => loadSecond({ text: String(text), name: name || "second.csv" }),
+    /** Takes the rows of this table where `condition` holds as the second table. */
+    useSecondRows: (condition) => useRows(condition).then(() => value_or_null(sp.second.table)),
   });
 
   return {

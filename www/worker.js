@@ -16,6 +16,8 @@
  *               {id, type: "suggest", settings, seed}
  *               {id, type: "loadB", file | text, name}     the second table of a comparison
  *               {id, type: "swapB", pairs, settings}        second table = first with columns swapped
+ *               {id, type: "rowsB", condition, settings}    second table = other rows of the first
+ *               {id, type: "overview", column, maxLevels}   what a row condition on a column can say
  *               {id, type: "runB", settings}
  *               {id, type: "job", job: "bootstrap" | "sweep" | "compare", ...arguments}
  *               {type: "cancel", target}                   stops job `target` between steps, or run
@@ -382,6 +384,10 @@ async function handle(engine, msg) {
     }
     case "swapB":
       return { value: engine.table_b_from_columns(msg.pairs, msg.settings) };
+    case "rowsB":
+      return { value: engine.table_b_from_rows(msg.condition, msg.settings) };
+    case "overview":
+      return { value: engine.column_overview(msg.column, msg.maxLevels || 60) };
     case "runB": {
       const summary = engine.run_b(msg.settings);
       const g = engine.graph_b();

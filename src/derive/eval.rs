@@ -5,9 +5,12 @@
 //! value) is NaN in the result. Undefined operations (log or log10 of a value <= 0, sqrt
 //! of a negative value, division by zero) and results too large for a number give NaN
 //! too, and are counted by kind so the user is told how many rows they cost.
-//! What it is not: parsing (see [`super::parse`]) or deciding which columns the points use.
+//! What it is not: parsing (see [`super::parse`]), deciding which columns the points use,
+//! or the yes-or-no parts of a row condition ([`super::condition`], which calls
+//! [`values`] for the numbers it compares).
 
 use crate::derive::parse::{Expr, ExprError, ExprKind, Func, Op, Span};
+use crate::settings::Missing;
 use crate::table::{Column, ColumnData};
 use crate::timecol;
 
@@ -33,14 +36,34 @@ pub struct Undefined {
 /// What an undefined input is called, when an input is undefined, and the function.
 type Unary = (&'static str, fn(f64) -> bool, fn(f64) -> f64);
 
-enum Val {
+/// A value of every row: one number for all, or one per row (NaN where missing).
+#[derive(Debug, Clone, PartialEq)]
+pub enum Val {
     Scalar(f64),
     Column(Vec<f64>),
 }
 
+/// Which cells of a numeric column count as missing, besides NaN and infinities.
+#[derive(Debug, Clone, Copy)]
+pub enum Fills<'a> {
+    /// One list for every column (derived columns read the global list).
+    Global(&'a [f64]),
+    /// Each column's own list (row conditions; see [`Missing::fills_for`]).
+    PerColumn(&'a Missing),
+}
+
+impl Fills<'_> {
+    fn of(&self, column: &str) -> &[f64] {
+        match self {
+            Fills::Global(f) => f,
+            Fills::PerColumn(m) => m.fills_for(column),
+        }
+    }
+}
+
 struct Ctx<'a> {
     cols: &'a dyn Columns,
-    fills: &'a [f64],
+    fills: Fills<'a>,
     undefined: Vec<Undefined>,
 }
 
@@ -56,7 +79,7 @@ impl Ctx<'_> {
 /// Evaluates `e` over every row. Returns the values and the undefined operations met.
 pub fn evaluate(e: &Expr, cols: &dyn Columns, fills: &[f64]) -> Result<(Vec<f64>, Vec<Undefined>), ExprError> {
     check(e, cols)?;
-    let mut cx = Ctx { cols, fills, undefined: Vec::new() };
+    let mut cx = Ctx { cols, fills: Fills::Global(fills), undefined: Vec::new() };
     let n = cols.n_rows();
     let mut out = match eval(e, &mut cx)? {
         Val::Scalar(v) => vec![v; n],
@@ -71,12 +94,32 @@ pub fn evaluate(e: &Expr, cols: &dyn Columns, fills: &[f64]) -> Result<(Vec<f64>
     Ok((out, cx.undefined))
 }
 
+/// The value of a numeric part of a row condition (checked first), NaN where missing or
+/// undefined; nothing is counted.
+pub fn values(e: &Expr, cols: &dyn Columns, fills: Fills) -> Result<Val, ExprError> {
+    check(e, cols)?;
+    let mut cx = Ctx { cols, fills, undefined: Vec::new() };
+    Ok(match eval(e, &mut cx)? {
+        Val::Scalar(v) if v.is_infinite() => Val::Scalar(f64::NAN),
+        Val::Column(mut v) => {
+            v.iter_mut().filter(|x| x.is_infinite()).for_each(|x| *x = f64::NAN);
+            Val::Column(v)
+        }
+        v => v,
+    })
+}
+
 /// Checks every name before any work: it exists, numbers where numbers are read, a
 /// date-time column where hour(), doy() or time() read one.
 pub fn check(e: &Expr, cols: &dyn Columns) -> Result<(), ExprError> {
     match &e.kind {
         ExprKind::Number(_) => Ok(()),
-        ExprKind::Column(name) => match lookup(name, e.span, cols)?.data {
+        ExprKind::Text(t) => Err(ExprError::new(e.span, format!("'{t}' is text, not a number"))),
+        k if k.is_test() => Err(ExprError::new(
+            e.span,
+            "this part says yes or no, it has no number; a comparison compares numbers, texts or times, and and, or, not join such tests",
+        )),
+        ExprKind::Column(name) | ExprKind::Quoted(name) => match lookup(name, e.span, cols)?.data {
             ColumnData::Number(_) | ColumnData::Time(_) => Ok(()),
             ColumnData::Category { .. } => {
                 let hint = if timecol::parse_column(lookup(name, e.span, cols)?).is_ok() {
@@ -91,7 +134,7 @@ pub fn check(e: &Expr, cols: &dyn Columns) -> Result<(), ExprError> {
         ExprKind::Binary(_, a, b) => check(a, cols).and_then(|_| check(b, cols)),
         ExprKind::Call(f, args) if f.reads_time() => {
             let a = &args[0];
-            let ExprKind::Column(name) = &a.kind else {
+            let (ExprKind::Column(name) | ExprKind::Quoted(name)) = &a.kind else {
                 return Err(ExprError::new(a.span, format!("{}() reads a date-time column by name, as in {}(when)", f.name(), f.name())));
             };
             let col = lookup(name, a.span, cols)?;
@@ -104,10 +147,12 @@ pub fn check(e: &Expr, cols: &dyn Columns) -> Result<(), ExprError> {
             }
         }
         ExprKind::Call(_, args) => args.iter().try_for_each(|a| check(a, cols)),
+        _ => unreachable!("tests are refused above"),
     }
 }
 
-fn quoted(name: &str) -> String {
+/// A column name as it is written in an expression: bare when it can be, else in double quotes.
+pub fn quoted(name: &str) -> String {
     let plain = name.bytes().next().is_some_and(|c| c.is_ascii_alphabetic() || c == b'_') && name.bytes().all(|c| c.is_ascii_alphanumeric() || c == b'_');
     if plain {
         name.to_string()
@@ -116,7 +161,7 @@ fn quoted(name: &str) -> String {
     }
 }
 
-fn lookup<'a>(name: &str, span: Span, cols: &'a dyn Columns) -> Result<&'a Column, ExprError> {
+pub(crate) fn lookup<'a>(name: &str, span: Span, cols: &'a dyn Columns) -> Result<&'a Column, ExprError> {
     cols.get(name).ok_or_else(|| {
         let near = cols
             .names()
@@ -131,7 +176,7 @@ fn lookup<'a>(name: &str, span: Span, cols: &'a dyn Columns) -> Result<&'a Colum
 }
 
 /// Levenshtein distance over characters (common practice), for "did you mean".
-fn edit_distance(a: &str, b: &str) -> usize {
+pub(crate) fn edit_distance(a: &str, b: &str) -> usize {
     let b: Vec<char> = b.chars().collect();
     let mut row: Vec<usize> = (0..=b.len()).collect();
     for (i, ca) in a.chars().enumerate() {
@@ -149,20 +194,21 @@ fn edit_distance(a: &str, b: &str) -> usize {
 fn numbers(name: &str, cx: &Ctx) -> Vec<f64> {
     let col = cx.cols.get(name).expect("checked");
     let v = col.as_numbers().expect("checked");
-    v.iter().map(|&x| if !x.is_finite() || cx.fills.contains(&x) { f64::NAN } else { x }).collect()
+    let fills = cx.fills.of(name);
+    v.iter().map(|&x| if !x.is_finite() || fills.contains(&x) { f64::NAN } else { x }).collect()
 }
 
 fn eval(e: &Expr, cx: &mut Ctx) -> Result<Val, ExprError> {
     Ok(match &e.kind {
         ExprKind::Number(v) => Val::Scalar(*v),
-        ExprKind::Column(name) => Val::Column(numbers(name, cx)),
+        ExprKind::Column(name) | ExprKind::Quoted(name) => Val::Column(numbers(name, cx)),
         ExprKind::Neg(a) => map1(eval(a, cx)?, |x| -x),
         ExprKind::Binary(op, a, b) => {
             let (a, b) = (eval(a, cx)?, eval(b, cx)?);
             binary(*op, a, b, cx)
         }
         ExprKind::Call(f, args) if f.reads_time() => {
-            let ExprKind::Column(name) = &args[0].kind else { unreachable!("checked") };
+            let (ExprKind::Column(name) | ExprKind::Quoted(name)) = &args[0].kind else { unreachable!("checked") };
             let col = cx.cols.get(name).expect("checked");
             let part = match f {
                 Func::Hour => timecol::Part::Hour,
@@ -205,6 +251,12 @@ fn eval(e: &Expr, cx: &mut Ctx) -> Result<Val, ExprError> {
                 }
             }
         }
+        ExprKind::Text(_)
+        | ExprKind::Compare(..)
+        | ExprKind::In(..)
+        | ExprKind::And(..)
+        | ExprKind::Or(..)
+        | ExprKind::Not(_) => unreachable!("refused by check"),
     })
 }
 

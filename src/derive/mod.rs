@@ -7,11 +7,14 @@
 //! file's columns and the derived ones listed before it) and returns the new columns;
 //! the caller appends them to its table once per change of that list (see
 //! [`crate::engine::Workbench`]), never per run.
-//! What it is not: a general formula language (no conditionals, no text, no row offsets).
+//! What it is not: a general formula language (no if-then-else, no text results, no row offsets).
 //!
 //! - [`parse`]: text to syntax tree with spans, and errors that point at a character.
 //! - [`eval`]: column-wise evaluation, missing values and undefined operations.
+//! - [`condition`]: row conditions ("Keep rows where …"), the same language with
+//!   comparisons, `in`, `and`, `or`, `not`, evaluated to yes, no or unknown per row.
 
+pub mod condition;
 pub mod eval;
 pub mod parse;
 
@@ -22,7 +25,7 @@ use crate::settings::Derived;
 use crate::table::{Column, Table};
 
 pub use eval::Undefined;
-pub use parse::{parse as parse_expression, Expr, ExprError};
+pub use parse::{parse as parse_expression, parse_condition, Expr, ExprError};
 
 /// What evaluating one derived column found, for the page to show beside it.
 #[derive(Debug, Clone, PartialEq, Serialize)]
@@ -39,6 +42,19 @@ struct Lookup<'a> {
     base: &'a [Column],
     made: &'a [Column],
     n_rows: usize,
+}
+
+/// A table's columns (file and derived, when the caller has appended them) for row conditions.
+impl eval::Columns for Table {
+    fn get(&self, name: &str) -> Option<&Column> {
+        self.column(name)
+    }
+    fn names(&self) -> Vec<&str> {
+        self.columns.iter().map(|c| c.name.as_str()).collect()
+    }
+    fn n_rows(&self) -> usize {
+        self.n_rows
+    }
 }
 
 impl eval::Columns for Lookup<'_> {

@@ -83,10 +83,18 @@ impl CategoryContrast {
 /// The contrast of a column whose rows have level codes `codes` (`MISSING_CODE` for
 /// no value) into `levels`, group rows flagged by `in_group`.
 pub fn contrast_codes(name: &str, levels: &[String], codes: &[u32], in_group: &[bool]) -> CategoryContrast {
+    contrast_codes_among(name, levels, codes, in_group, None)
+}
+
+/// [`contrast_codes`] over the rows flagged in `among` only (every row when `None`).
+pub fn contrast_codes_among(name: &str, levels: &[String], codes: &[u32], in_group: &[bool], among: Option<&[bool]>) -> CategoryContrast {
     let k = levels.len();
     let (mut ci, mut co) = (vec![0u64; k], vec![0u64; k]);
     let (mut mi, mut mo) = (0usize, 0usize);
-    for (&c, &g) in codes.iter().zip(in_group) {
+    for (r, (&c, &g)) in codes.iter().zip(in_group).enumerate() {
+        if among.is_some_and(|a| !a[r]) {
+            continue;
+        }
         match (c, g) {
             (MISSING_CODE, true) => mi += 1,
             (MISSING_CODE, false) => mo += 1,

@@ -13,7 +13,8 @@
 //! lack it.
 //!
 //! [`compare`]: the bottleneck distance between the diagrams of two tables built with the
-//! same settings, against the threshold c_A + c_B, where c_A and c_B are each table's
+//! same settings (or two subsets of one table: [`compare_pair`], settings that differ only
+//! in the rows they keep), against the threshold c_A + c_B, where c_A and c_B are each table's
 //! bootstrap threshold at level alpha / 2. If both tables came from the same
 //! distribution, with one underlying diagram D, each lies within its threshold of D with
 //! probability at least 1 - alpha/2 (by the bootstrap above), so by the union bound and
@@ -215,10 +216,18 @@ pub struct Comparing {
 
 impl Comparing {
     pub fn new(table_a: &Table, table_b: &Table, settings: &Settings, b: usize, alpha: f64, seed: u64) -> Result<Comparing> {
-        check(b, alpha)?;
-        let a = Bootstrap::new(table_a, settings, b, alpha / 2.0, seed)?;
-        let b = Bootstrap::new(table_b, settings, b, alpha / 2.0, second_seed(seed))?;
-        Ok(Comparing { a, b, alpha })
+        Comparing::new_pair((table_a, settings), (table_b, settings), b, alpha, seed)
+    }
+
+    /// As [`Comparing::new`], each table with its own settings; they must differ only in
+    /// which rows they keep (`keepRows`), so that two subsets of one table (one station
+    /// against another, day against night) are compared with the same graph settings.
+    pub fn new_pair(a: (&Table, &Settings), b: (&Table, &Settings), draws: usize, alpha: f64, seed: u64) -> Result<Comparing> {
+        check(draws, alpha)?;
+        same_but_rows(a.1, b.1)?;
+        let ca = Bootstrap::new(a.0, a.1, draws, alpha / 2.0, seed)?;
+        let cb = Bootstrap::new(b.0, b.1, draws, alpha / 2.0, second_seed(seed))?;
+        Ok(Comparing { a: ca, b: cb, alpha })
     }
 
     /// Runs up to `k` more draws (of A, then of B); returns how many are done in all.
@@ -243,6 +252,16 @@ impl Comparing {
         let (ca, cb) = (self.a.finish(), self.b.finish());
         conclude_comparison(ca, cb, self.alpha)
     }
+}
+
+/// Refuses two settings that differ in anything but the rows they keep: the comparison's
+/// threshold is meaningful for one set of graph settings only.
+fn same_but_rows(a: &Settings, b: &Settings) -> Result<()> {
+    let strip = |s: &Settings| Settings { keep_rows: None, ..s.clone() };
+    if strip(a) != strip(b) {
+        return Err(Error::settings("keepRows", "the two tables of a comparison are built with the same settings; only the rows kept may differ"));
+    }
+    Ok(())
 }
 
 fn conclude_comparison(ca: Confidence, cb: Confidence, alpha: f64) -> Comparison {
@@ -277,9 +296,23 @@ pub fn compare(
     seed: u64,
     progress: &mut dyn FnMut(f64) -> bool,
 ) -> Result<Comparison> {
-    check(b, alpha)?;
-    let ca = bootstrap(table_a, settings, b, alpha / 2.0, seed, &mut |x| progress(x / 2.0))?;
-    let cb = bootstrap(table_b, settings, b, alpha / 2.0, second_seed(seed), &mut |x| progress(0.5 + x / 2.0))?;
+    compare_pair((table_a, settings), (table_b, settings), b, alpha, seed, progress)
+}
+
+/// [`compare`] with each table under its own settings, which may differ only in the rows
+/// they keep: two subsets of one table (`keepRows` of each) are two tables here.
+pub fn compare_pair(
+    a: (&Table, &Settings),
+    b: (&Table, &Settings),
+    draws: usize,
+    alpha: f64,
+    seed: u64,
+    progress: &mut dyn FnMut(f64) -> bool,
+) -> Result<Comparison> {
+    check(draws, alpha)?;
+    same_but_rows(a.1, b.1)?;
+    let ca = bootstrap(a.0, a.1, draws, alpha / 2.0, seed, &mut |x| progress(x / 2.0))?;
+    let cb = bootstrap(b.0, b.1, draws, alpha / 2.0, second_seed(seed), &mut |x| progress(0.5 + x / 2.0))?;
     Ok(conclude_comparison(ca, cb, alpha))
 }
 

@@ -19,7 +19,7 @@ pub mod support;
 pub mod swap;
 
 pub use bottleneck::{bottleneck, bottleneck_points};
-pub use confidence::{bootstrap, compare, Bootstrap, Comparing, Comparison, Confidence};
+pub use confidence::{bootstrap, compare, compare_pair, Bootstrap, Comparing, Comparison, Confidence};
 pub use persistence::{extended_persistence, Diagram, Feature, Kind};
 pub use suggest::{suggest, Suggestion};
 pub use sweep::{sweep, Cell, Grid, Sweeping};

@@ -1,13 +1,41 @@
-//! A second table made from the same rows with some columns standing in for others, so
-//! that two column sets of one file can be compared with the same settings: measured
-//! values against a model's, say (the settings name `temp`; the second table's `temp`
-//! holds the file's `temp_model`). The comparison itself is [`super::confidence::compare`].
+//! A second table made from the first, for a comparison with the same settings:
+//! - [`swapped`]: the same rows with some columns standing in for others, so that two
+//!   column sets of one file can be compared: measured values against a model's, say (the
+//!   settings name `temp`; the second table's `temp` holds the file's `temp_model`);
+//! - [`subset`]: the same table with other rows kept (one station against another, day
+//!   against night): the second table's settings are the first's with its own row
+//!   condition ([`second_settings`]).
 //!
+//! The comparison itself is [`super::confidence::compare`] (and `compare_pair`).
 //! Not here: reading files ([`crate::table`]) or derived columns (the caller leaves
 //! those out and the second table's run makes its own).
 
 use crate::error::{Error, Result};
+use crate::settings::Settings;
+use crate::subset::RowSubset;
 use crate::table::Table;
+
+/// The second table of a comparison of two subsets: `table` (with the derived columns of
+/// `settings` appended, which are left out of the result: the second table's run makes
+/// its own) under the row condition `condition`, checked here (it must keep at least two
+/// rows). Returns the table, named after the condition, and the rows it keeps.
+pub fn subset(table: &Table, settings: &Settings, condition: &str) -> Result<(Table, RowSubset)> {
+    let s = second_settings(settings, Some(condition));
+    let rows = crate::subset::select(table, &s)?.expect("a condition was given");
+    let derived: Vec<&str> = settings.derived.iter().map(|d| d.name.as_str()).collect();
+    let columns = table.columns.iter().filter(|c| !derived.contains(&c.name.as_str())).cloned().collect();
+    let t = Table::from_columns(format!("{} (rows where {condition})", table.name), columns)?;
+    Ok((t, rows))
+}
+
+/// The settings of a comparison's second table: the first's, with the second's own row
+/// condition when it is a subset (`rows`), else unchanged.
+pub fn second_settings(settings: &Settings, rows: Option<&str>) -> Settings {
+    match rows {
+        Some(c) => Settings { keep_rows: Some(c.to_string()), ..settings.clone() },
+        None => settings.clone(),
+    }
+}
 
 /// `table` with each `(stands_in, for_column)` pair applied: the column named `for_column`
 /// gets the values of `stands_in` (both must exist and be of the same kind). Columns named

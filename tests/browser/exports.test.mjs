@@ -16,7 +16,7 @@ let page;
 beforeEach(() => { page = ctx.page; });
 
 const CHOSEN = {
-  version: 1, columns: ["x", "y"], scaling: "zscore", missing: { fillValues: [] },
+  version: 3, columns: ["x", "y"], scaling: "zscore", missing: { fillValues: [] },
   lens: { kind: "principal", component: 1 }, cover: { kind: "uniform", intervals: 9, overlap: 0.35 },
   clustering: { kind: "dbscan", eps: 0.3, minPoints: 4 }, edges: { minShared: 1 }, seed: 3, derived: [],
 };

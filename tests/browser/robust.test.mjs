@@ -289,8 +289,8 @@ test("bad settings are refused naming the field; the graph and settings survive"
     ["overlap outside [0, 1)", { ...s, cover: { ...s.cover, overlap: 1.2 } }, "setting 'cover.overlap': 1.2 is outside [0, 1)"],
     ["eps <= 0", { ...s, clustering: { kind: "dbscan", eps: 0, minPoints: 5 } }, "setting 'clustering.eps': 0 must be a positive number"],
     ["bandwidth 0", { ...s, lens: { kind: "density", bandwidth: 0 } }, "setting 'lens.bandwidth': 0 must be a positive number"],
-    ["settings from a newer version", { ...s, version: 3 }, "setting 'version': the file is version 3, written by a newer Nervure; this build reads versions 1 to 2"],
-    ["unknown field", { ...s, palette: "warm" }, "setting 'palette': unknown field; this build does not read it (fields: version, columns, scaling, missing, lens, cover, clustering, edges, seed, derived, lens2, cover2, denoise, minClusterShare)"],
+    ["settings from a newer version", { ...s, version: 4 }, "setting 'version': the file is version 4, written by a newer Nervure; this build reads versions 1 to 3"],
+    ["unknown field", { ...s, palette: "warm" }, "setting 'palette': unknown field; this build does not read it (fields: version, columns, scaling, missing, lens, cover, clustering, edges, seed, derived, lens2, cover2, denoise, minClusterShare, keepRows)"],
   ];
   for (const [what, bad, expected] of cases) {
     const message = await page.evaluate((b) => window.nervure.applySettings(b).then(() => null, (e) => e.message), bad);
@@ -303,7 +303,7 @@ test("bad settings are refused naming the field; the graph and settings survive"
   }
   // The same refusals through the page's "Open settings…" file input.
   const imports = [
-    ["settings file from a newer version", "newer.settings.json", JSON.stringify({ ...s, version: 3 }), "setting 'version': the file is version 3, written by a newer Nervure; this build reads versions 1 to 2"],
+    ["settings file from a newer version", "newer.settings.json", JSON.stringify({ ...s, version: 5 }), "setting 'version': the file is version 5, written by a newer Nervure; this build reads versions 1 to 3"],
     ["settings file with an unknown field", "extra.settings.json", JSON.stringify({ ...s, cover: { ...s.cover, width: 2 } }), "setting 'cover.width': unknown field; this build does not read it (fields: intervals, overlap, kind)"],
     ["settings file with negative intervals", "negative.settings.json", JSON.stringify({ ...s, cover: { ...s.cover, intervals: -1 } }), "setting 'cover.intervals': -1 is not allowed; use a whole number of at least 1"],
     ["settings file that is not JSON", "broken.settings.json", "{\"version\": 1,", /^The settings in broken\.settings\.json were not used: setting '\(document\)': broken\.settings\.json is not JSON/],

@@ -794,6 +794,37 @@ impl Workbench {
         if rows.is_empty() {
             return Err(Error::Data("choose at least one node to compare with the rest".into()));
         }
+        self.explain_rows(&rows)
+    }
+
+    /// As [`Workbench::explain`], for the rows where `condition` holds (a row condition, as
+    /// in `keepRows`: `station == 'north' and hour(time) < 6`) among the rows the graph's
+    /// settings keep, against the other rows kept. A row where the condition is unknown (a
+    /// value it reads is missing) is in neither group's count of the condition: it stays
+    /// with the others, as the rule of [`crate::derive::condition`] never keeps it.
+    pub fn explain_where(&mut self, condition: &str) -> Result<Contrast> {
+        let (table, b) = self.table_and_build()?;
+        let field = "rows";
+        if condition.trim().is_empty() {
+            return Err(Error::settings(field, "the condition is empty; write which rows to compare with the rest, as in depth > 2"));
+        }
+        let e = derive::parse_condition(condition).map_err(|e| Error::settings(field, e.render(condition)))?;
+        let verdicts = derive::condition::verdicts(&e, table, &b.settings.missing).map_err(|e| Error::settings(field, e.render(condition)))?;
+        let subset = self.last_subset()?;
+        let kept = |r: usize| subset.as_ref().as_ref().is_none_or(|s| s.keep[r]);
+        let rows: Vec<u32> = (0..verdicts.len()).filter(|&r| verdicts[r] == derive::condition::YES && kept(r)).map(|r| r as u32).collect();
+        let others = (0..verdicts.len()).filter(|&r| kept(r)).count() - rows.len();
+        if rows.is_empty() || others == 0 {
+            return Err(Error::Data(format!(
+                "the condition {condition} holds for {} of the rows the graph uses: nothing to compare; write a condition that splits them",
+                if rows.is_empty() { "none" } else { "all" }
+            )));
+        }
+        self.explain_rows(&rows)
+    }
+
+    /// The contrast of table rows `rows` (sorted, distinct) with the other rows kept.
+    fn explain_rows(&mut self, rows: &[u32]) -> Result<Contrast> {
         let (table, b) = self.table_and_build()?;
         let fills = b.settings.missing.fill_values.clone();
         let key: DerivedKey = (b.settings.derived.clone(), fills.clone());
@@ -805,7 +836,7 @@ impl Workbench {
         let among = subset.as_ref().as_ref().map(|r| &r.keep[..]);
         let table = self.table.as_ref().expect("checked");
         let mut in_group = vec![false; table.n_rows];
-        for &r in &rows {
+        for &r in rows {
             in_group[r as usize] = true;
         }
         let mut categories = explain::category_contrast_among(table, &in_group, among);

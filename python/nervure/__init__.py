@@ -178,8 +178,13 @@ class Graph:
         """The extended persistence diagram (see :func:`diagram`)."""
         return _Diagram(json.loads(self._bench.diagram()))
 
-    def explain(self, nodes: Iterable[int]):
-        """How the rows of ``nodes`` differ from all other rows (see :func:`explain`)."""
+    def explain(self, nodes: Iterable[int] | None = None, *, rows_where: str | None = None):
+        """How the rows of ``nodes``, or the rows where ``rows_where`` holds, differ from
+        all other rows (see :func:`explain`)."""
+        if (nodes is None) == (rows_where is None):
+            raise NervureError("explain takes nodes=[...] or rows_where=\"...\", one of the two")
+        if rows_where is not None:
+            return _Explanation(json.loads(self._bench.explain_where(str(rows_where))))
         return _Explanation(json.loads(self._bench.explain([int(n) for n in nodes])))
 
     def file(self, rows: bool = True) -> dict:
@@ -385,11 +390,17 @@ def compare(data, settings=None, *, other=None, swap: dict | None = None, draws:
     return _Comparison(json.loads(_core.compare(a.table(), b.table(), text, int(draws), float(alpha), int(seed))))
 
 
-def explain(data, settings=None, *, nodes: Iterable[int], columns=None) -> _Explanation:
-    """How the rows of ``nodes`` differ from all other rows: every column ranked. The
-    p-values only rank the columns: the nodes were picked by looking at the same data.
-    (Conditions on rows come with the page's row subsets.)"""
+def explain(data, settings=None, *, nodes: Iterable[int] | None = None, rows_where: str | None = None, columns=None) -> _Explanation:
+    """How the rows of ``nodes``, or the rows where the condition ``rows_where`` holds
+    (``"origin == 'JFK' and hour(time_hour) < 6"``, the language of the settings'
+    ``keepRows``), differ from all other rows the graph uses: every column ranked. The
+    p-values only rank the columns: nodes picked by looking at the graph were chosen from
+    the same data."""
+    if (nodes is None) == (rows_where is None):
+        raise NervureError("explain takes nodes=[...] or rows_where=\"...\", one of the two")
     bench, _ = _built(data, settings, columns)
+    if rows_where is not None:
+        return _Explanation(json.loads(bench.explain_where(str(rows_where))))
     return _Explanation(json.loads(bench.explain([int(n) for n in nodes])))
 
 

@@ -285,6 +285,11 @@ impl Bench {
         py.detach(|| self.inner.explain(&nodes)).map(|c| json(&c)).map_err(err)
     }
 
+    /// As `explain`, for the rows where `condition` holds against the other rows kept.
+    fn explain_where(&mut self, py: Python<'_>, condition: &str) -> PyResult<String> {
+        py.detach(|| self.inner.explain_where(condition)).map(|c| json(&c)).map_err(err)
+    }
+
     /// The page's other exports: "graphml" (coloured by `colour` with `stat` when given),
     /// "memberships", "report" (naming `file_name`).
     #[pyo3(signature = (format, colour=None, stat="\"mean\"", file_name=""))]

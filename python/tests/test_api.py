@@ -187,7 +187,7 @@ def test_a_time_column_reads_alike_from_a_frame_and_from_its_csv(tmp_path):
     df.to_csv(path, index=False)
     framed = df.assign(time_hour=pd.to_datetime(df["time_hour"], utc=True))
     s = nervure.Settings({
-        "version": 1, "columns": ["temp", "dewp", "humid"], "scaling": "standard",
+        "version": 1, "columns": ["temp", "dewp", "humid"], "scaling": "zscore",
         "lens": {"kind": "column", "column": "time_hour"}, "cover": {"intervals": 6, "overlap": 0.3},
         "clustering": {"kind": "dbscan", "eps": 0.8, "minPoints": 3}, "seed": 7,
     })

@@ -243,7 +243,7 @@ test("a settings file written before row conditions (version 1) still opens; one
   writeFileSync(path, JSON.stringify(Object.assign({}, old, { keepRows: "species == 'Gentoo'" })));
   await page.setInputFiles("#import-settings", path);
   await page.waitForFunction(() => window.nervure.message() !== null);
-  assert.equal(await page.evaluate(() => window.nervure.message()), "setting 'keepRows': came with settings version 3, and this document says version 1; write \"version\": 3");
+  assert.equal(await page.evaluate(() => window.nervure.message()), "The settings in old-penguins.settings.json were not used: setting 'keepRows': came with settings version 3, and this document says version 1; write \"version\": 3. The settings and the graph shown are unchanged.");
   assert.deepEqual(await page.evaluate(() => window.nervure.summary()), sum, "the graph shown stays");
 });
 

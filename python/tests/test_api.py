@@ -135,9 +135,13 @@ def test_graph_files_read_back_without_the_table(tmp_path, circle_csv):
         nervure.read_graph(tmp_path / "foreign.json")
 
 
-def test_stages_compose_to_the_graph(circle_csv):
-    s = nervure.Settings(CIRCLE_SETTINGS)
+@pytest.mark.parametrize("keep", [None, "x > -0.5 or y > 0.5"])
+def test_stages_compose_to_the_graph(circle_csv, keep):
+    """Also with a row condition: the points stage keeps only the rows it keeps."""
+    s = nervure.Settings(CIRCLE_SETTINGS if keep is None else dict(CIRCLE_SETTINGS, version=3, keepRows=keep))
     whole = nervure.graph(circle_csv, s)
+    if keep is not None:
+        assert whole.summary["rowsNotKept"] > 0
     P, rows, info = nervure.stages.points(circle_csv, s)
     assert P.shape == (whole.summary["rows"], 2) and info["columns"] == ["x", "y"]
     lens, lens2 = nervure.stages.lens_values(circle_csv, s)

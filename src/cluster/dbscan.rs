@@ -1,4 +1,4 @@
-//! DBSCAN as defined by Ester, Kriegel, Sander, Xu (KDD 1996), on the shared k-d tree.
+//! DBSCAN as defined by Ester, Kriegel, Sander, Xu (KDD 1996), on a k-d tree.
 //!
 //! Definitions kept exactly:
 //! - the eps-neighbourhood N(p) of a point is every point q with dist(p, q) <= eps,
@@ -18,24 +18,59 @@
 //! point is from memory of its source, the fixtures check it). Cluster numbers here are
 //! in order of each cluster's lowest row, which may differ from scikit-learn's.
 //!
-//! How it is computed (the result is the definition's; only the work differs). All work
-//! is on the shared k-d tree, in tree order (the tree's own copy of the points, f64), with
-//! box bounds: if the nearest corner of a box is farther than eps from a point (or from
-//! another box) no pair can be within eps, and if the farthest corners are within eps
-//! every pair is. Both bounds hold in floating point too, because a squared distance is
-//! a sum of rounded, monotone operations taken in the same order as for a pair of points.
-//! 1. Core points: a leaf whose box diagonal is <= eps and that holds `min_points` points
-//!    is all core without a query; otherwise each point counts its own leaf first (often
-//!    enough in dense data), then the subtree two levels above its leaf, then the rest
-//!    of the tree, stopping at `min_points`.
-//! 2. Clusters grow one at a time from seeds in row order, through core points only. The
-//!    core points the growing cluster holds in the subtree two levels above a leaf (at
-//!    most 4 leaves) are expanded together: their
-//!    bounding box meets the tree box against box, and each candidate is checked against
-//!    the box, then against the batch's points. Every node counts the core points it
-//!    still has without a cluster, so finished subtrees are skipped at once.
-//! 3. Border points: each non-core point takes the lowest cluster number among the core
-//!    points within eps, i.e. the cluster grown first that reaches it, as the definition
+//! How it is computed (the result is the definition's; only the work differs). The cost
+//! does not grow with the number of neighbours a point has: no step lists a point's
+//! neighbourhood beyond `min_points`, and the clusters are found as the components of a
+//! graph whose edges are sought only between points not yet known to be joined.
+//!
+//! The index is a k-d tree (leaves of 16) whose nodes split at the median of the axis
+//! along which their points vary most ([`Split::Variance`]), built on the points'
+//! coordinates along their principal axes (from 3 to 64 columns; the axes of a sample of
+//! up to 4096 rows, centred). Every test against a box is made in those coordinates;
+//! every distance between two points is made on the points as given, so each pair is
+//! judged exactly as the definition (and scikit-learn) judge it. The rotation moves a
+//! coordinate by far less than `margin` = 1e-10 · d · (1 + largest |coordinate|), so a box
+//! farther than eps + margin holds no neighbour and a box whose farthest corner lies
+//! within eps - margin holds only neighbours. (A box bound holds in floating point because
+//! a squared distance is a sum of rounded, monotone operations.)
+//!
+//! Which index, measured (the benchmark's wide table, tests/bench/make_wide.py, 1.5
+//! million rows, automatic settings: 12 columns, eps 1.41; its largest cover element,
+//! 406 021 points, and a 198 326-point element holding two arcs of the loop that lie
+//! close together):
+//! - per eps-query, the share of the element whose distance is computed: k-d tree with
+//!   box bounds 6.1 %, with bounds by a ball around each node (centroid and radius, the
+//!   bound a ball tree or a cover tree prunes with) 24 %, box and ball 6.1 %, splits along
+//!   each node's principal direction with ball and box bounds 7.5 %, splits by variance
+//!   6.0 %, in principal axes 5.4 %, both 5.3 % (the ball bound is looser than the box in
+//!   12 columns, so a cover tree, which prunes by balls alone, was not built);
+//! - the two-arc element (where the work is proving that no core point of one arc lies
+//!   within eps of the other): 6.6 s with widest-axis splits on the given coordinates,
+//!   5.3 s splitting by variance, 4.0 s in principal axes, 1.5 s with both (the first
+//!   principal axis runs across the gap between the arcs, and the variance rule splits on
+//!   it first). Native, one thread, user time on a loaded 2-core machine, measured while
+//!   step 2 below was built (its later devices took the last figure lower still).
+//!
+//! 1. Core points: a leaf whose box diagonal is within eps and that holds `min_points`
+//!    points is all core without a query. Otherwise each point counts its own leaf, then
+//!    the rest of the tree nearest box first, a node whose box lies wholly within eps
+//!    taken whole, until it has `min_points` (itself included). A core point keeps the
+//!    first few neighbours it met; a non-core point keeps all of them (fewer than
+//!    `min_points`), which is all its border label needs.
+//! 2. Components of the core points: first the kept neighbours are joined (union-find),
+//!    which joins most of each cluster for no new distance. Then every pair of sibling
+//!    nodes is met once, box against box (the boxes of their core points only): pairs
+//!    farther than eps apart are dropped, a pair within eps at its farthest corners is
+//!    joined whole, a pair of nodes each known to lie in one component ("whole") and
+//!    already joined is dropped, otherwise the larger node is split, the child nearer the
+//!    other first. Between two leaves only pairs of points in different components are
+//!    measured; when one leaf is whole only the other's points outside its component are
+//!    tried. A node is marked whole as soon as it is found so; the children of a whole
+//!    node are whole. The work that remains is the proof that two clusters come no
+//!    closer than eps, done once per pair of nearby leaves.
+//! 3. Labels: clusters are numbered in the order they would be grown (by their lowest
+//!    core row); each border point takes the lowest number among its core neighbours
+//!    (kept in step 1), i.e. the cluster grown first that reaches it, as the definition
 //!    above says; one with no core point within eps is noise.
 //!
 //! The code is written once, generic over the dimension ([`Dim`]): [`dbscan`] runs it
@@ -43,11 +78,13 @@
 //! unrolled, no bounds checks) and as a run-time value beyond; same operations, same
 //! order, same labels.
 //!
-//! Memory O(m); no m × m matrix.
+//! Memory O(m): the tree's copy of the points in the frame, the points in tree order, the
+//! union-find and a few slots per point; no m × m matrix.
 //!
 //! Not here: choosing eps (see the automatic settings), other metrics, weights.
 
-use super::kdtree::{KdTree, LEAF_SIZE};
+use super::kdtree::{KdTree, Split, LEAF_SIZE};
+use super::unionfind::UnionFind;
 use super::Labels;
 
 /// The number of coordinates of a point, known at compile time ([`Fixed`]) or only at run
@@ -136,24 +173,6 @@ fn gap(alo: f64, ahi: f64, blo: f64, bhi: f64) -> f64 {
     }
 }
 
-/// How many levels above a point's leaf its core count looks first.
-const NEAR_LEVELS: usize = 2;
-
-/// How many levels above a leaf the core points expanded together are gathered from.
-const BATCH_LEVELS: usize = 2;
-
-/// The parent of every node of `tree` (the root's is 0).
-fn tree_parents(tree: &KdTree) -> Vec<u32> {
-    let mut parent = vec![0u32; tree.node_count()];
-    for n in 0..tree.node_count() {
-        if let (_, Some(c)) = tree.node(n) {
-            parent[c] = n as u32;
-            parent[c + 1] = n as u32;
-        }
-    }
-    parent
-}
-
 /// No cluster (yet).
 const NONE: u32 = u32::MAX;
 
@@ -171,17 +190,6 @@ fn diagonal2<D: Dim>(d: D, a: Bounds) -> f64 {
         far += f * f;
     }
     far
-}
-
-/// Whether two boxes come within squared distance `r2` (nearest corners).
-#[inline(always)]
-fn box_near<D: Dim>(d: D, a: Bounds, b: Bounds, r2: f64) -> bool {
-    let n = d.n();
-    let (alo, ahi, blo, bhi) = (&a.0[..n], &a.1[..n], &b.0[..n], &b.1[..n]);
-    sum_within(n, r2, |k| {
-        let g = gap(alo[k], ahi[k], blo[k], bhi[k]);
-        g * g
-    })
 }
 
 /// Whether the farthest corners of two boxes are within squared distance `r2` (so every
@@ -207,6 +215,64 @@ fn point_box_near<D: Dim>(d: D, q: &[f64], b: Bounds, r2: f64) -> bool {
     })
 }
 
+/// Whether the farthest corner of a box is within squared distance `r2` of a point (so
+/// every point of the box is).
+#[inline(always)]
+fn point_box_far_within<D: Dim>(d: D, q: &[f64], b: Bounds, r2: f64) -> bool {
+    let n = d.n();
+    let (q, lo, hi) = (&q[..n], &b.0[..n], &b.1[..n]);
+    sum_within(n, r2, |k| {
+        let f = max(q[k] - lo[k], hi[k] - q[k]);
+        f * f
+    })
+}
+
+/// The fewest and the most columns for which the index is built in the points' principal
+/// axes (module doc): below, a rotation gains nothing; above, its d × d algebra would cost
+/// more than it saves.
+const FRAME_DIMS: std::ops::RangeInclusive<usize> = 3..=64;
+
+/// Most rows the principal axes are computed from.
+const FRAME_SAMPLE: usize = 4096;
+
+/// The points' coordinates along their principal axes (centred), row-major, with the
+/// margin that box tests in those coordinates leave for rounding (module doc); `None`
+/// when the index is better built on the points as they are.
+fn principal_frame<D: Dim>(points: &[f64], d: D) -> Option<(Vec<f64>, f64)> {
+    let dim = d.n();
+    let m = points.len() / dim;
+    if !FRAME_DIMS.contains(&dim) || m < 2 {
+        return None;
+    }
+    // The axes from an evenly spaced sample of the rows: they only steer the index.
+    let step = m.div_ceil(FRAME_SAMPLE);
+    let sample: Vec<f64> = points.chunks_exact(dim).step_by(step).flatten().copied().collect();
+    let x = ndarray::ArrayView2::from_shape((sample.len() / dim, dim), &sample).expect("rows of dim values");
+    let mean = crate::filter::linalg::column_means(x).to_vec();
+    let (_, axes) = crate::filter::linalg::symmetric_eigen(&crate::filter::linalg::covariance(x, 0));
+    // Axis j's components, contiguous.
+    let axes: Vec<f64> = (0..dim).flat_map(|j| (0..dim).map(move |k| (j, k))).map(|(j, k)| axes[[k, j]]).collect();
+    let mut out = vec![0.0; points.len()];
+    let mut centred = vec![0.0; dim];
+    let mut largest = 0.0f64;
+    for (row, o) in points.chunks_exact(dim).zip(out.chunks_exact_mut(dim)) {
+        let (row, o, centred) = (&row[..dim], &mut o[..dim], &mut centred[..dim]);
+        for k in 0..dim {
+            largest = largest.max(row[k].abs());
+            centred[k] = row[k] - mean[k];
+        }
+        for (j, v) in o.iter_mut().enumerate() {
+            let axis = &axes[j * dim..(j + 1) * dim];
+            let mut s = 0.0;
+            for k in 0..dim {
+                s += centred[k] * axis[k];
+            }
+            *v = s;
+        }
+    }
+    Some((out, 1e-10 * dim as f64 * (1.0 + largest)))
+}
+
 /// DBSCAN labels for the rows of `points` (row-major, `dim` columns).
 pub fn dbscan(points: &[f64], dim: usize, eps: f64, min_points: usize) -> Labels {
     if dim == 0 || points.is_empty() {
@@ -226,15 +292,32 @@ pub fn dbscan(points: &[f64], dim: usize, eps: f64, min_points: usize) -> Labels
 }
 
 fn run<D: Dim>(points: &[f64], dim: D, eps: f64, min_points: usize) -> Labels {
-    let tree = KdTree::new(points, dim.n());
-    let m = tree.len();
-    let w = Work { tree: &tree, data: tree.tree_points(), dim, eps2: eps * eps };
-    let leaves: Vec<usize> = tree.leaves().map(|(n, _)| n).collect();
-
-    let core = w.core_points(&leaves, min_points);
-    let labels_pos = w.expand(&core);
-    let mut labels: Labels = vec![None; m];
-    for (pos, &c) in labels_pos.iter().enumerate() {
+    let d = dim.n();
+    let frame = principal_frame(points, dim);
+    let (tree, margin) = match frame {
+        Some((rotated, margin)) => (KdTree::from_rows_split(rotated, d, LEAF_SIZE, Split::Variance), margin),
+        None => (KdTree::from_rows_split(points.to_vec(), d, LEAF_SIZE, Split::Variance), 0.0),
+    };
+    // The points themselves in tree order, for every distance between two points.
+    let own: Vec<f64>;
+    let data = if margin > 0.0 {
+        own = (0..tree.len()).flat_map(|pos| points[tree.row_at(pos) * d..(tree.row_at(pos) + 1) * d].iter().copied()).collect();
+        &own[..]
+    } else {
+        tree.tree_points()
+    };
+    let eps2 = eps * eps;
+    let near2 = (eps + margin) * (eps + margin);
+    // No box is known to hold only neighbours when the margin swallows eps (-1: no squared
+    // distance is that small).
+    let far2 = if eps > margin { (eps - margin) * (eps - margin) } else if margin == 0.0 { eps2 } else { -1.0 };
+    let small = (0..tree.node_count()).map(|n| diagonal2(dim, tree.node_box(n)) <= 4.0 * near2).collect();
+    let w = Work { tree: &tree, frame: tree.tree_points(), data, dim, eps2, near2, far2, small };
+    let found = w.core_points(min_points.max(1));
+    let mut links = w.components(&found);
+    let label = w.labels(&found, &mut links);
+    let mut labels: Labels = vec![None; tree.len()];
+    for (pos, &c) in label.iter().enumerate() {
         if c != NONE {
             labels[tree.row_at(pos)] = Some(c);
         }
@@ -243,18 +326,85 @@ fn run<D: Dim>(points: &[f64], dim: D, eps: f64, min_points: usize) -> Labels {
     labels
 }
 
-struct Work<'a, D: Dim> {
-    tree: &'a KdTree,
-    data: &'a [f64],
-    dim: D,
-    eps2: f64,
+/// How many neighbours of each core point are kept from its count, to join it with them
+/// (module doc, step 2).
+const KEPT: usize = 4;
+
+/// What the core counts found, by tree position.
+struct Found {
+    core: Vec<bool>,
+    /// `KEPT` slots per point: for a core point, other points within eps met while
+    /// counting (the first ones met; [`NONE`] fills the rest).
+    kept: Vec<u32>,
+    /// For a non-core point `p`, `near[near_at[p]..near_at[p + 1]]` is every other point
+    /// within eps of it (fewer than `min_points`); empty for a core point.
+    near: Vec<u32>,
+    near_at: Vec<u32>,
 }
 
+struct Work<'a, D: Dim> {
+    /// The index, over the points' coordinates in the frame (module doc).
+    tree: &'a KdTree,
+    /// The points in the frame, in tree order: for every test against a box.
+    frame: &'a [f64],
+    /// The points themselves, in tree order: for every distance between two points.
+    data: &'a [f64],
+    dim: D,
+    /// eps squared: two points are neighbours when their squared distance is at most this.
+    eps2: f64,
+    /// A box farther than this (squared) from a point or another box holds no neighbour
+    /// of theirs: (eps + margin)^2.
+    near2: f64,
+    /// A box whose farthest corner is within this (squared) holds only neighbours:
+    /// (eps - margin)^2.
+    far2: f64,
+    /// Per node: whether its box's diagonal is at most 2 eps, so that its box can lie
+    /// wholly within eps of a point (a cheap test before the exact one).
+    small: Vec<bool>,
+}
+
+/// The state of the search for the components of the core points (module doc, step 2).
+struct Links {
+    uf: UnionFind,
+    /// Per node: its number of core points.
+    cores: Vec<u32>,
+    /// Per node: its first core point (tree position), or [`NONE`].
+    rep: Vec<u32>,
+    /// Per node: all its core points are known to lie in one component. Once true it
+    /// stays true (components only merge).
+    whole: Vec<bool>,
+    /// Per node, the box of its core points only (`dim` lower then `dim` upper bounds):
+    /// tighter than the node's box where non-core points lie between clusters.
+    boxes: Vec<f64>,
+    /// Scratch: a leaf's core points with their components.
+    roots: Vec<(u32, u32)>,
+    /// Scratch: a leaf's core points near another leaf's box.
+    near: Vec<u32>,
+}
+
+impl Links {
+    #[inline(always)]
+    fn core_box(&self, n: usize, dim: usize) -> Bounds<'_> {
+        self.boxes[2 * dim * n..2 * dim * (n + 1)].split_at(dim)
+    }
+}
+
+/// No component: a node without core points.
+const EMPTY: u32 = u32::MAX - 1;
+
 impl<D: Dim> Work<'_, D> {
+    /// The point at tree position `pos`.
     #[inline(always)]
     fn point(&self, pos: usize) -> &[f64] {
         let n = self.dim.n();
         &self.data[pos * n..(pos + 1) * n]
+    }
+
+    /// The point at tree position `pos` in the frame's coordinates.
+    #[inline(always)]
+    fn framed(&self, pos: usize) -> &[f64] {
+        let n = self.dim.n();
+        &self.frame[pos * n..(pos + 1) * n]
     }
 
     /// Node `n`'s box, each half of the dimension's length.
@@ -265,20 +415,46 @@ impl<D: Dim> Work<'_, D> {
         (&lo[..d], &hi[..d])
     }
 
-    /// Whether each point (by tree position) has at least `min_points` points within eps,
-    /// itself included.
-    ///
-    /// Each point counts its own leaf, then the subtree of the leaf's ancestor
-    /// [`NEAR_LEVELS`] levels up (where its neighbours mostly are), then the rest of the
-    /// tree, stopping as soon as it reaches `min_points`; every point is counted once.
-    fn core_points(&self, leaves: &[usize], min_points: usize) -> Vec<bool> {
-        let mut core = vec![false; self.tree.len()];
-        let mut stack: Vec<usize> = Vec::new();
-        let parent = tree_parents(self.tree);
-        for &leaf in leaves {
-            self.core_leaf(leaf, min_points, &parent, &mut core, &mut stack);
+    /// Squared distance from `q` to the nearest corner of node `n`'s box (0 inside it).
+    #[inline(always)]
+    fn gap_to(&self, q: &[f64], n: usize) -> f64 {
+        let (lo, hi) = self.node_box(n);
+        let mut s = 0.0;
+        for k in 0..self.dim.n() {
+            let g = gap(q[k], q[k], lo[k], hi[k]);
+            s += g * g;
         }
-        core
+        s
+    }
+
+    /// Squared distance between the nearest corners of two boxes.
+    #[inline(always)]
+    fn gap_between(&self, a: Bounds, b: Bounds) -> f64 {
+        let ((alo, ahi), (blo, bhi)) = (a, b);
+        let mut s = 0.0;
+        for k in 0..self.dim.n() {
+            let g = gap(alo[k], ahi[k], blo[k], bhi[k]);
+            s += g * g;
+        }
+        s
+    }
+
+    /// Step 1 of the module doc: which points are core, with the neighbours met on the way.
+    fn core_points(&self, min_points: usize) -> Found {
+        let tree = self.tree;
+        let m = tree.len();
+        let mut f = Found { core: vec![false; m], kept: vec![NONE; m * KEPT], near: Vec::new(), near_at: Vec::with_capacity(m + 1) };
+        let mut stack: Vec<(u32, f64)> = Vec::new();
+        let mut met: Vec<u32> = Vec::with_capacity(min_points);
+        let leaves: Vec<usize> = tree.leaves().map(|(n, _)| n).collect();
+        // Leaves come in tree order of their points, so `near_at` grows in position order.
+        let mut by_start: Vec<usize> = leaves;
+        by_start.sort_unstable_by_key(|&n| tree.node(n).0.start);
+        for leaf in by_start {
+            self.core_leaf(leaf, min_points, &mut f, &mut stack, &mut met);
+        }
+        f.near_at.push(f.near.len() as u32);
+        f
     }
 
     /// [`Work::core_points`] for the points of one leaf. Kept out of line (here and in the
@@ -287,234 +463,372 @@ impl<D: Dim> Work<'_, D> {
     /// inside a running one, so a build that ran as one long call would run the first
     /// time entirely on the unoptimised code (about a third slower on a large element).
     #[inline(never)]
-    fn core_leaf(&self, leaf: usize, min_points: usize, parent: &[u32], core: &mut [bool], stack: &mut Vec<usize>) {
-        let tree = self.tree;
-        let (range, _) = tree.node(leaf);
-        let lb = self.node_box(leaf);
-        // A box against itself: the farthest-corner distance is its diagonal.
-        if range.len() >= min_points && diagonal2(self.dim, lb) <= self.eps2 {
-            core[range].iter_mut().for_each(|c| *c = true);
-            return;
-        }
-        let mut local = leaf;
-        for _ in 0..NEAR_LEVELS {
-            if local != 0 {
-                local = parent[local] as usize;
+    fn core_leaf(&self, leaf: usize, min_points: usize, f: &mut Found, stack: &mut Vec<(u32, f64)>, met: &mut Vec<u32>) {
+        let (range, _) = self.tree.node(leaf);
+        // A box against itself: the farthest-corner distance is its diagonal. Every point
+        // of a leaf that tight and that full is core, with the others as neighbours.
+        if range.len() >= min_points && diagonal2(self.dim, self.node_box(leaf)) <= self.far2 {
+            for p in range.clone() {
+                f.core[p] = true;
+                f.near_at.push(f.near.len() as u32);
+                let slots = &mut f.kept[p * KEPT..(p + 1) * KEPT];
+                for (s, r) in slots.iter_mut().zip(range.clone().filter(|&r| r != p)) {
+                    *s = r as u32;
+                }
             }
+            return;
         }
         for p in range.clone() {
             let q = self.point(p);
-            // Its own leaf first: in dense data that is often enough.
-            let mut count = range.clone().filter(|&r| dist2(self.dim, q, self.point(r)) <= self.eps2).count();
-            if count < min_points && local != leaf {
-                self.count_from(q, local, leaf, &mut count, min_points, stack);
-            }
-            if count < min_points && local != 0 {
-                self.count_from(q, 0, local, &mut count, min_points, stack);
-            }
-            core[p] = count >= min_points;
-        }
-    }
-
-    /// Adds to `count` the points within eps of `q` in the subtree of `start`, leaving out
-    /// the subtree of `skip`; stops once `count` reaches `min_points`.
-    fn count_from(&self, q: &[f64], start: usize, skip: usize, count: &mut usize, min_points: usize, stack: &mut Vec<usize>) {
-        let tree = self.tree;
-        stack.clear();
-        stack.push(start);
-        while let Some(node) = stack.pop() {
-            if node == skip || !point_box_near(self.dim, q, self.node_box(node), self.eps2) {
-                continue;
-            }
-            let (nr, children) = tree.node(node);
-            if let Some(c) = children {
-                stack.extend([c + 1, c]);
-                continue;
-            }
-            for r in nr {
-                if dist2(self.dim, q, self.point(r)) <= self.eps2 {
-                    *count += 1;
+            let framed = self.framed(p);
+            met.clear();
+            // Its own leaf first (in dense data often enough), then the rest of the tree.
+            for r in range.clone() {
+                if r != p && dist2(self.dim, q, self.point(r)) <= self.eps2 {
+                    met.push(r as u32);
                 }
             }
-            if *count >= min_points {
-                return;
+            // The point itself counts.
+            if met.len() + 1 < min_points {
+                self.count_from(q, framed, leaf, min_points - 1, stack, met);
+            }
+            f.near_at.push(f.near.len() as u32);
+            if met.len() + 1 >= min_points {
+                f.core[p] = true;
+                for (s, &r) in f.kept[p * KEPT..(p + 1) * KEPT].iter_mut().zip(met.iter()) {
+                    *s = r;
+                }
+            } else {
+                f.near.extend_from_slice(met);
             }
         }
     }
 
-    /// Grows the clusters one at a time from seeds in row order: a cluster takes every
-    /// point within eps of its core points, continuing from each core point it takes.
-    /// Returns each point's cluster (by tree position), numbered in growing order, or
-    /// [`NONE`].
-    ///
-    /// The clusters' core points are found first, then each border point is given the
-    /// cluster grown first among those whose core points reach it: the lowest number
-    /// among its core neighbours (a cluster, once grown, has taken every point within
-    /// eps of its core points, so a border point goes to the first cluster that reaches
-    /// it). Growing only through core points leaves the non-core points out of every
-    /// scan.
-    ///
-    /// Two devices keep the growing cheap without changing the result (which points a
-    /// cluster takes does not depend on the order its core points are expanded in): the
-    /// core points of one small subtree ([`BATCH_LEVELS`] above a leaf) are expanded
-    /// together, meeting nodes by box against box;
-    /// and every node counts the core points it still has without a cluster, so finished
-    /// subtrees are skipped at once.
-    fn expand(&self, core: &[bool]) -> Vec<u32> {
-        let tree = self.tree;
-        let (m, nodes, dim) = (tree.len(), tree.node_count(), self.dim.n());
-        let parent = tree_parents(tree);
-        let mut leaf_of = vec![0u32; m];
-        // Core points per node, leaves first, each parent after its children.
-        let mut cores = vec![0u32; nodes];
-        for n in (0..nodes).rev() {
-            let (range, children) = tree.node(n);
-            cores[n] = match children {
-                Some(c) => cores[c] + cores[c + 1],
-                None => {
-                    range.clone().for_each(|p| leaf_of[p] = n as u32);
-                    core[range].iter().filter(|&&c| c).count() as u32
-                }
-            };
-        }
-        let mut open = cores.clone();
-        let mut pos_of_row = vec![0u32; m];
-        for pos in 0..m {
-            pos_of_row[tree.row_at(pos)] = pos as u32;
-        }
-        let take = |open: &mut [u32], pos: usize| {
-            let mut n = leaf_of[pos] as usize;
-            loop {
-                open[n] -= 1;
-                if n == 0 {
-                    break;
-                }
-                n = parent[n] as usize;
-            }
-        };
-        let mut label = vec![NONE; m];
-        let mut expanded = vec![false; m];
-        let mut stack: Vec<usize> = Vec::new();
-        let mut batch: Vec<usize> = Vec::with_capacity(LEAF_SIZE << BATCH_LEVELS);
-        let mut found: Vec<usize> = Vec::new();
-        let mut nodes_todo: Vec<usize> = Vec::new();
-        let (mut lo, mut hi) = (vec![0.0; dim], vec![0.0; dim]);
-        let mut next = 0u32;
-        for row in 0..m {
-            let seed = pos_of_row[row] as usize;
-            if !core[seed] || label[seed] != NONE {
-                continue;
-            }
-            let c = next;
-            next += 1;
-            label[seed] = c;
-            take(&mut open, seed);
-            stack.push(seed);
-            while let Some(p) = stack.pop() {
-                if expanded[p] {
-                    continue;
-                }
-                let leaf = leaf_of[p] as usize;
-                let mut group = leaf;
-                for _ in 0..BATCH_LEVELS {
-                    group = parent[group] as usize;
-                }
-                batch.clear();
-                for r in tree.node(group).0 {
-                    if core[r] && !expanded[r] && label[r] == c {
-                        expanded[r] = true;
-                        batch.push(r);
-                    }
-                }
-                lo.copy_from_slice(self.point(batch[0]));
-                hi.copy_from_slice(self.point(batch[0]));
-                for &b in &batch[1..] {
-                    for (k, &v) in self.point(b).iter().enumerate() {
-                        lo[k] = lo[k].min(v);
-                        hi[k] = hi[k].max(v);
-                    }
-                }
-                self.unlabelled_core_near((&lo[..], &hi[..]), &batch, core, &label, &open, &mut found, &mut nodes_todo);
-                for &q in &found {
-                    label[q] = c;
-                    take(&mut open, q);
-                    stack.push(q);
-                }
-            }
-        }
-        // Border points: the lowest cluster number among the core points within eps.
-        for p in 0..m {
-            if !core[p] {
-                label[p] = self.border_label(p, core, &cores, &label, &mut nodes_todo);
-            }
-        }
-        label
-    }
-
-    /// Into `found`, the core points without a cluster yet that lie within eps of some
-    /// point of `batch` (whose bounding box is `bb`), skipping nodes with no open core
-    /// point left. Out of line: see [`Work::core_leaf`].
+    /// Adds to `met` the points within eps of `q` outside leaf `skip`, nearest boxes first,
+    /// until `met` holds `enough` points (or every such point). A node whose box lies
+    /// wholly within eps of `q` is taken whole: its points need no distance.
     #[inline(never)]
     #[allow(clippy::too_many_arguments)]
-    fn unlabelled_core_near(&self, bb: Bounds, batch: &[usize], core: &[bool], label: &[u32], open: &[u32], found: &mut Vec<usize>, nodes_todo: &mut Vec<usize>) {
+    fn count_from(&self, q: &[f64], framed: &[f64], skip: usize, enough: usize, stack: &mut Vec<(u32, f64)>, met: &mut Vec<u32>) {
         let tree = self.tree;
-        found.clear();
-        nodes_todo.clear();
-        nodes_todo.push(0);
-        while let Some(n) = nodes_todo.pop() {
-            if open[n] == 0 {
-                continue;
-            }
-            let nb = self.node_box(n);
-            if !box_near(self.dim, bb, nb, self.eps2) {
+        stack.clear();
+        stack.push((0, self.gap_to(framed, 0)));
+        while let Some((n, near)) = stack.pop() {
+            let n = n as usize;
+            if n == skip || near > self.near2 {
                 continue;
             }
             let (range, children) = tree.node(n);
-            if box_far_within(self.dim, bb, nb, self.eps2) {
-                // Every point of the node is within eps of every batch point.
-                found.extend(range.filter(|&q| core[q] && label[q] == NONE));
-            } else if let Some(ch) = children {
-                nodes_todo.extend([ch + 1, ch]);
-            } else {
-                for q in range {
-                    if !core[q] || label[q] != NONE {
-                        continue;
+            if self.small[n] && point_box_far_within(self.dim, framed, self.node_box(n), self.far2) {
+                // Every point of the node is within eps: taken without distances, those of
+                // q's own leaf (already counted) left out.
+                let own = tree.node(skip).0;
+                met.extend(range.filter(|r| !own.contains(r)).take(enough - met.len()).map(|r| r as u32));
+                if met.len() >= enough {
+                    return;
+                }
+                continue;
+            }
+            match children {
+                Some(c) => {
+                    let (dl, dr) = (self.gap_to(framed, c), self.gap_to(framed, c + 1));
+                    // Nearer child on top of the stack.
+                    if dl <= dr {
+                        stack.extend([((c + 1) as u32, dr), (c as u32, dl)]);
+                    } else {
+                        stack.extend([(c as u32, dl), ((c + 1) as u32, dr)]);
                     }
-                    let x = self.point(q);
-                    if point_box_near(self.dim, x, bb, self.eps2) && batch.iter().any(|&b| dist2(self.dim, self.point(b), x) <= self.eps2) {
-                        found.push(q);
+                }
+                None => {
+                    for r in range {
+                        if dist2(self.dim, q, self.point(r)) <= self.eps2 {
+                            met.push(r as u32);
+                        }
+                    }
+                    if met.len() >= enough {
+                        return;
+                    }
+                }
+            }
+        }
+    }
+}
+
+impl<D: Dim> Work<'_, D> {
+    /// Step 2 of the module doc: the components of the core points, two core points being
+    /// joined when they lie within eps of each other.
+    fn components(&self, f: &Found) -> Links {
+        let tree = self.tree;
+        let (m, nodes) = (tree.len(), tree.node_count());
+        let mut cores = vec![0u32; nodes];
+        let mut rep = vec![NONE; nodes];
+        // Children come after their parent: a reverse sweep sees them first.
+        for n in (0..nodes).rev() {
+            let (range, children) = tree.node(n);
+            (cores[n], rep[n]) = match children {
+                Some(c) => (cores[c] + cores[c + 1], if rep[c] != NONE { rep[c] } else { rep[c + 1] }),
+                None => (
+                    f.core[range.clone()].iter().filter(|&&c| c).count() as u32,
+                    range.clone().find(|&p| f.core[p]).map_or(NONE, |p| p as u32),
+                ),
+            };
+        }
+        let d = self.dim.n();
+        let mut boxes = vec![0.0; 2 * d * nodes];
+        for n in (0..nodes).rev() {
+            let (range, children) = tree.node(n);
+            let (lohi, rest) = boxes[2 * d * n..].split_at_mut(2 * d);
+            let (lo, hi) = lohi.split_at_mut(d);
+            lo.fill(f64::INFINITY);
+            hi.fill(f64::NEG_INFINITY);
+            match children {
+                Some(c) => {
+                    // Children come after their parent.
+                    let off = 2 * d * (c - n - 1);
+                    let (l, r) = rest[off..off + 4 * d].split_at(2 * d);
+                    for i in 0..d {
+                        lo[i] = l[i].min(r[i]);
+                        hi[i] = l[d + i].max(r[d + i]);
+                    }
+                }
+                None => {
+                    for p in range.filter(|&p| f.core[p]) {
+                        for (i, &v) in self.framed(p).iter().enumerate() {
+                            lo[i] = lo[i].min(v);
+                            hi[i] = hi[i].max(v);
+                        }
+                    }
+                }
+            }
+        }
+        let mut k = Links { uf: UnionFind::new(m), cores, rep, whole: vec![false; nodes], boxes, roots: Vec::new(), near: Vec::new() };
+        // The neighbours met while counting: most of the joins, for no distance.
+        for p in (0..m).filter(|&p| f.core[p]) {
+            for &q in &f.kept[p * KEPT..(p + 1) * KEPT] {
+                if q != NONE && f.core[q as usize] {
+                    k.uf.union(p, q as usize);
+                }
+            }
+        }
+        self.settle(0, &f.core, &mut k);
+        // Then every pair of nodes that may still hold an unjoined pair.
+        self.join_within(0, &f.core, &mut k);
+        k
+    }
+
+    /// Joins the core points of node `n` that lie within eps of each other, then records
+    /// whether the node is whole.
+    #[inline(never)]
+    fn join_within(&self, n: usize, core: &[bool], k: &mut Links) {
+        if k.cores[n] == 0 || k.whole[n] {
+            return;
+        }
+        let (range, children) = self.tree.node(n);
+        match children {
+            None => {
+                for a in range.clone().filter(|&a| core[a]) {
+                    for b in (a + 1..range.end).filter(|&b| core[b]) {
+                        if k.uf.find(a) != k.uf.find(b) && dist2(self.dim, self.point(a), self.point(b)) <= self.eps2 {
+                            k.uf.union(a, b);
+                        }
+                    }
+                }
+            }
+            Some(c) => {
+                self.join_within(c, core, k);
+                self.join_within(c + 1, core, k);
+                let d = self.dim.n();
+                let gap2 = self.gap_between(k.core_box(c, d), k.core_box(c + 1, d));
+                self.join_between(c, c + 1, gap2, core, k);
+            }
+        }
+        self.settle(n, core, k);
+    }
+
+    /// The component all core points of `n` lie in (a union-find root), [`EMPTY`] for a
+    /// node without core points, or [`NONE`] when they lie in several; marks the nodes
+    /// found whole on the way.
+    fn settle(&self, n: usize, core: &[bool], k: &mut Links) -> u32 {
+        if k.cores[n] == 0 {
+            return EMPTY;
+        }
+        if k.whole[n] {
+            return k.uf.find(k.rep[n] as usize) as u32;
+        }
+        let (range, children) = self.tree.node(n);
+        let got = match children {
+            None => {
+                let r = k.uf.find(k.rep[n] as usize);
+                if range.clone().all(|p| !core[p] || k.uf.find(p) == r) {
+                    r as u32
+                } else {
+                    NONE
+                }
+            }
+            // Both children, even when the first is mixed: the whole nodes below are marked.
+            Some(c) => match (self.settle(c, core, k), self.settle(c + 1, core, k)) {
+                (EMPTY, b) => b,
+                (a, EMPTY) => a,
+                (a, b) if a == b => a,
+                _ => NONE,
+            },
+        };
+        if got != NONE {
+            k.whole[n] = true;
+        }
+        got
+    }
+
+    /// Joins every core point of node `a` to the component of core point `to`.
+    fn join_all(&self, a: usize, to: usize, core: &[bool], k: &mut Links) {
+        if k.whole[a] {
+            k.uf.union(k.rep[a] as usize, to);
+        } else {
+            for p in self.tree.node(a).0.filter(|&p| core[p]) {
+                k.uf.union(p, to);
+            }
+            k.whole[a] = true;
+        }
+    }
+
+    /// Joins the core points of node `a` to those of node `b` within eps of them (`a` and
+    /// `b` disjoint).
+    #[inline(never)]
+    fn join_between(&self, a: usize, b: usize, gap2: f64, core: &[bool], k: &mut Links) {
+        // No core point, or their boxes too far apart (`gap2`, the squared gap between the
+        // boxes of their core points, is computed by the caller, which orders by it).
+        if k.cores[a] == 0 || k.cores[b] == 0 || gap2 > self.near2 {
+            return;
+        }
+        // Both whole and already one component: nothing to join.
+        if k.whole[a] && k.whole[b] && k.uf.find(k.rep[a] as usize) == k.uf.find(k.rep[b] as usize) {
+            return;
+        }
+        let d = self.dim.n();
+        let (ab, bb) = (k.core_box(a, d), k.core_box(b, d));
+        if box_far_within(self.dim, ab, bb, self.far2) {
+            // Every core point of one is within eps of every core point of the other.
+            let (ra, rb) = (k.rep[a] as usize, k.rep[b] as usize);
+            self.join_all(a, rb, core, k);
+            self.join_all(b, ra, core, k);
+            return;
+        }
+        let (range_a, ca) = self.tree.node(a);
+        let (range_b, cb) = self.tree.node(b);
+        match (ca, cb) {
+            (None, None) => self.join_leaves(a, b, core, k),
+            _ => {
+                // Split the node with more points (a leaf is never split); its children
+                // nearer the other node first, so that a join that prunes the rest comes early.
+                let (split, other, c) = match (ca, cb) {
+                    (Some(c), None) => (a, b, c),
+                    (None, Some(c)) => (b, a, c),
+                    (Some(c), Some(d)) => if range_a.len() >= range_b.len() { (a, b, c) } else { (b, a, d) },
+                    (None, None) => unreachable!(),
+                };
+                if k.whole[split] {
+                    // The children of a whole node are whole.
+                    for ch in [c, c + 1] {
+                        k.whole[ch] |= k.cores[ch] > 0;
+                    }
+                }
+                let gap_to_other = |ch: usize| if k.cores[ch] == 0 { f64::INFINITY } else { self.gap_between(k.core_box(ch, d), k.core_box(other, d)) };
+                let (gl, gr) = (gap_to_other(c), gap_to_other(c + 1));
+                let ((first, g1), (second, g2)) = if gl <= gr { ((c, gl), (c + 1, gr)) } else { ((c + 1, gr), (c, gl)) };
+                self.join_between(first, other, g1, core, k);
+                self.join_between(second, other, g2, core, k);
+            }
+        }
+    }
+
+    /// [`Work::join_between`] for two leaves `a` and `b`: point against point, only for
+    /// pairs whose components differ. When one leaf is whole (the common case) only the
+    /// other's core points outside its component are tried, each against its box first;
+    /// two whole leaves need one pair within eps.
+    fn join_leaves(&self, a: usize, b: usize, core: &[bool], k: &mut Links) {
+        let (a, b) = if k.whole[b] && !k.whole[a] { (b, a) } else { (a, b) };
+        let d = self.dim.n();
+        let Links { uf, whole, boxes, rep, roots, near, .. } = k;
+        let core_box = |n: usize| -> Bounds { boxes[2 * d * n..2 * d * (n + 1)].split_at(d) };
+        let cores = |n: usize| self.tree.node(n).0.filter(|&p| core[p]);
+        if whole[a] {
+            let mut ra = uf.find(rep[a] as usize);
+            if whole[b] {
+                if uf.find(rep[b] as usize) == ra {
+                    return;
+                }
+                // One pair within eps joins them all.
+                let bb = core_box(b);
+                for p in cores(a).filter(|&p| point_box_near(self.dim, self.framed(p), bb, self.near2)) {
+                    if let Some(q) = cores(b).find(|&q| dist2(self.dim, self.point(p), self.point(q)) <= self.eps2) {
+                        uf.union(p, q);
+                        return;
+                    }
+                }
+                return;
+            }
+            let ab = core_box(a);
+            for q in cores(b) {
+                if uf.find(q) == ra || !point_box_near(self.dim, self.framed(q), ab, self.near2) {
+                    continue;
+                }
+                if let Some(p) = cores(a).find(|&p| dist2(self.dim, self.point(p), self.point(q)) <= self.eps2) {
+                    // Joined to one of a's points, joined to all of them.
+                    uf.union(p, q);
+                    ra = uf.find(p);
+                }
+            }
+            return;
+        }
+        // Neither is whole: every pair of points in different components.
+        let bb = core_box(b);
+        near.clear();
+        near.extend(cores(a).filter(|&p| point_box_near(self.dim, self.framed(p), bb, self.near2)).map(|p| p as u32));
+        if near.is_empty() {
+            return;
+        }
+        roots.clear();
+        roots.extend(cores(b).map(|q| (q as u32, uf.find(q) as u32)));
+        for &p in near.iter() {
+            let p = p as usize;
+            let mut root = uf.find(p) as u32;
+            for i in 0..roots.len() {
+                let (q, rq) = roots[i];
+                if rq != root && dist2(self.dim, self.point(p), self.point(q as usize)) <= self.eps2 {
+                    uf.union(p, q as usize);
+                    // Rare (a join): the components read again.
+                    root = uf.find(p) as u32;
+                    for e in roots.iter_mut() {
+                        e.1 = uf.find(e.0 as usize) as u32;
                     }
                 }
             }
         }
     }
 
-    /// The cluster of non-core point `p`: the lowest cluster number among the core points
-    /// within eps, or [`NONE`]. `cores` counts each node's core points. Out of line: see
-    /// [`Work::core_leaf`].
-    #[inline(never)]
-    fn border_label(&self, p: usize, core: &[bool], cores: &[u32], label: &[u32], nodes_todo: &mut Vec<usize>) -> u32 {
+    /// Step 3 of the module doc: clusters numbered in the order they are grown (by their
+    /// lowest core row), each border point given the lowest among its core neighbours.
+    fn labels(&self, f: &Found, k: &mut Links) -> Vec<u32> {
         let tree = self.tree;
-        let q = self.point(p);
-        let mut best = NONE;
-        nodes_todo.clear();
-        nodes_todo.push(0);
-        while let Some(n) = nodes_todo.pop() {
-            if cores[n] == 0 || !point_box_near(self.dim, q, self.node_box(n), self.eps2) {
-                continue;
-            }
-            let (range, children) = tree.node(n);
-            if let Some(ch) = children {
-                nodes_todo.extend([ch + 1, ch]);
-                continue;
-            }
-            for r in range {
-                if core[r] && label[r] < best && dist2(self.dim, q, self.point(r)) <= self.eps2 {
-                    best = label[r];
-                }
-            }
+        let m = tree.len();
+        // Each component's lowest core row, kept at its root.
+        let mut lowest = vec![u32::MAX; m];
+        for p in (0..m).filter(|&p| f.core[p]) {
+            let r = k.uf.find(p);
+            lowest[r] = lowest[r].min(tree.row_at(p) as u32);
         }
-        best
+        let mut order: Vec<u32> = (0..m).filter(|&p| f.core[p] && k.uf.find(p) == p).map(|p| lowest[p]).collect();
+        order.sort_unstable();
+        let mut label = vec![NONE; m];
+        for p in (0..m).filter(|&p| f.core[p]) {
+            let r = k.uf.find(p);
+            label[p] = order.binary_search(&lowest[r]).expect("every component has its lowest row listed") as u32;
+        }
+        for p in (0..m).filter(|&p| !f.core[p]) {
+            let near = &f.near[f.near_at[p] as usize..f.near_at[p + 1] as usize];
+            label[p] = near.iter().filter(|&&q| f.core[q as usize]).map(|&q| label[q as usize]).min().unwrap_or(NONE);
+        }
+        label
     }
 }
 
@@ -627,7 +941,7 @@ mod tests {
     #[test]
     fn equals_brute_force_on_random_data() {
         let mut rng = SplitMix64::new(31);
-        for &dim in &[1usize, 2, 3, 7] {
+        for &dim in &[1usize, 2, 3, 7, 12] {
             // Three blobs plus uniform background: core, border and noise all occur.
             let m = 400;
             let mut pts = Vec::with_capacity(m * dim);
@@ -644,6 +958,94 @@ mod tests {
                 let want = brute_dbscan(&pts, dim, eps, min_points);
                 assert_eq!(got, want, "dim {dim}, eps {eps}, min_points {min_points}");
             }
+        }
+    }
+
+    /// Points on an integer lattice, each row twice: many pairs lie at exactly eps (1, the
+    /// lattice step, or sqrt 2), where only the exact distance on the given coordinates
+    /// decides. In 3 to 5 columns the index is built in principal axes, so its box tests
+    /// must leave the margin; far from the origin (1e6) the margin is widest.
+    #[test]
+    fn ties_at_exactly_eps_equal_brute_force() {
+        let mut rng = SplitMix64::new(32);
+        for &dim in &[2usize, 3, 5] {
+            for &offset in &[0.0, 1e6] {
+                let mut pts = Vec::new();
+                for _ in 0..150 {
+                    let row: Vec<f64> = (0..dim).map(|_| offset + rng.below(4) as f64).collect();
+                    pts.extend(&row);
+                    pts.extend(&row);
+                }
+                for &(eps, min_points) in &[(1.0, 3), (1.0, 8), (2f64.sqrt(), 6), (0.0, 2), (0.5, 1)] {
+                    let got = dbscan(&pts, dim, eps, min_points);
+                    assert_eq!(got, brute_dbscan(&pts, dim, eps, min_points), "dim {dim}, offset {offset}, eps {eps}, min_points {min_points}");
+                }
+            }
+        }
+    }
+
+    /// The benchmark's wide shape, small: a loop and a flare in two columns, four columns
+    /// that mix them with noise, six columns of noise; two arcs of the loop in one slab
+    /// lie close, so the proof that they stay apart is exercised.
+    #[test]
+    fn wide_data_equals_brute_force() {
+        let mut rng = SplitMix64::new(33);
+        let dim = 12;
+        let mut pts = Vec::new();
+        for _ in 0..900 {
+            let a = rng.next_f64() * std::f64::consts::TAU;
+            let (x, y) = if rng.next_f64() < 0.85 { (4.0 * a.cos(), 4.0 * a.sin()) } else { (4.0 + 6.0 * rng.next_f64(), 0.5 * rng.normal()) };
+            let (x, y) = (x + 0.25 * rng.normal(), y + 0.25 * rng.normal());
+            pts.extend([x, y]);
+            pts.extend([(0.8, 0.3), (-0.4, 0.9), (0.6, -0.6), (0.2, 0.7)].iter().map(|(p, q)| p * x + q * y + rng.normal()));
+            pts.extend((0..6).map(|_| rng.normal()));
+        }
+        for &(eps, min_points) in &[(2.0, 5), (2.6, 5), (3.0, 20), (3.5, 60)] {
+            let got = dbscan(&pts, dim, eps, min_points);
+            assert_eq!(got, brute_dbscan(&pts, dim, eps, min_points), "eps {eps}, min_points {min_points}");
+        }
+        // Only the arcs at the slab |x| < 1 (two clusters or more at these settings).
+        let slab: Vec<f64> = pts.chunks_exact(dim).filter(|r| r[0].abs() < 1.0).flatten().copied().collect();
+        let got = dbscan(&slab, dim, 2.6, 4);
+        assert!(got.iter().flatten().max().is_some_and(|&c| c >= 1), "the slab should hold two clusters or more");
+        assert_eq!(got, brute_dbscan(&slab, dim, 2.6, 4));
+    }
+
+    /// Dense clumps where whole leaves and whole pairs of nodes lie within eps: the
+    /// devices that count and join without distances.
+    #[test]
+    fn dense_clumps_equal_brute_force() {
+        let mut rng = SplitMix64::new(34);
+        for &dim in &[1usize, 2, 4, 9] {
+            let mut pts = Vec::new();
+            for i in 0..1500 {
+                let c = (i % 5) as f64 * 3.0;
+                pts.extend((0..dim).map(|_| c + 0.05 * rng.normal()));
+            }
+            for &(eps, min_points) in &[(0.6, 5), (0.6, 400), (0.25, 40), (3.5, 10)] {
+                let got = dbscan(&pts, dim, eps, min_points);
+                assert_eq!(got, brute_dbscan(&pts, dim, eps, min_points), "dim {dim}, eps {eps}, min_points {min_points}");
+            }
+        }
+    }
+
+    proptest::proptest! {
+        #![proptest_config(proptest::prelude::ProptestConfig::with_cases(64))]
+        /// Any small set of points (coordinates on a coarse grid, so that ties and repeated
+        /// rows are common), any eps and min_points: the brute force's labels.
+        #[test]
+        fn any_points_equal_brute_force(
+            dim in 1usize..13,
+            cells in proptest::collection::vec(0u8..6, 1..600),
+            eps_steps in 0u8..12,
+            min_points in 1usize..12,
+            scale in proptest::sample::select(vec![1.0, 0.1, 1000.0]),
+        ) {
+            let m = cells.len() / dim;
+            proptest::prop_assume!(m > 0);
+            let pts: Vec<f64> = cells[..m * dim].iter().map(|&c| c as f64 * scale).collect();
+            let eps = eps_steps as f64 * 0.5 * scale;
+            proptest::prop_assert_eq!(dbscan(&pts, dim, eps, min_points), brute_dbscan(&pts, dim, eps, min_points));
         }
     }
 

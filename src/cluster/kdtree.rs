@@ -23,6 +23,21 @@
 /// Largest number of points in a leaf.
 pub const LEAF_SIZE: usize = 16;
 
+/// How a node chooses the axis it is split on (always at the median).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Split {
+    /// The axis along which its box is widest (the usual rule; cheap, from the parent's
+    /// box cut at the split).
+    Widest,
+    /// The axis along which its points vary most (largest variance). In wide data with
+    /// long-tailed columns the widest axis is often a tail of noise, while the variance
+    /// follows where the points are; DBSCAN's tree uses it (see `dbscan.rs`).
+    Variance,
+}
+
+/// Most rows read to choose a split axis by [`Split::Variance`].
+const VARIANCE_SAMPLE: usize = 64;
+
 /// Component label of a node whose points lie in more than one component.
 pub const MIXED: u32 = u32::MAX;
 
@@ -68,7 +83,7 @@ impl KdTree {
     /// more than `u32::MAX` rows: these are programming errors upstream, not user input.
     /// Coordinates must be finite (the points stage removes missing values).
     pub fn new(points: &[f64], dim: usize) -> KdTree {
-        let (perm, nodes) = Self::order(points, dim, LEAF_SIZE);
+        let (perm, nodes) = Self::order(points, dim, LEAF_SIZE, Split::Widest);
         // The rows in tree order first: then a leaf's rows are contiguous for its box.
         let mut data = Vec::with_capacity(points.len());
         for &r in &perm {
@@ -84,8 +99,13 @@ impl KdTree {
     /// costs a pass over every row) for the price of longer scans in each leaf a query
     /// visits: a good trade for a few hundred queries over a million rows. Answers do not
     /// depend on the leaf size.
-    pub fn from_rows(mut points: Vec<f64>, dim: usize, leaf_size: usize) -> KdTree {
-        let (perm, nodes) = Self::order(&points, dim, leaf_size.max(1));
+    pub fn from_rows(points: Vec<f64>, dim: usize, leaf_size: usize) -> KdTree {
+        Self::from_rows_split(points, dim, leaf_size, Split::Widest)
+    }
+
+    /// [`KdTree::from_rows`] with the given rule for choosing each node's split axis.
+    pub fn from_rows_split(mut points: Vec<f64>, dim: usize, leaf_size: usize, rule: Split) -> KdTree {
+        let (perm, nodes) = Self::order(&points, dim, leaf_size.max(1), rule);
         // Row p takes row perm[p], following each cycle of the permutation once.
         let mut moved = vec![false; perm.len()];
         let mut held = vec![0.0; dim];
@@ -110,7 +130,7 @@ impl KdTree {
     }
 
     /// The tree order (`perm[pos]` is the caller's row at tree position `pos`) and the nodes.
-    fn order(points: &[f64], dim: usize, leaf_size: usize) -> (Vec<u32>, Vec<Node>) {
+    fn order(points: &[f64], dim: usize, leaf_size: usize, rule: Split) -> (Vec<u32>, Vec<Node>) {
         assert!(dim > 0, "k-d tree: dimension must be at least 1");
         assert!(points.len() % dim == 0, "k-d tree: {} values do not make rows of {dim}", points.len());
         let m = points.len() / dim;
@@ -137,29 +157,34 @@ impl KdTree {
         while i < nodes.len() {
             let Node { start, end, .. } = nodes[i];
             if (end - start) as usize > leaf_size {
-                Self::split(points, dim, i, &mut perm, &mut nodes, &mut loose, &mut keyed);
+                Self::split(points, dim, i, rule, &mut perm, &mut nodes, &mut loose, &mut keyed);
             }
             i += 1;
         }
         (perm, nodes)
     }
 
-    /// Splits node `i` at the median of its loose box's widest axis: its rows in `perm`
-    /// ordered around the median, its two children pushed, their loose boxes added. Out of
-    /// line so that a build is many calls of it: a wasm engine swaps in its optimised code
-    /// for a function between calls, never inside a running one.
+    /// Splits node `i` at the median of the axis `rule` chooses (for [`Split::Widest`], its
+    /// loose box's widest): its rows in `perm` ordered around the median, its two children
+    /// pushed, their loose boxes added. Out of line so that a build is many calls of it: a
+    /// wasm engine swaps in its optimised code for a function between calls, never inside
+    /// a running one.
     #[inline(never)]
-    fn split(points: &[f64], dim: usize, i: usize, perm: &mut [u32], nodes: &mut Vec<Node>, loose: &mut Vec<f64>, keyed: &mut Vec<(f64, u32)>) {
+    #[allow(clippy::too_many_arguments)]
+    fn split(points: &[f64], dim: usize, i: usize, rule: Split, perm: &mut [u32], nodes: &mut Vec<Node>, loose: &mut Vec<f64>, keyed: &mut Vec<(f64, u32)>) {
         let Node { start, end, .. } = nodes[i];
         let (s, e) = (start as usize, end as usize);
         let base = 2 * dim * i;
-        let axis = (0..dim)
-            .max_by(|&a, &b| {
-                let wa = loose[base + dim + a] - loose[base + a];
-                let wb = loose[base + dim + b] - loose[base + b];
-                wa.total_cmp(&wb)
-            })
-            .unwrap_or(0);
+        let axis = match rule {
+            Split::Widest => (0..dim)
+                .max_by(|&a, &b| {
+                    let wa = loose[base + dim + a] - loose[base + a];
+                    let wb = loose[base + dim + b] - loose[base + b];
+                    wa.total_cmp(&wb)
+                })
+                .unwrap_or(0),
+            Split::Variance => Self::most_varied(points, dim, &perm[s..e]),
+        };
         let mid = s + (e - s) / 2;
         // The node's coordinates on the axis, gathered beside their rows, so the
         // selection reads one contiguous array instead of jumping through `points`
@@ -182,6 +207,31 @@ impl KdTree {
         loose[base + 2 * dim * (children as usize - i) + dim + axis] = split;
         loose.extend_from_slice(&parent);
         loose[base + 2 * dim * (children as usize + 1 - i) + axis] = split;
+    }
+
+    /// The axis along which `rows` vary most: the largest sum of squared differences from
+    /// the first row's value, corrected by the mean (the variance times the row count,
+    /// with less cancellation than from zero). Ties go to the lower axis. A node of more
+    /// than [`VARIANCE_SAMPLE`] rows is judged on that many of them, evenly spaced in its
+    /// current order (which rows is fixed by the build, so the tree is the same every
+    /// time): reading every row through the permutation cost more than the rest of the
+    /// build, and the axis needs no more precision.
+    fn most_varied(points: &[f64], dim: usize, rows: &[u32]) -> usize {
+        let first = rows[0] as usize * dim;
+        let (mut sum, mut sq) = (vec![0.0; dim], vec![0.0; dim]);
+        let step = rows.len().div_ceil(VARIANCE_SAMPLE);
+        let mut n = 0.0;
+        for &r in rows.iter().step_by(step) {
+            let x = &points[r as usize * dim..(r as usize + 1) * dim];
+            for k in 0..dim {
+                let v = x[k] - points[first + k];
+                sum[k] += v;
+                sq[k] += v * v;
+            }
+            n += 1.0;
+        }
+        let spread = |k: usize| sq[k] - sum[k] * sum[k] / n;
+        (0..dim).fold(0, |best, k| if spread(k) > spread(best) { k } else { best })
     }
 
     /// The tree over `data`, the rows in tree order (`perm` and `nodes` from [`KdTree::order`]):
@@ -571,24 +621,26 @@ mod tests {
         for &dim in &[1usize, 2, 3, 7] {
             for &m in &[0usize, 1, 5, 17, 300, 2000] {
                 let pts = random_points(&mut rng, m, dim);
-                let tree = KdTree::new(&pts, dim);
-                assert_eq!(tree.len(), m);
-                // Radii chosen so that answers range from empty to nearly everything.
-                for &r in &[0.0, 0.3, 1.0, 2.5, 6.0, 40.0] {
-                    for t in 0..20 {
-                        // Half the queries at data points (the point itself must be found at r = 0).
-                        let q: Vec<f64> = if t % 2 == 0 && m > 0 {
-                            let i = rng.below(m);
-                            pts[i * dim..(i + 1) * dim].to_vec()
-                        } else {
-                            (0..dim).map(|_| rng.next_f64() * 12.0 - 6.0).collect()
-                        };
-                        tree.within(&q, r, &mut got);
-                        got.sort_unstable();
-                        let want = brute_within(&pts, dim, &q, r);
-                        assert_eq!(got, want, "dim {dim}, m {m}, r {r}");
-                        let limit = 3;
-                        assert_eq!(tree.count_within(&q, r, limit), want.len().min(limit));
+                // Both split rules.
+                for tree in [KdTree::new(&pts, dim), KdTree::from_rows_split(pts.clone(), dim, LEAF_SIZE, Split::Variance)] {
+                    assert_eq!(tree.len(), m);
+                    // Radii chosen so that answers range from empty to nearly everything.
+                    for &r in &[0.0, 0.3, 1.0, 2.5, 6.0, 40.0] {
+                        for t in 0..20 {
+                            // Half the queries at data points (the point itself must be found at r = 0).
+                            let q: Vec<f64> = if t % 2 == 0 && m > 0 {
+                                let i = rng.below(m);
+                                pts[i * dim..(i + 1) * dim].to_vec()
+                            } else {
+                                (0..dim).map(|_| rng.next_f64() * 12.0 - 6.0).collect()
+                            };
+                            tree.within(&q, r, &mut got);
+                            got.sort_unstable();
+                            let want = brute_within(&pts, dim, &q, r);
+                            assert_eq!(got, want, "dim {dim}, m {m}, r {r}");
+                            let limit = 3;
+                            assert_eq!(tree.count_within(&q, r, limit), want.len().min(limit));
+                        }
                     }
                 }
             }

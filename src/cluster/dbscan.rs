@@ -83,195 +83,13 @@
 //!
 //! Not here: choosing eps (see the automatic settings), other metrics, weights.
 
-use super::kdtree::{KdTree, Split, LEAF_SIZE};
+use super::index::{box_far_within, diagonal2, dist2, gap, point_box_far_within, point_box_near, Any, Bounds, Dim, Fixed, Index};
+use super::kdtree::KdTree;
 use super::unionfind::UnionFind;
 use super::Labels;
 
-/// The number of coordinates of a point, known at compile time ([`Fixed`]) or only at run
-/// time ([`Any`]). The algorithm below is written once, generic over it; [`dbscan`]
-/// chooses [`Fixed`] for the usual small dimensions, so that every distance and box loop
-/// has a constant length (unrolled, no bounds checks) and the same code serves any other
-/// dimension through [`Any`]. Both run the same floating-point operations in the same
-/// order, so the labels do not depend on which one is used.
-trait Dim: Copy {
-    fn n(self) -> usize;
-}
-
-#[derive(Clone, Copy)]
-struct Fixed<const D: usize>;
-
-impl<const D: usize> Dim for Fixed<D> {
-    #[inline(always)]
-    fn n(self) -> usize {
-        D
-    }
-}
-
-#[derive(Clone, Copy)]
-struct Any(usize);
-
-impl Dim for Any {
-    #[inline(always)]
-    fn n(self) -> usize {
-        self.0
-    }
-}
-
-/// How many coordinates a bounded sum adds between two comparisons with its bound.
-/// Natively all of them for the fixed dimensions up to 8: a branch-free sum (vectorised)
-/// beats stopping early. In wasm (scalar) stopping after each coordinate is faster.
-const CHUNK: usize = if cfg!(target_arch = "wasm32") { 1 } else { 8 };
-
-/// Whether `sum_k term(k)` over the `n` coordinates, added in coordinate order, stays at
-/// or below `r2`. Every term is non-negative (a square), so the partial sums only grow,
-/// also in floating point (rounding is monotone): the sum exceeds `r2` exactly when a
-/// partial sum does, which lets long sums stop after a chunk without changing any answer.
-#[inline(always)]
-#[allow(clippy::modulo_one)] // CHUNK is 1 in wasm: a check after every coordinate.
-fn sum_within(n: usize, r2: f64, term: impl Fn(usize) -> f64) -> bool {
-    let mut s = 0.0;
-    for k in 0..n {
-        s += term(k);
-        if ((k + 1) % CHUNK == 0 || k + 1 == n) && s > r2 {
-            return false;
-        }
-    }
-    true
-}
-
-#[inline(always)]
-fn dist2<D: Dim>(d: D, a: &[f64], b: &[f64]) -> f64 {
-    let n = d.n();
-    a[..n].iter().zip(&b[..n]).map(|(x, y)| (x - y) * (x - y)).sum()
-}
-
-/// The larger of two finite values. Unlike `f64::max` (which wasm32 turns into a call to
-/// `fmax`, for the NaN rules) a plain comparison: one instruction natively and in wasm.
-/// The two differ only on NaN (never here) and on the sign of a zero, which the squares
-/// below remove.
-#[inline(always)]
-fn max(a: f64, b: f64) -> f64 {
-    if a > b { a } else { b }
-}
-
-/// The gap between the intervals `[alo, ahi]` and `[blo, bhi]` (0 when they meet): the
-/// one of `blo - ahi`, `alo - bhi` that is positive (at most one is, as `alo <= ahi` and
-/// `blo <= bhi`), otherwise 0. Natively without branches (faster there); in wasm by
-/// comparisons, which V8 runs faster than selects. The same value either way.
-#[inline(always)]
-fn gap(alo: f64, ahi: f64, blo: f64, bhi: f64) -> f64 {
-    if cfg!(target_arch = "wasm32") {
-        if blo > ahi {
-            blo - ahi
-        } else if alo > bhi {
-            alo - bhi
-        } else {
-            0.0
-        }
-    } else {
-        max(max(blo - ahi, alo - bhi), 0.0)
-    }
-}
-
 /// No cluster (yet).
 const NONE: u32 = u32::MAX;
-
-/// A box as `n` lower and `n` upper bounds.
-type Bounds<'a> = (&'a [f64], &'a [f64]);
-
-/// Squared distance between the farthest corners of a box and itself: its diagonal.
-#[inline(always)]
-fn diagonal2<D: Dim>(d: D, a: Bounds) -> f64 {
-    let n = d.n();
-    let (lo, hi) = (&a.0[..n], &a.1[..n]);
-    let mut far = 0.0;
-    for k in 0..n {
-        let f = hi[k] - lo[k];
-        far += f * f;
-    }
-    far
-}
-
-/// Whether the farthest corners of two boxes are within squared distance `r2` (so every
-/// pair of their points is).
-#[inline(always)]
-fn box_far_within<D: Dim>(d: D, a: Bounds, b: Bounds, r2: f64) -> bool {
-    let n = d.n();
-    let (alo, ahi, blo, bhi) = (&a.0[..n], &a.1[..n], &b.0[..n], &b.1[..n]);
-    sum_within(n, r2, |k| {
-        let f = max(bhi[k] - alo[k], ahi[k] - blo[k]);
-        f * f
-    })
-}
-
-/// Whether a point is within squared distance `r2` of a box (nearest corner).
-#[inline(always)]
-fn point_box_near<D: Dim>(d: D, q: &[f64], b: Bounds, r2: f64) -> bool {
-    let n = d.n();
-    let (q, lo, hi) = (&q[..n], &b.0[..n], &b.1[..n]);
-    sum_within(n, r2, |k| {
-        let g = gap(q[k], q[k], lo[k], hi[k]);
-        g * g
-    })
-}
-
-/// Whether the farthest corner of a box is within squared distance `r2` of a point (so
-/// every point of the box is).
-#[inline(always)]
-fn point_box_far_within<D: Dim>(d: D, q: &[f64], b: Bounds, r2: f64) -> bool {
-    let n = d.n();
-    let (q, lo, hi) = (&q[..n], &b.0[..n], &b.1[..n]);
-    sum_within(n, r2, |k| {
-        let f = max(q[k] - lo[k], hi[k] - q[k]);
-        f * f
-    })
-}
-
-/// The fewest and the most columns for which the index is built in the points' principal
-/// axes (module doc): below, a rotation gains nothing; above, its d × d algebra would cost
-/// more than it saves.
-const FRAME_DIMS: std::ops::RangeInclusive<usize> = 3..=64;
-
-/// Most rows the principal axes are computed from.
-const FRAME_SAMPLE: usize = 4096;
-
-/// The points' coordinates along their principal axes (centred), row-major, with the
-/// margin that box tests in those coordinates leave for rounding (module doc); `None`
-/// when the index is better built on the points as they are.
-fn principal_frame<D: Dim>(points: &[f64], d: D) -> Option<(Vec<f64>, f64)> {
-    let dim = d.n();
-    let m = points.len() / dim;
-    if !FRAME_DIMS.contains(&dim) || m < 2 {
-        return None;
-    }
-    // The axes from an evenly spaced sample of the rows: they only steer the index.
-    let step = m.div_ceil(FRAME_SAMPLE);
-    let sample: Vec<f64> = points.chunks_exact(dim).step_by(step).flatten().copied().collect();
-    let x = ndarray::ArrayView2::from_shape((sample.len() / dim, dim), &sample).expect("rows of dim values");
-    let mean = crate::filter::linalg::column_means(x).to_vec();
-    let (_, axes) = crate::filter::linalg::symmetric_eigen(&crate::filter::linalg::covariance(x, 0));
-    // Axis j's components, contiguous.
-    let axes: Vec<f64> = (0..dim).flat_map(|j| (0..dim).map(move |k| (j, k))).map(|(j, k)| axes[[k, j]]).collect();
-    let mut out = vec![0.0; points.len()];
-    let mut centred = vec![0.0; dim];
-    let mut largest = 0.0f64;
-    for (row, o) in points.chunks_exact(dim).zip(out.chunks_exact_mut(dim)) {
-        let (row, o, centred) = (&row[..dim], &mut o[..dim], &mut centred[..dim]);
-        for k in 0..dim {
-            largest = largest.max(row[k].abs());
-            centred[k] = row[k] - mean[k];
-        }
-        for (j, v) in o.iter_mut().enumerate() {
-            let axis = &axes[j * dim..(j + 1) * dim];
-            let mut s = 0.0;
-            for k in 0..dim {
-                s += centred[k] * axis[k];
-            }
-            *v = s;
-        }
-    }
-    Some((out, 1e-10 * dim as f64 * (1.0 + largest)))
-}
 
 /// DBSCAN labels for the rows of `points` (row-major, `dim` columns).
 pub fn dbscan(points: &[f64], dim: usize, eps: f64, min_points: usize) -> Labels {
@@ -292,27 +110,15 @@ pub fn dbscan(points: &[f64], dim: usize, eps: f64, min_points: usize) -> Labels
 }
 
 fn run<D: Dim>(points: &[f64], dim: D, eps: f64, min_points: usize) -> Labels {
-    let d = dim.n();
-    let frame = principal_frame(points, dim);
-    let (tree, margin) = match frame {
-        Some((rotated, margin)) => (KdTree::from_rows_split(rotated, d, LEAF_SIZE, Split::Variance), margin),
-        None => (KdTree::from_rows_split(points.to_vec(), d, LEAF_SIZE, Split::Variance), 0.0),
-    };
-    // The points themselves in tree order, for every distance between two points.
-    let own: Vec<f64>;
-    let data = if margin > 0.0 {
-        own = (0..tree.len()).flat_map(|pos| points[tree.row_at(pos) * d..(tree.row_at(pos) + 1) * d].iter().copied()).collect();
-        &own[..]
-    } else {
-        tree.tree_points()
-    };
+    let index = Index::new(points, dim);
+    let (tree, margin) = (&index.tree, index.margin);
     let eps2 = eps * eps;
     let near2 = (eps + margin) * (eps + margin);
     // No box is known to hold only neighbours when the margin swallows eps (-1: no squared
     // distance is that small).
     let far2 = if eps > margin { (eps - margin) * (eps - margin) } else if margin == 0.0 { eps2 } else { -1.0 };
     let small = (0..tree.node_count()).map(|n| diagonal2(dim, tree.node_box(n)) <= 4.0 * near2).collect();
-    let w = Work { tree: &tree, frame: tree.tree_points(), data, dim, eps2, near2, far2, small };
+    let w = Work { tree, frame: tree.tree_points(), data: index.points(), dim, eps2, near2, far2, small };
     let found = w.core_points(min_points.max(1));
     let mut links = w.components(&found);
     let label = w.labels(&found, &mut links);

@@ -446,49 +446,6 @@ impl KdTree {
         }
     }
 
-    /// The point nearest to `q` whose component differs from `own`, if one lies at squared
-    /// distance strictly below `bound2`. Returns its tree position and squared distance.
-    /// `comp` is the component of each point by tree position, `node_comp` the output of
-    /// [`KdTree::node_components`] for that `comp`; subtrees wholly inside `own` are
-    /// skipped. If several points tie, which one is returned is unspecified.
-    pub fn nearest_other(&self, q: &[f64], own: u32, comp: &[u32], node_comp: &[u32], bound2: f64) -> Option<(usize, f64)> {
-        assert_eq!(q.len(), self.dim, "k-d tree: query has {} values, the points have {}", q.len(), self.dim);
-        if self.is_empty() {
-            return None;
-        }
-        let mut best = (bound2, usize::MAX);
-        self.other_rec(0, self.box_near2(0, q), q, own, comp, node_comp, &mut best);
-        (best.1 != usize::MAX).then_some((best.1, best.0))
-    }
-
-    #[allow(clippy::too_many_arguments)]
-    fn other_rec(&self, n: usize, near: f64, q: &[f64], own: u32, comp: &[u32], node_comp: &[u32], best: &mut (f64, usize)) {
-        if near >= best.0 || node_comp[n] == own {
-            return;
-        }
-        let node = self.nodes[n];
-        if node.children == 0 {
-            for pos in node.start as usize..node.end as usize {
-                if comp[pos] != own {
-                    let d2 = dist2(q, self.point_at(pos));
-                    if d2 < best.0 {
-                        *best = (d2, pos);
-                    }
-                }
-            }
-            return;
-        }
-        let c = node.children as usize;
-        let (dl, dr) = (self.box_near2(c, q), self.box_near2(c + 1, q));
-        if dl <= dr {
-            self.other_rec(c, dl, q, own, comp, node_comp, best);
-            self.other_rec(c + 1, dr, q, own, comp, node_comp, best);
-        } else {
-            self.other_rec(c + 1, dr, q, own, comp, node_comp, best);
-            self.other_rec(c, dl, q, own, comp, node_comp, best);
-        }
-    }
-
     /// The caller's row numbers of the points in node `n`.
     pub fn rows_in(&self, n: usize) -> &[u32] {
         let node = self.nodes[n];
@@ -668,44 +625,6 @@ mod tests {
                         let got_pairs: Vec<(f64, usize)> = got.iter().map(|n| (n.dist, n.index)).collect();
                         assert_eq!(got_pairs, all, "dim {dim}, m {m}, k {k}");
                     }
-                }
-            }
-        }
-    }
-
-    #[test]
-    fn nearest_other_component_equals_brute_force() {
-        let mut rng = SplitMix64::new(13);
-        for &dim in &[1usize, 2, 3, 7] {
-            let m = 700;
-            let pts = random_points(&mut rng, m, dim);
-            let tree = KdTree::new(&pts, dim);
-            // Components by spatial slabs along the first axis, so that whole subtrees
-            // share a label and the pruning path is exercised, plus a few scattered ones.
-            let comp: Vec<u32> = (0..m)
-                .map(|pos| {
-                    let x = tree.point_at(pos)[0];
-                    if pos % 97 == 0 { 9 } else { ((x + 5.0) / 2.5) as u32 }
-                })
-                .collect();
-            let mut node_comp = Vec::new();
-            tree.node_components(&comp, &mut node_comp);
-            if dim <= 2 {
-                // In low dimension leaves are narrow, so many lie inside one slab.
-                assert!(node_comp.iter().any(|&c| c != MIXED));
-            }
-            for p in 0..m {
-                let q = tree.point_at(p).to_vec();
-                let own = comp[p];
-                let want = (0..m)
-                    .filter(|&j| comp[j] != own)
-                    .map(|j| (dist2(&q, tree.point_at(j)), j))
-                    .min_by(|a, b| a.0.total_cmp(&b.0));
-                let got = tree.nearest_other(&q, own, &comp, &node_comp, f64::INFINITY);
-                assert_eq!(got.map(|g| g.1), want.map(|w| w.0), "dim {dim}, pos {p}");
-                // A bound at or below the true answer finds nothing.
-                if let Some((d2, _)) = want {
-                    assert_eq!(tree.nearest_other(&q, own, &comp, &node_comp, d2), None);
                 }
             }
         }

@@ -10,6 +10,7 @@
 //! cover, or the graph built from the clusters.
 
 pub mod dbscan;
+mod index;
 pub mod kdtree;
 pub mod linkage;
 mod unionfind;

@@ -1,0 +1,232 @@
+//! The spatial index the clustering methods share, and the small geometry they run on it.
+//!
+//! [`Index`] is a k-d tree (leaves of [`LEAF_SIZE`], split at the median of the axis of
+//! largest variance, [`Split::Variance`]) built on the points' coordinates along their
+//! principal axes when they have 3 to 64 columns (the axes of an evenly spaced sample of
+//! up to 4096 rows, centred), on the points as given otherwise. Box tests are made in the
+//! frame; distances between two points are made on the points as given, so that every
+//! answer is the one the given coordinates give. The rotation moves a coordinate by far
+//! less than [`Index::margin`] = 1e-10 · d · (1 + largest |coordinate|): a box whose
+//! nearest corner lies farther than r + margin holds no point within r, and one whose
+//! farthest corner lies within r - margin holds only points within r. (The rounding of a
+//! rotated coordinate is at most about d² · 1.1e-16 times the largest coordinate, a
+//! thousand times less than the margin for d up to 64.) Why this index and not another
+//! is measured in `dbscan.rs`.
+//!
+//! Not here: the clustering itself; other metrics.
+
+use super::kdtree::{KdTree, Split, LEAF_SIZE};
+
+/// The index over one set of points (module doc).
+pub(super) struct Index {
+    /// The tree, over the points in the frame (`tree.point_at(pos)`).
+    pub tree: KdTree,
+    /// The points as given, in tree order; `None` when the frame is the points themselves.
+    given: Option<Vec<f64>>,
+    /// How far a box test must stretch for rounding in the frame (0 without a frame).
+    pub margin: f64,
+}
+
+impl Index {
+    pub fn new<D: Dim>(points: &[f64], dim: D) -> Index {
+        let d = dim.n();
+        match principal_frame(points, dim) {
+            Some((rotated, margin)) => {
+                let tree = KdTree::from_rows_split(rotated, d, LEAF_SIZE, Split::Variance);
+                let given = (0..tree.len()).flat_map(|pos| points[tree.row_at(pos) * d..(tree.row_at(pos) + 1) * d].iter().copied()).collect();
+                Index { tree, given: Some(given), margin }
+            }
+            None => Index { tree: KdTree::from_rows_split(points.to_vec(), d, LEAF_SIZE, Split::Variance), given: None, margin: 0.0 },
+        }
+    }
+
+    /// The points as given, in tree order, row-major.
+    pub fn points(&self) -> &[f64] {
+        self.given.as_deref().unwrap_or(self.tree.tree_points())
+    }
+}
+
+/// The number of coordinates of a point, known at compile time ([`Fixed`]) or only at run
+/// time ([`Any`]). The clustering methods are written once, generic over it, and choose
+/// [`Fixed`] for the usual small dimensions, so that every distance and box loop
+/// has a constant length (unrolled, no bounds checks) and the same code serves any other
+/// dimension through [`Any`]. Both run the same floating-point operations in the same
+/// order, so the labels do not depend on which one is used.
+pub(super) trait Dim: Copy {
+    fn n(self) -> usize;
+}
+
+#[derive(Clone, Copy)]
+pub(super) struct Fixed<const D: usize>;
+
+impl<const D: usize> Dim for Fixed<D> {
+    #[inline(always)]
+    fn n(self) -> usize {
+        D
+    }
+}
+
+#[derive(Clone, Copy)]
+pub(super) struct Any(pub(super) usize);
+
+impl Dim for Any {
+    #[inline(always)]
+    fn n(self) -> usize {
+        self.0
+    }
+}
+
+/// How many coordinates a bounded sum adds between two comparisons with its bound.
+/// Natively all of them for the fixed dimensions up to 8: a branch-free sum (vectorised)
+/// beats stopping early. In wasm (scalar) stopping after each coordinate is faster.
+const CHUNK: usize = if cfg!(target_arch = "wasm32") { 1 } else { 8 };
+
+/// Whether `sum_k term(k)` over the `n` coordinates, added in coordinate order, stays at
+/// or below `r2`. Every term is non-negative (a square), so the partial sums only grow,
+/// also in floating point (rounding is monotone): the sum exceeds `r2` exactly when a
+/// partial sum does, which lets long sums stop after a chunk without changing any answer.
+#[inline(always)]
+#[allow(clippy::modulo_one)] // CHUNK is 1 in wasm: a check after every coordinate.
+pub(super) fn sum_within(n: usize, r2: f64, term: impl Fn(usize) -> f64) -> bool {
+    let mut s = 0.0;
+    for k in 0..n {
+        s += term(k);
+        if ((k + 1) % CHUNK == 0 || k + 1 == n) && s > r2 {
+            return false;
+        }
+    }
+    true
+}
+
+#[inline(always)]
+pub(super) fn dist2<D: Dim>(d: D, a: &[f64], b: &[f64]) -> f64 {
+    let n = d.n();
+    a[..n].iter().zip(&b[..n]).map(|(x, y)| (x - y) * (x - y)).sum()
+}
+
+/// The larger of two finite values. Unlike `f64::max` (which wasm32 turns into a call to
+/// `fmax`, for the NaN rules) a plain comparison: one instruction natively and in wasm.
+/// The two differ only on NaN (never here) and on the sign of a zero, which the squares
+/// below remove.
+#[inline(always)]
+pub(super) fn max(a: f64, b: f64) -> f64 {
+    if a > b { a } else { b }
+}
+
+/// The gap between the intervals `[alo, ahi]` and `[blo, bhi]` (0 when they meet): the
+/// one of `blo - ahi`, `alo - bhi` that is positive (at most one is, as `alo <= ahi` and
+/// `blo <= bhi`), otherwise 0. Natively without branches (faster there); in wasm by
+/// comparisons, which V8 runs faster than selects. The same value either way.
+#[inline(always)]
+pub(super) fn gap(alo: f64, ahi: f64, blo: f64, bhi: f64) -> f64 {
+    if cfg!(target_arch = "wasm32") {
+        if blo > ahi {
+            blo - ahi
+        } else if alo > bhi {
+            alo - bhi
+        } else {
+            0.0
+        }
+    } else {
+        max(max(blo - ahi, alo - bhi), 0.0)
+    }
+}
+
+
+/// A box as `n` lower and `n` upper bounds.
+pub(super) type Bounds<'a> = (&'a [f64], &'a [f64]);
+
+/// Squared distance between the farthest corners of a box and itself: its diagonal.
+#[inline(always)]
+pub(super) fn diagonal2<D: Dim>(d: D, a: Bounds) -> f64 {
+    let n = d.n();
+    let (lo, hi) = (&a.0[..n], &a.1[..n]);
+    let mut far = 0.0;
+    for k in 0..n {
+        let f = hi[k] - lo[k];
+        far += f * f;
+    }
+    far
+}
+
+/// Whether the farthest corners of two boxes are within squared distance `r2` (so every
+/// pair of their points is).
+#[inline(always)]
+pub(super) fn box_far_within<D: Dim>(d: D, a: Bounds, b: Bounds, r2: f64) -> bool {
+    let n = d.n();
+    let (alo, ahi, blo, bhi) = (&a.0[..n], &a.1[..n], &b.0[..n], &b.1[..n]);
+    sum_within(n, r2, |k| {
+        let f = max(bhi[k] - alo[k], ahi[k] - blo[k]);
+        f * f
+    })
+}
+
+/// Whether a point is within squared distance `r2` of a box (nearest corner).
+#[inline(always)]
+pub(super) fn point_box_near<D: Dim>(d: D, q: &[f64], b: Bounds, r2: f64) -> bool {
+    let n = d.n();
+    let (q, lo, hi) = (&q[..n], &b.0[..n], &b.1[..n]);
+    sum_within(n, r2, |k| {
+        let g = gap(q[k], q[k], lo[k], hi[k]);
+        g * g
+    })
+}
+
+/// Whether the farthest corner of a box is within squared distance `r2` of a point (so
+/// every point of the box is).
+#[inline(always)]
+pub(super) fn point_box_far_within<D: Dim>(d: D, q: &[f64], b: Bounds, r2: f64) -> bool {
+    let n = d.n();
+    let (q, lo, hi) = (&q[..n], &b.0[..n], &b.1[..n]);
+    sum_within(n, r2, |k| {
+        let f = max(q[k] - lo[k], hi[k] - q[k]);
+        f * f
+    })
+}
+
+/// The fewest and the most columns for which the index is built in the points' principal
+/// axes (module doc): below, a rotation gains nothing; above, its d × d algebra would cost
+/// more than it saves.
+const FRAME_DIMS: std::ops::RangeInclusive<usize> = 3..=64;
+
+/// Most rows the principal axes are computed from.
+const FRAME_SAMPLE: usize = 4096;
+
+/// The points' coordinates along their principal axes (centred), row-major, with the
+/// margin that box tests in those coordinates leave for rounding (module doc); `None`
+/// when the index is better built on the points as they are.
+pub(super) fn principal_frame<D: Dim>(points: &[f64], d: D) -> Option<(Vec<f64>, f64)> {
+    let dim = d.n();
+    let m = points.len() / dim;
+    if !FRAME_DIMS.contains(&dim) || m < 2 {
+        return None;
+    }
+    // The axes from an evenly spaced sample of the rows: they only steer the index.
+    let step = m.div_ceil(FRAME_SAMPLE);
+    let sample: Vec<f64> = points.chunks_exact(dim).step_by(step).flatten().copied().collect();
+    let x = ndarray::ArrayView2::from_shape((sample.len() / dim, dim), &sample).expect("rows of dim values");
+    let mean = crate::filter::linalg::column_means(x).to_vec();
+    let (_, axes) = crate::filter::linalg::symmetric_eigen(&crate::filter::linalg::covariance(x, 0));
+    // Axis j's components, contiguous.
+    let axes: Vec<f64> = (0..dim).flat_map(|j| (0..dim).map(move |k| (j, k))).map(|(j, k)| axes[[k, j]]).collect();
+    let mut out = vec![0.0; points.len()];
+    let mut centred = vec![0.0; dim];
+    let mut largest = 0.0f64;
+    for (row, o) in points.chunks_exact(dim).zip(out.chunks_exact_mut(dim)) {
+        let (row, o, centred) = (&row[..dim], &mut o[..dim], &mut centred[..dim]);
+        for k in 0..dim {
+            largest = largest.max(row[k].abs());
+            centred[k] = row[k] - mean[k];
+        }
+        for (j, v) in o.iter_mut().enumerate() {
+            let axis = &axes[j * dim..(j + 1) * dim];
+            let mut s = 0.0;
+            for k in 0..dim {
+                s += centred[k] * axis[k];
+            }
+            *v = s;
+        }
+    }
+    Some((out, 1e-10 * dim as f64 * (1.0 + largest)))
+}
+

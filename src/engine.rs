@@ -110,6 +110,10 @@ pub struct Summary {
     /// (absent from the JSON when there is none).
     #[serde(skip_serializing_if = "Vec::is_empty", default)]
     pub warnings: Vec<String>,
+    /// Set on a first look ([`Workbench::first_look`]): the graph is of a sample, and the
+    /// row counts above count the sample's rows (`rowsNotKept` stays the condition's).
+    #[serde(skip_serializing_if = "Option::is_none", default)]
+    pub first_look: Option<crate::first_look::FirstLookOf>,
 }
 
 /// Statistic of a numeric column over a node's rows that have a value there.
@@ -449,7 +453,7 @@ impl Workbench {
         s.validate()?;
         self.sync_derived(s)?;
         if let Some(b) = &self.last {
-            if graph_key(&b.settings) == graph_key(s) {
+            if graph_key(&b.settings) == graph_key(s) && b.summary.first_look.is_none() {
                 // The stages up to the cover become this graph's again: a build cancelled
                 // after `prepare_elements` (or a node count) may have moved them to others.
                 self.prepare(s, progress)?;
@@ -477,6 +481,55 @@ impl Workbench {
         self.sync_derived(s)?;
         self.cluster_stages(s, progress)?;
         Ok(self.clustered.as_ref().expect("just set").1.nodes.len())
+    }
+
+    /// A first look at a large table ([`crate::first_look`]): when the rows `s` keeps
+    /// number more than [`crate::first_look::FROM_ROWS`], builds the graph of a seeded
+    /// sample of them with the sample's settings ([`crate::first_look::sample_settings`])
+    /// and makes it the last build (node statistics and details read the table's rows as
+    /// for any graph), returning its summary; `None` for a smaller table. The cached
+    /// stages are not touched: the full run that follows re-uses what it had (or does its
+    /// work from the start), whatever the first look did. On error the previous build stays.
+    pub fn first_look(&mut self, s: &Settings, progress: &mut dyn FnMut(&str, f64)) -> Result<Option<Summary>> {
+        s.validate()?;
+        self.sync_derived(s)?;
+        self.sync_subset(s, progress)?;
+        let table = self.need_table()?;
+        let condition = self.subset.as_ref().and_then(|(_, r)| r.as_ref());
+        let eligible: Vec<u32> = match condition {
+            Some(r) => (0..table.n_rows as u32).filter(|&i| r.keep[i as usize]).collect(),
+            None => (0..table.n_rows as u32).collect(),
+        };
+        if !crate::first_look::wanted(eligible.len()) {
+            return Ok(None);
+        }
+        let rows = crate::first_look::sample(&eligible, s.seed);
+        let of = crate::first_look::FirstLookOf { sampled: rows.len(), of: eligible.len() };
+        let sample_s = crate::first_look::sample_settings(s, rows.len() as f64 / eligible.len() as f64);
+        let mut keep = vec![false; table.n_rows];
+        rows.iter().for_each(|&r| keep[r as usize] = true);
+        let subset = RowSubset {
+            condition: match condition {
+                Some(r) => format!("{} (a first look at {} of its rows)", r.condition, rows.len()),
+                None => format!("(a first look at {} of the rows)", rows.len()),
+            },
+            keep,
+            kept: rows.len(),
+            not_kept: condition.map_or(0, |r| r.not_kept),
+            undecided: condition.map_or(0, |r| r.undecided),
+        };
+        progress("points", 0.0);
+        let pts = points::build_points_in(table, &sample_s, Some(&subset))?;
+        progress("lens", 0.0);
+        let lens = lens_values(table, &pts, &sample_s)?;
+        progress("cover", 0.0);
+        let cov = make_cover(&lens, &sample_s);
+        let clustered = cluster_elements(&pts, &cov, &sample_s.clustering, sample_s.min_cluster_share, progress);
+        let mut b = assemble(table, &pts, &lens, &cov, &clustered, &sample_s, progress);
+        b.summary.first_look = Some(of);
+        let summary = b.summary.clone();
+        self.last = Some(b);
+        Ok(Some(summary))
     }
 
     /// Every stage up to the clusters, each re-used when its part of the settings is unchanged.
@@ -573,7 +626,7 @@ impl Workbench {
         s.validate()?;
         self.sync_derived(s)?;
         if let Some(b) = &self.last {
-            if graph_key(&b.settings) == graph_key(s) {
+            if graph_key(&b.settings) == graph_key(s) && b.summary.first_look.is_none() {
                 return Ok(0);
             }
         }
@@ -1288,6 +1341,7 @@ fn assemble(table: &Table, pts: &Points, lens: &Lenses, cov: &Cover, c: &Cluster
         left_out_by_column: pts.left_out_by_column.clone(),
         filled_by_column: pts.filled_by_column.clone(),
         warnings: settings_warnings(s, pts.rows.len()),
+        first_look: None,
     };
     Build { settings: s.clone(), summary, nerve, layout, node_lens, lens_range: (cov.lo, cov.hi), intervals: cov.intervals.clone(), second }
 }

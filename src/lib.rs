@@ -29,6 +29,7 @@ pub mod graph;
 pub mod layout;
 pub mod auto;
 pub mod engine;
+pub mod first_look;
 pub mod shape;
 pub mod export;
 pub mod graphfile;

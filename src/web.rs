@@ -350,6 +350,20 @@ impl Engine {
         to_js(&Opened { table: f.table.as_ref(), settings: &f.settings, summary: &f.summary, rows_known: f.has_rows(), version: f.version })
     }
 
+    /// The first look at a large table (see `first_look.rs`): builds the graph of a seeded
+    /// sample and makes it the graph shown; returns its summary (with `firstLook: {sampled,
+    /// of}`), or null when the table is too small to need one.
+    pub fn first_look(&mut self, settings: JsValue, progress: &Function) -> Result<JsValue, JsValue> {
+        let settings = settings_from_js(&settings)?;
+        let mut report = |stage: &str, fraction: f64| {
+            let _ = progress.call2(&JsValue::NULL, &JsValue::from_str(stage), &JsValue::from_f64(fraction));
+        };
+        match self.bench.first_look(&settings, &mut report).map_err(fail)? {
+            Some(summary) => to_js(&summary),
+            None => Ok(JsValue::NULL),
+        }
+    }
+
     /// Builds the graph; `progress(stage, fraction)` is called as stages advance.
     /// Returns the summary.
     pub fn run(&mut self, settings: JsValue, progress: &Function) -> Result<JsValue, JsValue> {

@@ -46,6 +46,8 @@ const state = {
   membersPromise: null,
   inspectSeq: 0,
   progress: null,          // {label, fraction}
+  firstLook: null,         // the graph shown is a first look: {sampled, of, cancelled}
+  wantFirstLook: false,    // the next build is a new table's first: try a first look
   message: null,           // the last error, as the engine worded it
   timing: { start: 0, tableRead: 0, firstDraw: 0, pendingFirstDraw: false },
   builds: 0,               // graphs built since the page opened
@@ -245,6 +247,9 @@ async function loadTable(source, ask) {
   rowsTableChanged();
   renderAll();
   shapePanel.tableChanged();
+  // A large table is drawn first from a sample (the engine decides when: first_look.rs).
+  state.firstLook = null;
+  state.wantFirstLook = true;
   await buildNow();
   return state.table;
 }
@@ -302,6 +307,10 @@ async function build(seq, nodeLimit) {
   renderMessage();
   renderChrome();
   let out;
+  if (state.wantFirstLook) {
+    state.wantFirstLook = false;
+    await showFirstLook(seq, settings);
+  }
   const asked = performance.now();
   try {
     out = await engine.request("run", { settings, nodeLimit, colour: state.colour.column ? colourRequest() : null }, progressHandler(true));
@@ -312,7 +321,8 @@ async function build(seq, nodeLimit) {
       if (state.builtSettings) state.settings = JSON.parse(JSON.stringify(state.builtSettings));
       state.phase = "ready";
       state.progress = null;
-      state.message = e.message;
+      if (state.firstLook) state.firstLook.cancelled = true;
+      state.message = state.firstLook ? null : e.message;
       renderAll();
       throw e;
     }
@@ -322,6 +332,7 @@ async function build(seq, nodeLimit) {
   if (seq !== buildSeq) return latestBuild;  // a newer build was asked for meanwhile
   if (out.confirm) return handleBigGraph(out.confirm);
   state.builtSettings = settings;
+  state.firstLook = null;
   state.phase = "ready";
   state.progress = null;
   state.builds++;
@@ -341,6 +352,42 @@ async function build(seq, nodeLimit) {
   // Where the time of this build went (window.nervure.timings().lastBuild).
   state.lastBuild = Object.assign({}, out.times || {}, { requestMs: shown - asked, afterMs: performance.now() - shown });
   return out.summary;
+}
+
+/** The first look at a large table: the graph of a seeded sample, drawn while the full
+ *  graph is built (the engine makes it, or answers null for a table that needs none). It
+ *  stays until the full graph replaces it, and after a Cancel. Its failure is not the
+ *  build's: the full graph follows anyway. */
+async function showFirstLook(seq, settings) {
+  let out;
+  try {
+    out = await engine.request("firstLook", { settings, colour: state.colour.column ? colourRequest() : null }, progressHandler(true));
+  } catch (e) {
+    return;
+  }
+  if (!out || seq !== buildSeq) return;
+  state.firstLook = { sampled: out.summary.firstLook.sampled, of: out.summary.firstLook.of, cancelled: false };
+  state.builtSettings = settings;
+  state.summary = out.summary;
+  state.help = null;
+  state.graph = out.graph;
+  state.stale = false;
+  resetSelection();
+  state.selected = null;
+  applyColour(out.colour);
+  state.progress = { label: "Building the full graph", fraction: 0 };
+  renderAll();
+  view.setGraph(out.graph, false);
+  applyHiding();
+}
+
+function renderFirstLook() {
+  const note = byId("first-look-note");
+  const f = state.firstLook;
+  note.hidden = !f;
+  if (!f) return;
+  note.textContent = "A first look at " + formatCount(f.sampled) + " of " + formatCount(f.of) + " rows (a seeded sample; the clustering's minimum points scaled to the sample's share, its radius unchanged). "
+    + (f.cancelled ? "The full graph was cancelled: this is still the sample's graph. Change a setting (or press R) to build the full graph." : "The full graph follows.");
 }
 
 /** What follows every build: derived columns into the column list, settings kept
@@ -565,6 +612,7 @@ function renderAll() {
   renderProgress();
   renderMessage();
   renderScaleHelp();
+  renderFirstLook();
   renderDetail();
   renderDerived();
   renderRows();
@@ -903,7 +951,10 @@ const view = new GraphView(byId("graph-canvas"), {
   onDraw: function (count, complete) {
     // A big graph is drawn in slices over a few frames: the first graph counts as drawn
     // with its last slice.
-    if (state.timing.pendingFirstDraw && state.graph && complete) {
+    // A first look counts apart: the first graph is the full one.
+    if (state.timing.pendingFirstDraw && state.graph && complete && state.firstLook && !state.timing.firstLookDraw) {
+      state.timing.firstLookDraw = performance.now();
+    } else if (state.timing.pendingFirstDraw && state.graph && complete && !state.firstLook) {
       state.timing.pendingFirstDraw = false;
       state.timing.firstDraw = performance.now();
     }
@@ -1054,6 +1105,8 @@ window.nervure = Object.freeze({
     const t = state.timing;
     return {
       tableReadMs: t.tableRead ? t.tableRead - t.start : null, firstGraphMs: t.firstDraw ? t.firstDraw - t.start : null,
+      // The first look's graph drawn (null when the table needed none).
+      firstLookMs: t.firstLookDraw ? t.firstLookDraw - t.start : null,
       // The last build's parts: the worker's (prepareMs, poolMs, buildMs, graphAndColourMs),
       // the round trip with the page's first rendering (requestMs), what follows (afterMs),
       // the last drawing of the graph (drawMs: one frame) and the last layer drawn whole

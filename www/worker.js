@@ -7,6 +7,8 @@
  * Messages in:  {id, type: "load", file | text, name}
  *               {id, type: "load", files: [File], add}      several files (added to the list when add)
  *               {id, type: "files", op: "remove" | "sheet" | "plan" | "columns", name, sheet, plan, names}
+ *               {id, type: "firstLook", settings, colour}   a first look at a large table (a
+ *                                                          graph of a sample; null when not needed)
  *               {id, type: "run", settings, colour: {column, stat} | null}
  *               {id, type: "colour", column, stat}
  *               {id, type: "detail", node}
@@ -144,6 +146,8 @@ const pool = {
 
 /** Settings of the last graph this worker built and returned (the graph the page shows). */
 let shownSettings = null;
+/** Whether the graph shown is a first look (the engine's graph, not yet the full one). */
+let shownIsFirstLook = false;
 
 function startHelpers() {
   if (pool.workers && pool.workers.length === pool.helpers) return pool.workers;
@@ -272,6 +276,15 @@ function graphMessage(engine) {
   return { value: g || null, transfer: graphTransfer(g) };
 }
 
+/** The node colours asked for with a graph ({column, stat, lens} or null), their buffer
+ *  added to `transfer`. */
+function colourMessage(engine, asked, transfer) {
+  if (!asked || !asked.column) return null;
+  const values = asked.lens ? engine.node_lens_values(0) : engine.node_values(asked.column, asked.stat || "mean");
+  transfer.push(values.buffer);
+  return { column: asked.column, values };
+}
+
 /** The table just made, its first settings and the file list. */
 function tableMessage(engine) {
   const settings = engine.auto_settings();
@@ -288,6 +301,7 @@ async function handle(engine, msg) {
     case "load": {
       readOptions = msg.options || null;
       shownSettings = null;
+      shownIsFirstLook = false;
       if (msg.files) {
         if (!msg.add) engine.clear_files();
         msg.files.forEach(function (file, i) {
@@ -307,12 +321,21 @@ async function handle(engine, msg) {
     case "files": {
       if (msg.op === "columns") return { value: engine.file_columns(msg.names || []) };
       shownSettings = null;
+      shownIsFirstLook = false;
       if (msg.op === "remove") engine.remove_file(msg.name);
       else if (msg.op === "sheet") engine.choose_sheet(msg.name, msg.sheet);
       else if (msg.op === "plan") engine.set_plan(msg.plan === undefined ? null : msg.plan);
       else throw new Error("internal: unknown file operation '" + msg.op + "'");
       engine.assemble();
       return { value: tableMessage(engine) };
+    }
+    case "firstLook": {
+      const summary = engine.first_look(msg.settings, progress);
+      if (!summary) return { value: null };
+      shownIsFirstLook = true;
+      const graph = graphMessage(engine);
+      const colour = colourMessage(engine, msg.colour, graph.transfer);
+      return { value: { summary, graph: graph.value, colour }, transfer: graph.transfer };
     }
     case "run": {
       // A newer run is already waiting: skip this one, its settings are out of date.
@@ -329,18 +352,16 @@ async function handle(engine, msg) {
         self.postMessage({ id, type: "error", fatal: false, cancelled: true, message: "Build cancelled; the graph shown is the previous one, with its settings." });
         // The engine's stages went ahead to the cancelled settings: take those of the graph
         // shown again (a rebuild from cached stages; only the cover, for a new overlap).
-        if (shownSettings) await runBuild(engine, shownSettings, function () {}, {}, 0);
+        // A first look shown stays as it is: the engine still holds it as its graph.
+        if (shownSettings && !shownIsFirstLook) await runBuild(engine, shownSettings, function () {}, {}, 0);
         return { silent: true };
       }
       if (summary && summary.confirmNodes !== undefined) return { value: { confirm: summary } };
       shownSettings = msg.settings;
+      shownIsFirstLook = false;
       const t0 = performance.now();
       const graph = graphMessage(engine);
-      let colour = null;
-      if (msg.colour && msg.colour.column) {
-        colour = { column: msg.colour.column, values: msg.colour.lens ? engine.node_lens_values(0) : engine.node_values(msg.colour.column, msg.colour.stat || "mean") };
-        graph.transfer.push(colour.values.buffer);
-      }
+      const colour = colourMessage(engine, msg.colour, graph.transfer);
       times.graphAndColourMs = performance.now() - t0;
       const help = engine.scale_help();
       return { value: { summary, graph: graph.value, colour, times, help }, transfer: graph.transfer };

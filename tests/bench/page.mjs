@@ -11,8 +11,10 @@
 // the page's own start ("page start"), not part of the time to the first graph.
 // Last, in a fresh browser, the same file dropped on the page with no settings in its
 // address: the time to the first graph with the automatic settings. Prints one JSON line.
+// With `auto` for SETTINGS.json, only that last part (the growth part of tests/bench.sh).
+// Both give the time to the first look (firstLookMs, null for a table that needs none).
 //
-//   node tests/bench/page.mjs DATA.csv SETTINGS.json
+//   node tests/bench/page.mjs DATA.csv SETTINGS.json|auto
 
 import { readFileSync, readdirSync, mkdtempSync, rmSync } from "node:fs";
 import { tmpdir } from "node:os";
@@ -24,7 +26,8 @@ const here = dirname(fileURLToPath(import.meta.url));
 // NERVURE_PAGE: another build of the page, to compare two builds side by side.
 const pageUrl = pathToFileURL(process.env.NERVURE_PAGE || join(here, "..", "..", "dist", "nervure.html")).href;
 const [data, settingsPath] = process.argv.slice(2);
-const settings = JSON.parse(readFileSync(settingsPath, "utf8"));
+const autoOnly = settingsPath === "auto";
+const settings = autoOnly ? null : JSON.parse(readFileSync(settingsPath, "utf8"));
 const FLAGS = ["--no-sandbox", "--disable-gpu", "--disable-background-networking", "--disable-component-update", "--disable-sync", "--no-first-run", "--disable-quic"];
 
 /** Summed resident memory (bytes) of the renderer processes of the browser started with
@@ -102,6 +105,22 @@ async function loadToFirstGraph({ page, peak }) {
   await page.waitForFunction(() => window.nervure.timings().lastBuild !== null, null, { timeout: 60000, polling: 50 });
   const timings = await page.evaluate(() => window.nervure.timings());
   return { wallMs, timings, peak: peakBytes };
+}
+
+/** The file on a page with no settings in its address: the automatic settings. */
+async function autoRun() {
+  const second = await openPage("");
+  try {
+    const a = await loadToFirstGraph(second);
+    return { wallMs: a.wallMs, readMs: a.timings.tableReadMs, firstLookMs: a.timings.firstLookMs, firstGraphMs: a.timings.firstGraphMs, build: a.timings.lastBuild, peakRendererBytes: a.peak, summary: await second.page.evaluate(() => window.nervure.summary()) };
+  } finally {
+    await second.close();
+  }
+}
+
+if (autoOnly) {
+  console.log(JSON.stringify({ auto: await autoRun() }));
+  process.exit(0);
 }
 
 const first = await openPage(settingsHash);
@@ -186,18 +205,11 @@ try {
   await first.close();
   // The same file on a page with no settings in its address: the automatic settings.
   let auto = null;
-  if (process.env.NERVURE_BENCH_AUTO !== "0") {
-    const second = await openPage("");
-    try {
-      const a = await loadToFirstGraph(second);
-      auto = { wallMs: a.wallMs, readMs: a.timings.tableReadMs, firstGraphMs: a.timings.firstGraphMs, build: a.timings.lastBuild, peakRendererBytes: a.peak, summary: await second.page.evaluate(() => window.nervure.summary()) };
-    } finally {
-      await second.close();
-    }
-  }
+  if (process.env.NERVURE_BENCH_AUTO !== "0") auto = await autoRun();
   console.log(JSON.stringify({
     readMs: load.timings.tableReadMs,
     firstGraphMs: load.timings.firstGraphMs,
+    firstLookMs: load.timings.firstLookMs,
     fileToFirstGraphMs: load.wallMs,
     firstBuild,
     recolourMs: colourMs,

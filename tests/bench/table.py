@@ -73,11 +73,14 @@ if page and not page.get("skipped") and not page.get("failed"):
           f"longest from the file input to the first graph {page.get('longestLoadTaskMs', 0):.0f} ms, longest while the page opened {page.get('longestStartTaskMs', 0):.0f} ms"
           + (f"; where: {', '.join(page['tasksOver100msWhere'])}" if page.get("tasksOver100msWhere") else "") + ")"
           + (f"; tab peak by the first graph {page['peakLoadRendererBytes'] / 1e6:.0f} MB" if page.get("peakLoadRendererBytes") else ""))
+    if page.get("firstLookMs") and page.get("readMs"):
+        print(f"page: a first look (a sample's graph) drawn {page['firstLookMs'] - page['readMs']:.0f} ms after the read, before that first graph")
     auto = page.get("auto")
     if auto:
         b = auto.get("build") or {}
         sm = auto.get("summary") or {}
-        print(f"page, automatic settings (no settings in the address): file input to the first graph {auto['wallMs']} ms (reading {auto['readMs']:.0f} ms, "
+        look = f"; a first look {auto['firstLookMs'] - auto['readMs']:.0f} ms after the read" if auto.get("firstLookMs") else ""
+        print(f"page, automatic settings (no settings in the address): file input to the first graph {auto['wallMs']} ms (reading {auto['readMs']:.0f} ms{look}, "
               f"clustering on the pool {b.get('poolMs', 0):.0f} ms); {sm.get('nodes')} nodes; tab peak {auto['peakRendererBytes'] / 1e6:.0f} MB")
 if rerun:
     print(f"engine: overlap change to {rerun.get('overlap')} on the cached stages {rerun.get('total', 0) * 1000:.0f} ms (cover {rerun.get('cover', 0) * 1000:.0f}, "

@@ -14,23 +14,16 @@
 
 import { test, beforeEach } from "node:test";
 import assert from "node:assert/strict";
-import { existsSync, mkdirSync } from "node:fs";
+import { mkdirSync } from "node:fs";
 import { join } from "node:path";
-import { usePage, outDir, cliSummary } from "./harness.mjs";
+import { usePage, outDir, cliSummary, openTableFile } from "./harness.mjs";
 
+const { path: flightsPath, skip: noFlights } = openTableFile("flights");
+const shots = process.env.NERVURE_SHOTS || outDir;
+mkdirSync(shots, { recursive: true });
 const ctx = usePage({ viewport: { width: 1600, height: 900 } });
 let page;
 beforeEach(() => { page = ctx.page; });
-
-const shots = process.env.NERVURE_SHOTS || outDir;
-mkdirSync(shots, { recursive: true });
-
-const dataDir = process.env.NERVURE_DATA || null;
-const flightsPath = dataDir ? join(dataDir, "flights.csv") : null;
-const noFlights = !flightsPath || !existsSync(flightsPath)
-  ? "skipped: NERVURE_DATA is not set or holds no flights.csv (tests/run.sh writes it)"
-  : false;
-if (noFlights) console.log(noFlights);
 
 const digits = (text) => text.replace(/[\u2009\u202f\u00a0,]/g, "");
 

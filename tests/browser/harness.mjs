@@ -109,6 +109,17 @@ export function uncoveredNode(layout, preferLargest = false) {
   return { target, pos, uncovered };
 }
 
+/** The path of the open table `name` in $NERVURE_DATA (tests/data/open_tables.py writes
+ *  them; tests/run.sh sets it), and the reason to skip (false when it is there): pass it as
+ *  a test's `skip` option. */
+export function openTableFile(name) {
+  const dir = process.env.NERVURE_DATA || null;
+  const path = dir ? join(dir, name + ".csv") : null;
+  const skip = !path || !existsSync(path) ? `skipped: NERVURE_DATA is not set or holds no ${name}.csv (tests/run.sh writes it)` : false;
+  if (skip) console.log(skip);
+  return { path, skip };
+}
+
 /** Runs the command-line runner (NERVURE_CLI, or `cargo run --release`) with `args`;
  * fails the test when it fails. */
 export function runCli(args) {

@@ -32,6 +32,7 @@ pub mod engine;
 pub mod shape;
 pub mod export;
 pub mod graphfile;
+pub mod parts;
 pub mod results;
 pub mod explain;
 pub mod rng;

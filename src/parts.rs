@@ -219,7 +219,7 @@ pub struct Gathered {
 /// engine makes them from the same nodes ([`crate::engine::build`], then
 /// [`GraphFile::of_build`]).
 pub fn graph_file(s: &Settings, g: Gathered) -> Result<GraphFile> {
-    let (left_out_by_column, filled_by_column) = g.counts.finish(None)?;
+    let (left_out_by_column, filled_by_column) = check_counts(s, &g.table.name, &g.counts)?;
     let min_shared = s.edges.min_shared;
     let n = g.nodes.len() as u32;
     if let Some(bad) = g.pairs.iter().find(|p| p.0 == p.1 || p.0 >= n || p.1 >= n) {
@@ -245,8 +245,8 @@ pub fn graph_file(s: &Settings, g: Gathered) -> Result<GraphFile> {
     let summary = Summary {
         rows: kept,
         rows_left_out: g.counts.rows - kept,
-        rows_not_kept: 0,
-        rows_not_kept_missing: 0,
+        rows_not_kept: g.counts.condition.map_or(0, |c| c.not_kept),
+        rows_not_kept_missing: g.counts.condition.map_or(0, |c| c.undecided),
         nodes: nerve.nodes.len(),
         edges: nerve.edges.len(),
         components,
@@ -295,11 +295,31 @@ pub fn graph_file(s: &Settings, g: Gathered) -> Result<GraphFile> {
 
 /// The table description of a graph file: the columns of `table` (one part, with the
 /// settings' derived columns), under `name`, with `rows` rows in all.
-pub fn table_info(table: &Table, name: &str, rows: usize) -> TableInfo {
+/// `ranges` gives each time column's least and greatest instant over the whole table
+/// ([`time_ranges`] of every part, joined): the file states them.
+pub fn table_info(table: &Table, name: &str, rows: usize, ranges: &std::collections::HashMap<String, (f64, f64)>) -> TableInfo {
     let mut t = GraphFile::of_table(table);
     t.name = name.to_string();
     t.rows = rows;
+    for (info, c) in t.columns.iter_mut().zip(&table.columns) {
+        if let (Some(times), Some(&(lo, hi))) = (c.as_times(), ranges.get(&c.name)) {
+            info.time = Some(crate::table::TimeSummary::new(times, lo.is_finite().then_some(lo), hi.is_finite().then_some(hi)));
+        }
+    }
     t
+}
+
+/// Each time column's least and greatest instant in this part (infinite when it has none).
+pub fn time_ranges(table: &Table) -> std::collections::HashMap<String, (f64, f64)> {
+    table
+        .columns
+        .iter()
+        .filter_map(|c| c.as_times().map(|t| (c, t)))
+        .map(|(c, t)| {
+            let range = t.seconds.iter().filter(|x| !x.is_nan()).fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), &x| (lo.min(x), hi.max(x)));
+            (c.name.clone(), range)
+        })
+        .collect()
 }
 
 /// One part of the table with the settings' derived columns appended.
@@ -310,10 +330,78 @@ pub fn with_derived(table: &Table, s: &Settings) -> Result<Table> {
     Ok(crate::derive::with_derived(table, &s.derived, &s.missing.fill_values)?.0)
 }
 
-/// The cells of `column` that have a value under the settings' missing-value rule (for
-/// the medians of the median policy).
+/// How [`read_cells`] reads one part of a text column.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum CellsMode {
+    /// As the reader reads a whole file: numbers until a text turns up.
+    Auto,
+    /// A part before the one holding the column's first text: its numbers become their
+    /// texts, as the reader turns earlier numbers into texts.
+    NumbersAsText,
+    /// A part after it: every cell is kept as text.
+    Text,
+}
+
+/// One part of a column read from its cells' text as the engine's reader reads a column
+/// (the default missing markers, numbers, texts), so a table read in parts by another
+/// reader (the cells of a CSV file as text) gets the engine's column types and values.
+/// A column of text is returned as a category column: whether it is a time column is
+/// decided from the levels of the whole column ([`crate::table::Column::from_text`]).
+/// `first_row` is the table row of the part's first cell.
+pub fn read_cells<'a>(name: &str, cells: impl IntoIterator<Item = &'a str>, first_row: usize, mode: CellsMode) -> Result<crate::table::Column> {
+    use crate::table::cells::{ColumnBuilder, MissingTokens};
+    let missing = MissingTokens::new(&crate::table::ReadOptions::default().missing_tokens);
+    let mut b = ColumnBuilder::new(name.to_string());
+    if mode == CellsMode::Text {
+        b = b.as_text();
+    }
+    for (i, cell) in cells.into_iter().enumerate() {
+        b.push(cell.as_bytes(), first_row + i + 1, &missing).map_err(|_| Error::Input(format!("column '{name}', data row {}: the cell is not UTF-8 text", first_row + i + 1)))?;
+    }
+    if mode == CellsMode::NumbersAsText {
+        b = b.as_text();
+    }
+    // Typed as time or text later, from the whole column's levels (the cluster run hands
+    // them to `Column::from_text` with each part's codes).
+    Ok(b.finish_typed(false))
+}
+
+/// The cells of `column` that have a value under the settings' missing-value rule, in
+/// the rows the row condition keeps (for the medians of the median policy).
 pub fn present(table: &Table, column: &str, s: &Settings) -> Result<Vec<f64>> {
     let raw = table.numbers(column, "missing.perColumn")?;
     let fills = s.missing.fills_for(column);
-    Ok(raw.iter().copied().filter(|&x| !crate::points::is_missing(x, fills)).collect())
+    let keep = crate::subset::flags(table, s)?.map(|f| f.0);
+    Ok(raw
+        .iter()
+        .enumerate()
+        .filter(|&(r, &x)| keep.as_ref().is_none_or(|k| k[r]) && !crate::points::is_missing(x, fills))
+        .map(|(_, &x)| x)
+        .collect())
+}
+
+/// The rows of one part (with the settings' derived columns) that take part, as
+/// [`crate::points::choose_rows`] chooses them among the rows the row condition keeps
+/// (the verdict of a row reads that row alone), with what the condition set aside
+/// counted so that the parts' counts add up to the whole table's
+/// ([`RowCounts::add`], then [`check_counts`]).
+pub fn choose(table: &Table, s: &Settings, first_row: u32, medians: &[(String, Option<f64>)]) -> Result<crate::points::Chosen> {
+    let flags = crate::subset::flags(table, s)?;
+    let mut c = crate::points::choose_rows(table, s, first_row, Some(medians), flags.as_ref().map(|f| &f.0[..]))?;
+    c.counts.condition = flags.map(|(keep, undecided)| crate::points::ConditionCounts {
+        not_kept: keep.iter().filter(|&&k| !k).count(),
+        undecided,
+        first_kept: keep.iter().position(|&k| k).map(|r| r + first_row as usize),
+    });
+    Ok(c)
+}
+
+/// The whole table's counts checked as the engine checks them: the row condition keeps
+/// at least two rows of the table named `name`, a chosen column has a value somewhere,
+/// some row takes part. Returns the rows left out and filled per column.
+pub fn check_counts(s: &Settings, name: &str, counts: &RowCounts) -> Result<(Vec<(String, usize)>, Vec<(String, usize)>)> {
+    if let Some(c) = &counts.condition {
+        crate::subset::check_kept(s, name, counts.rows + c.not_kept, counts.rows, c.undecided, c.first_kept)?;
+    }
+    counts.finish_words(s.keep_rows.as_deref().map(|t| (t, counts.rows)))
 }

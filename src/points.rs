@@ -159,6 +159,18 @@ pub struct RowCounts {
     pub missing: Vec<(String, usize)>,
     /// For each column under the median policy, the rows taking part that took its median.
     pub filled: Vec<(String, usize)>,
+    /// Under a row condition: the rows it did not keep, those of them where it could not
+    /// be decided, and the first row it kept (0-based table row).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub condition: Option<ConditionCounts>,
+}
+
+/// What a row condition set aside in one part (see [`RowCounts::condition`]).
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize, serde::Deserialize)]
+pub struct ConditionCounts {
+    pub not_kept: usize,
+    pub undecided: usize,
+    pub first_kept: Option<usize>,
 }
 
 impl RowCounts {
@@ -167,6 +179,17 @@ impl RowCounts {
         let same = |a: &[(String, usize)], b: &[(String, usize)]| a.len() == b.len() && a.iter().zip(b).all(|(x, y)| x.0 == y.0);
         if !same(&self.missing, &other.missing) || !same(&self.filled, &other.filled) {
             return Err(Error::Data("internal: the parts of the table were counted under different missing-value rules".into()));
+        }
+        if self.condition.is_some() != other.condition.is_some() {
+            return Err(Error::Data("internal: the parts of the table were counted under different row conditions".into()));
+        }
+        if let (Some(a), Some(b)) = (&mut self.condition, &other.condition) {
+            a.not_kept += b.not_kept;
+            a.undecided += b.undecided;
+            a.first_kept = match (a.first_kept, b.first_kept) {
+                (Some(x), Some(y)) => Some(x.min(y)),
+                (x, y) => x.or(y),
+            };
         }
         self.rows += other.rows;
         self.kept += other.kept;
@@ -180,8 +203,14 @@ impl RowCounts {
     /// `subset` is the row condition's answer the rows were chosen among (its words go
     /// into the errors).
     pub fn finish(&self, subset: Option<&RowSubset>) -> Result<(Vec<(String, usize)>, Vec<(String, usize)>)> {
+        self.finish_words(subset.map(|r| (r.condition.as_str(), r.kept)))
+    }
+
+    /// [`RowCounts::finish`] with the condition's text and the rows it kept given apart (a
+    /// run in parts has no [`RowSubset`] of the whole table).
+    pub fn finish_words(&self, subset: Option<(&str, usize)>) -> Result<(Vec<(String, usize)>, Vec<(String, usize)>)> {
         let n = self.rows;
-        let kept_words = |r: &RowSubset| format!(" of the {} rows kept by the condition {}", r.kept, r.condition);
+        let kept_words = |r: (&str, usize)| format!(" of the {} rows kept by the condition {}", r.1, r.0);
         if let Some((c, _)) = self.missing.iter().find(|(_, k)| *k == n && n > 0) {
             let place = subset.map_or_else(|| " in any row".to_string(), |r| format!(" in any{}", kept_words(r)));
             return Err(Error::Data(format!(
@@ -277,7 +306,8 @@ pub fn choose_rows(table: &Table, s: &Settings, first_row: u32, medians: Option<
         .zip(&lens_cols)
         .map(|(name, col)| (name.clone(), local.iter().map(|&r| col.get(r as usize).expect("kept rows have a filter value")).collect()))
         .collect();
-    let counts = RowCounts { rows: looked_at, kept: local.len(), missing, filled };
+    // What the condition set aside is counted by its caller ([`crate::parts::choose`]).
+    let counts = RowCounts { rows: looked_at, kept: local.len(), missing, filled, condition: None };
     Ok(Chosen { rows: local.into_iter().map(|r| first_row + r).collect(), raw, lens_columns, counts })
 }
 

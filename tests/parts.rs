@@ -70,7 +70,7 @@ fn stack(pieces: &[Table]) -> Table {
 /// column (synthetic, known topology: one loop).
 fn table(n: usize, seed: u64) -> Table {
     let mut r = SplitMix64::new(seed);
-    let (mut x, mut y, mut z, mut w, mut side) = (vec![], vec![], vec![], vec![], vec![]);
+    let (mut x, mut y, mut z, mut w, mut side, mut at) = (vec![], vec![], vec![], vec![], vec![], vec![]);
     for i in 0..n {
         let t = i as f64 / n as f64 * std::f64::consts::TAU;
         x.push(if i % 97 == 5 { f64::NAN } else { 10.0 * t.cos() + 0.3 * r.normal() });
@@ -78,6 +78,8 @@ fn table(n: usize, seed: u64) -> Table {
         z.push(0.5 * r.normal() + 100.0);
         w.push(if i % 13 == 0 { f64::NAN } else { r.normal() * 3.0 });
         side.push(if i % 31 == 0 { u32::MAX } else { (i * 3 / n) as u32 });
+        // A reading every 10 minutes from 2024-07-15 06:00 UTC, some missing.
+        at.push(if i % 43 == 3 { f64::NAN } else { 1_721_023_200.0 + 600.0 * i as f64 });
     }
     Table::from_columns(
         "ring.csv",
@@ -87,6 +89,7 @@ fn table(n: usize, seed: u64) -> Table {
             Column::number("z", z),
             Column::number("w", w),
             Column::category("side", side, vec!["east".into(), "north".into(), "west".into()]),
+            Column::time("at", at, nervure::timecol::Zone::Offset(7200)),
         ],
     )
     .unwrap()
@@ -126,12 +129,12 @@ fn run_in_parts(t: &Table, s: &Settings, cuts: &[usize]) -> nervure::Result<Grap
         }
         medians.push((c, nervure::missing::median_in_place(&mut all)));
     }
-    let chosen: Vec<points::Chosen> = tables.iter().map(|(first, p)| points::choose_rows(p, s, *first, Some(&medians), None)).collect::<nervure::Result<_>>()?;
+    let chosen: Vec<points::Chosen> = tables.iter().map(|(first, p)| parts::choose(p, s, *first, &medians)).collect::<nervure::Result<_>>()?;
     let mut counts: RowCounts = chosen[0].counts.clone();
     for c in &chosen[1..] {
         counts.add(&c.counts)?;
     }
-    counts.finish(None)?;
+    parts::check_counts(s, &t.name, &counts)?;
     let columns = s.columns.clone();
     let d = columns.len();
     let raws: Vec<Vec<f64>> = chosen.iter().map(|c| c.raw.clone()).collect();
@@ -279,7 +282,16 @@ fn run_in_parts(t: &Table, s: &Settings, cuts: &[usize]) -> nervure::Result<Grap
         }
     }
     let gathered = parts::Gathered {
-        table: parts::table_info(&tables[0].1, &t.name, t.n_rows),
+        table: parts::table_info(&tables[0].1, &t.name, t.n_rows, &{
+            let mut ranges: std::collections::HashMap<String, (f64, f64)> = Default::default();
+            for (_, p) in &tables {
+                for (c, (lo, hi)) in parts::time_ranges(p) {
+                    let e = ranges.entry(c).or_insert((f64::INFINITY, f64::NEG_INFINITY));
+                    *e = (e.0.min(lo), e.1.max(hi));
+                }
+            }
+            ranges
+        }),
         counts,
         axis,
         axis2,
@@ -406,4 +418,69 @@ fn the_engine_messages_name_the_same_rows() {
     assert_eq!(run_in_parts(&c, &s, &[100, 200]).unwrap_err().to_string(), whole(&c, &s).unwrap_err().to_string());
     s.denoise = Some(Denoise { measure: DenoiseMeasure::NeighbourDistance, k: 3, quantile: 0.9 });
     assert!(run_in_parts(&t, &s, &[]).unwrap_err().to_string().contains("denoise"));
+}
+
+/// A row condition (on a time column, a text column and a number) keeps the same rows
+/// in parts, its medians and counts among the kept rows; a time column is chosen as a
+/// number (its instants) and its statistics and first and last instant are the engine's.
+#[test]
+fn row_condition_and_a_time_column() {
+    let t = table(1500, 9);
+    let mut s = settings(Lens::Principal { component: 1 });
+    s.columns = vec!["x".into(), "y".into(), "at".into()];
+    s.missing.per_column.insert("x".into(), ColumnMissing { fill_values: None, policy: MissingPolicy::Median });
+    s.keep_rows = Some("side != 'north' and w > -5".into());
+    same(&t, &s);
+    // A condition that keeps no row is refused with the engine's words.
+    s.keep_rows = Some("z > 1000".into());
+    let none = whole(&t, &s).unwrap_err().to_string();
+    assert!(none.contains("no row of ring.csv"), "{none}");
+    assert_eq!(run_in_parts(&t, &s, &[500, 1000]).unwrap_err().to_string(), none);
+}
+
+/// A column read in parts from its cells' text gets the engine reader's type, values and
+/// levels, wherever its first text stands (numbers before it become texts as the reader
+/// writes them; after it, texts are kept as written).
+#[test]
+fn cells_read_in_parts_as_the_reader_reads_the_file() {
+    use nervure::parts::{read_cells, CellsMode};
+    let cells = ["1.50", "", "2", "NA", " 3 ", "x7", "1.50", "4", "NaN", "x7", "2"];
+    let csv = std::iter::once("i,v".to_string()).chain(cells.iter().enumerate().map(|(i, c)| format!("{i},{c}"))).collect::<Vec<_>>().join("\n") + "\n";
+    let whole = Table::from_csv_bytes("t.csv", csv.as_bytes(), &Default::default()).unwrap();
+    let want = &whole.columns[1];
+    let first_text = 5;
+    for cut in [1, 3, 5, 6, 9] {
+        let mut parts = Vec::new();
+        for (lo, hi) in [(0, cut), (cut, cells.len())] {
+            let mode = if hi <= first_text { CellsMode::NumbersAsText } else if lo > first_text { CellsMode::Text } else { CellsMode::Auto };
+            parts.push(read_cells("v", cells[lo..hi].iter().copied(), lo, mode).unwrap());
+        }
+        // Levels joined in order of first appearance, codes mapped onto them.
+        let mut levels: Vec<String> = Vec::new();
+        let mut codes = Vec::new();
+        for p in &parts {
+            let ColumnData::Category { codes: c, levels: l } = &p.data else { panic!("a text column in every part") };
+            let map: Vec<u32> = l
+                .iter()
+                .map(|t| match levels.iter().position(|x| x == t) {
+                    Some(k) => k as u32,
+                    None => {
+                        levels.push(t.clone());
+                        levels.len() as u32 - 1
+                    }
+                })
+                .collect();
+            codes.extend(c.iter().map(|&k| if k == u32::MAX { k } else { map[k as usize] }));
+        }
+        let ColumnData::Category { codes: wc, levels: wl } = &want.data else { panic!("the reader makes it text") };
+        assert_eq!((&codes, &levels), (&wc.to_vec(), wl), "cut at {cut}");
+        let holder = &parts[if cut > first_text { 0 } else { 1 }];
+        assert_eq!(holder.first_text, want.first_text, "the part holding the first text names it as the reader does");
+    }
+    // A column of numbers only reads as numbers in every part, missing markers as NaN.
+    let nums = ["1", "", "2.5", "NA", "-3e2"];
+    let a = read_cells("n", nums[..2].iter().copied(), 0, CellsMode::Auto).unwrap();
+    let b = read_cells("n", nums[2..].iter().copied(), 2, CellsMode::Auto).unwrap();
+    let got: Vec<f64> = a.as_numbers().unwrap().iter().chain(b.as_numbers().unwrap()).copied().collect();
+    assert_eq!(format!("{got:?}"), format!("{:?}", [1.0, f64::NAN, 2.5, f64::NAN, -300.0]));
 }

@@ -34,6 +34,8 @@
 //! Not here: denoising (it needs every point's neighbours among all points before the
 //! filter), reading files, moving data.
 
+use std::collections::HashMap;
+
 use crate::cluster;
 use crate::cover::{self, Axis};
 use crate::engine::{finite_lens, groups_from_labels, mean_in_order, settings_warnings, Summary};
@@ -295,31 +297,64 @@ pub fn graph_file(s: &Settings, g: Gathered) -> Result<GraphFile> {
 
 /// The table description of a graph file: the columns of `table` (one part, with the
 /// settings' derived columns), under `name`, with `rows` rows in all.
-/// `ranges` gives each time column's least and greatest instant over the whole table
-/// ([`time_ranges`] of every part, joined): the file states them.
-pub fn table_info(table: &Table, name: &str, rows: usize, ranges: &std::collections::HashMap<String, (f64, f64)>) -> TableInfo {
+/// `ranges` gives each time column's first and last instant and precisions over the
+/// whole table ([`time_ranges`] of every part, joined by [`join_time_ranges`]): the file
+/// states them.
+pub fn table_info(table: &Table, name: &str, rows: usize, ranges: &HashMap<String, TimeRange>) -> TableInfo {
     let mut t = GraphFile::of_table(table);
     t.name = name.to_string();
     t.rows = rows;
     for (info, c) in t.columns.iter_mut().zip(&table.columns) {
-        if let (Some(times), Some(&(lo, hi))) = (c.as_times(), ranges.get(&c.name)) {
-            info.time = Some(crate::table::TimeSummary::new(times, lo.is_finite().then_some(lo), hi.is_finite().then_some(hi)));
+        if let (Some(times), Some(r)) = (c.as_times(), ranges.get(&c.name)) {
+            let mut whole = times.clone();
+            whole.precision = r.precision;
+            whole.shown = r.shown;
+            info.time = Some(crate::table::TimeSummary::new(&whole, r.first, r.last));
         }
     }
     t
 }
 
-/// Each time column's least and greatest instant in this part (infinite when it has none).
-pub fn time_ranges(table: &Table) -> std::collections::HashMap<String, (f64, f64)> {
+/// A time column's first and last instant (seconds) in some rows, and the precisions its
+/// values need there ([`crate::timecol::Times`]): what joins over the parts of a table.
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize, serde::Deserialize)]
+pub struct TimeRange {
+    pub first: Option<f64>,
+    pub last: Option<f64>,
+    pub precision: crate::timecol::Precision,
+    pub shown: crate::timecol::Precision,
+}
+
+/// Each time column's [`TimeRange`] in this part.
+pub fn time_ranges(table: &Table) -> HashMap<String, TimeRange> {
     table
         .columns
         .iter()
         .filter_map(|c| c.as_times().map(|t| (c, t)))
         .map(|(c, t)| {
-            let range = t.seconds.iter().filter(|x| !x.is_nan()).fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), &x| (lo.min(x), hi.max(x)));
-            (c.name.clone(), range)
+            let (lo, hi) = t.seconds.iter().filter(|x| !x.is_nan()).fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), &x| (lo.min(x), hi.max(x)));
+            (c.name.clone(), TimeRange { first: lo.is_finite().then_some(lo), last: hi.is_finite().then_some(hi), precision: t.precision, shown: t.shown })
         })
         .collect()
+}
+
+/// The [`TimeRange`]s of the parts of a table joined: the earliest first, the latest
+/// last, the finest precisions.
+pub fn join_time_ranges(parts: &[HashMap<String, TimeRange>]) -> HashMap<String, TimeRange> {
+    let mut out: HashMap<String, TimeRange> = HashMap::new();
+    for p in parts {
+        for (c, r) in p {
+            out.entry(c.clone())
+                .and_modify(|a| {
+                    a.first = [a.first, r.first].into_iter().flatten().reduce(f64::min);
+                    a.last = [a.last, r.last].into_iter().flatten().reduce(f64::max);
+                    a.precision = a.precision.max(r.precision);
+                    a.shown = a.shown.max(r.shown);
+                })
+                .or_insert(*r);
+        }
+    }
+    out
 }
 
 /// One part of the table with the settings' derived columns appended.

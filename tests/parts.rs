@@ -282,16 +282,7 @@ fn run_in_parts(t: &Table, s: &Settings, cuts: &[usize]) -> nervure::Result<Grap
         }
     }
     let gathered = parts::Gathered {
-        table: parts::table_info(&tables[0].1, &t.name, t.n_rows, &{
-            let mut ranges: std::collections::HashMap<String, (f64, f64)> = Default::default();
-            for (_, p) in &tables {
-                for (c, (lo, hi)) in parts::time_ranges(p) {
-                    let e = ranges.entry(c).or_insert((f64::INFINITY, f64::NEG_INFINITY));
-                    *e = (e.0.min(lo), e.1.max(hi));
-                }
-            }
-            ranges
-        }),
+        table: parts::table_info(&tables[0].1, &t.name, t.n_rows, &parts::join_time_ranges(&tables.iter().map(|(_, p)| parts::time_ranges(p)).collect::<Vec<_>>())),
         counts,
         axis,
         axis2,

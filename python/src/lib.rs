@@ -933,18 +933,20 @@ fn join_statistics(py: Python<'_>, parts: Vec<String>) -> PyResult<String> {
 }
 
 /// The graph file's table description of a part (with derived columns) under `name`,
-/// with `rows` rows in all and each time column's (least, greatest) instant over the
-/// whole table in `ranges` (JSON).
+/// with `rows` rows in all, each time column's first and last instant and precision
+/// joined from every part's `time_ranges` (JSON texts) (JSON).
 #[pyfunction]
-#[pyo3(signature = (table, name, rows, ranges=std::collections::HashMap::new()))]
-fn table_info(table: &Table, name: &str, rows: usize, ranges: std::collections::HashMap<String, (f64, f64)>) -> String {
-    json(&nervure::parts::table_info(&table.inner, name, rows, &ranges))
+#[pyo3(signature = (table, name, rows, ranges=Vec::new()))]
+fn table_info(table: &Table, name: &str, rows: usize, ranges: Vec<String>) -> PyResult<String> {
+    let parts: Vec<std::collections::HashMap<String, nervure::parts::TimeRange>> =
+        ranges.iter().map(|r| serde_json::from_str(r)).collect::<Result<_, _>>().map_err(err)?;
+    Ok(json(&nervure::parts::table_info(&table.inner, name, rows, &nervure::parts::join_time_ranges(&parts))))
 }
 
-/// Each time column's (least, greatest) instant in one part (with derived columns).
+/// Each time column's first and last instant and precisions in one part (JSON).
 #[pyfunction]
-fn time_ranges(table: &Table) -> std::collections::HashMap<String, (f64, f64)> {
-    nervure::parts::time_ranges(&table.inner)
+fn time_ranges(table: &Table) -> String {
+    json(&nervure::parts::time_ranges(&table.inner))
 }
 
 /// The graph file (JSON text) of a run in parts from what was gathered: see

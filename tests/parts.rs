@@ -475,3 +475,26 @@ fn cells_read_in_parts_as_the_reader_reads_the_file() {
     let got: Vec<f64> = a.as_numbers().unwrap().iter().chain(b.as_numbers().unwrap()).copied().collect();
     assert_eq!(format!("{got:?}"), format!("{:?}", [1.0, f64::NAN, 2.5, f64::NAN, -300.0]));
 }
+
+/// The column filter under the median policy with a row condition: the filter's fills
+/// are the median of the kept rows, as the points' own fills are (the engine's filter
+/// once took the whole column's median there while the points took the kept rows', and
+/// the run in parts, which takes the kept rows' for both, differed from it).
+#[test]
+fn column_filter_median_among_the_kept_rows() {
+    let t = table(1200, 12);
+    let mut s = settings(Lens::Column { column: "x".into() });
+    s.scaling = Scaling::None;
+    s.missing.per_column.insert("x".into(), ColumnMissing { fill_values: None, policy: MissingPolicy::Median });
+    s.keep_rows = Some("side == 'west'".into());
+    let x = t.columns[0].as_numbers().unwrap();
+    let ColumnData::Category { codes, .. } = &t.columns[4].data else { unreachable!() };
+    let mut kept: Vec<f64> = (0..t.n_rows).filter(|&r| codes[r] == 2 && x[r].is_finite()).map(|r| x[r]).collect();
+    let median = nervure::missing::median_in_place(&mut kept).unwrap();
+    let pts = points::build_points(&t, &s).unwrap();
+    let (lens, _) = nervure::engine::lens_stage(&t, &pts, &s).unwrap();
+    let filled: Vec<f64> = pts.rows.iter().zip(&lens).filter(|(&r, _)| x[r as usize].is_nan()).map(|(_, &v)| v).collect();
+    assert!(!filled.is_empty(), "some filled rows are kept");
+    assert!(filled.iter().all(|&v| v == median), "filter values of filled rows are the kept rows' median {median}: {filled:?}");
+    same(&t, &s);
+}

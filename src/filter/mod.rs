@@ -34,7 +34,12 @@ pub fn compute_lens_of(table: &Table, points: &Points, lens: &Lens, s: &Settings
     let x = points.data.view();
     let out = match lens {
         Lens::Column { column } => {
-            let col = crate::missing::ColumnValues::new(column, table.numbers(column, &format!("{field}.column"))?, &s.missing);
+            let raw = table.numbers(column, &format!("{field}.column"))?;
+            // Under the median policy, the median of the rows the row condition keeps, as
+            // the points' own columns take it ([`crate::points`]).
+            let median_among = s.keep_rows.is_some() && s.missing.policy_for(column) == crate::settings::MissingPolicy::Median;
+            let kept = if median_among { crate::subset::select(table, s)? } else { None };
+            let col = crate::missing::ColumnValues::among(column, raw, &s.missing, kept.as_ref().map(|k| &k.keep[..]));
             // Rows without a value (and no fill) are not points, so `get` always answers.
             Ok(points.rows.iter().map(|&r| col.get(r as usize).unwrap_or(f64::NAN)).collect())
         }

@@ -20,7 +20,9 @@ use nervure::settings::Settings;
 use nervure::table::{Column, Table as CoreTable, MISSING_CODE};
 use nervure::Workbench;
 
-create_exception!(_core, NervureError, PyException, "The engine refused the data or the settings; the message says what and where.");
+// Named by its full path, so that pickle finds it again: an error raised on a Dask
+// worker reaches the caller as this class.
+create_exception!(nervure._core, NervureError, PyException, "The engine refused the data or the settings; the message says what and where.");
 
 fn err(e: impl std::fmt::Display) -> PyErr {
     NervureError::new_err(e.to_string())

@@ -607,6 +607,13 @@ class Run:
         cols = self._persist([delayed(_convert, pure=True)(f, src.cells, kinds, modes(k), levels, int(offsets[k])) for k, f in enumerate(frames)])
 
         self._begin("points")
+        # A column read as numbers that holds text: the engine's message, raised by the
+        # partition that holds the column's first text (the one it names).
+        as_numbers = set(self.doc["columns"]) | {(lens or {}).get("column") for lens in (self.doc["lens"], self.doc.get("lens2"))}
+        for c in sorted(as_numbers & set(first_text), key=lambda c: first_text[c][1]):
+            k = first_text[c][0]
+            self._compute(delayed(_choose, pure=True)(cols[k], names, kinds, levels, ft, s, int(offsets[k]),
+                                                      [(m, None) for m in _core.median_columns(s)], k, int(offsets[k + 1] - offsets[k])))
         medians = []
         for c in _core.median_columns(s):
             present = [delayed(_present, pure=True)(p, names, kinds, levels, ft, s, c) for p in cols]

@@ -295,6 +295,33 @@ def _column_kinds(t) -> list:
     return [(c["name"], c["kind"]) for c in json.loads(_core.table_info(t, "", 0))["columns"]]
 
 
+# Small steps sent to the workers: module functions (a closure would carry the run
+# itself, and with it the caller's progress function, to every worker).
+
+def _field(d: dict, key: str):
+    return d[key]
+
+
+def _head(result: dict) -> tuple:
+    return result["element"], result["nodes"]
+
+
+def _slice(values, lo: int, hi: int):
+    return values[lo:hi]
+
+
+def _widest(*ranges) -> tuple:
+    return min(r[0] for r in ranges), max(r[1] for r in ranges)
+
+
+def _kinds_of_part(cols, names, kinds, levels, first_text, settings) -> list:
+    return _column_kinds(_table(cols, names, kinds, levels, first_text, settings))
+
+
+def _info_of_part(cols, names, kinds, levels, first_text, settings, name, n_rows, ranges) -> str:
+    return _core.table_info(_table(cols, names, kinds, levels, first_text, settings), name, n_rows, ranges)
+
+
 def _time_ranges(cols, names, kinds, levels, first_text, settings) -> str:
     return _core.time_ranges(_table(cols, names, kinds, levels, first_text, settings))
 
@@ -625,7 +652,7 @@ class Run:
             medians.append((c, got[n // 2] if n % 2 else _core.middle_of(got[n // 2 - 1], got[n // 2])))
         chosen = self._persist([delayed(_choose, pure=True)(p, names, kinds, levels, ft, s, int(offsets[k]), medians, k,
                                                            int(offsets[k + 1] - offsets[k])) for k, p in enumerate(cols)])
-        counts_json = _core.total_counts(list(self._compute(*[delayed(lambda c: c["counts"])(c) for c in chosen])), s, self.source.name)
+        counts_json = _core.total_counts(list(self._compute(*[delayed(_field, pure=True)(c, "counts") for c in chosen])), s, self.source.name)
         counts = json.loads(counts_json)
         n = counts["kept"]
         d = len(self.doc["columns"])
@@ -649,7 +676,7 @@ class Run:
         axes = []
         for which, ls in enumerate(lenses, start=1):
             lo_hi = self._compute(self._tree([delayed(_minmax, pure=True)(v) for v in ls],
-                                             lambda *xs: (min(x[0] for x in xs), max(x[1] for x in xs))))[0]
+                                             _widest))[0]
             cover = self.doc["cover2"] if which == 2 and self.doc.get("cover2") else self.doc["cover"]
             if cover.get("kind", "uniform") == "balanced":
                 ranks = [int(r) for r in _core.balanced_ranks(s, which, n)]
@@ -685,7 +712,7 @@ class Run:
         by_element = shuffled.set_index("slot", divisions=divisions)
         results = self._persist([delayed(_cluster_slot, pure=True)(f, s, d, stat_names, kinds, levels, second, self.rows)
                                  for f in by_element.to_delayed()])
-        heads = self._compute(*[delayed(lambda r: (r["element"], r["nodes"]))(r) for r in results])
+        heads = self._compute(*[delayed(_head, pure=True)(r) for r in results])
         order = sorted(range(len(heads)), key=lambda i: heads[i][0])
         order = [i for i in order if heads[i][1] > 0]
         first_node = {}
@@ -746,7 +773,7 @@ class Run:
                                    f"(max_points_one_worker); choose another filter (principal, density, eccentricity) for a table this size")
             every = self._gather(points, starts, np.arange(n, dtype=np.uint64), None)
             values = delayed(_core.knn_values, pure=True)(s, which, every)
-            return [delayed(_lens, pure=True)(s, which, "given", p, c, {"values": delayed(lambda v, a, b: v[a:b])(values, int(starts[k]), int(starts[k + 1]))})
+            return [delayed(_lens, pure=True)(s, which, "given", p, c, {"values": delayed(_slice, pure=True)(values, int(starts[k]), int(starts[k + 1]))})
                     for k, (p, c) in enumerate(zip(points, chosen))]
         return [delayed(_lens, pure=True)(s, which, plan, p, c, extra) for p, c in zip(points, chosen)]
 
@@ -765,7 +792,7 @@ class Run:
 
     def _stat_names(self, cols0, names, kinds, levels, ft) -> list:
         """(name, kind) of every column as the engine typed it (derived ones too)."""
-        got = self._compute(self.dask.delayed(lambda p: _column_kinds(_table(p, names, kinds, levels, ft, self.settings)))(cols0))[0]
+        got = self._compute(self.dask.delayed(_kinds_of_part, pure=True)(cols0, names, kinds, levels, ft, self.settings))[0]
         for c, kind in got:
             if kind == "category" and c not in levels:
                 raise NervureError(f"derived column '{c}' holds text; a cluster run keeps a text column's levels in the order the whole "
@@ -803,7 +830,7 @@ class Run:
         s = self.settings
         # Each time column's first and last instant and precision joined over the parts.
         ranges = list(self._compute(*self._time_parts))
-        info = self._compute(self.dask.delayed(lambda p: _core.table_info(_table(p, names, kinds, levels, ft, s), self.source.name, n_rows, ranges))(cols0))[0]
+        info = self._compute(self.dask.delayed(_info_of_part, pure=True)(cols0, names, kinds, levels, ft, s, self.source.name, n_rows, ranges))[0]
         node_element = np.concatenate([np.full(r["nodes"], r["element"], dtype=np.uint64) for r in got]) if got else np.zeros(0, np.uint64)
         node_size = np.concatenate([np.asarray(r["size"], dtype=np.uint64) for r in got]) if got else np.zeros(0, np.uint64)
         node_lens = np.concatenate([np.asarray(r["lens"], dtype=np.float64) for r in got]) if got else np.zeros(0)

@@ -663,6 +663,11 @@ class Run:
             sq = self._compute(self._fold((sums / count, np.zeros(d)), _add_squares, chosen))[0][1]
         scales = _core.scales(s, count, sums, lo, hi, sq)
         points = self._persist([delayed(_scaled, pure=True)(c, scales) for c in chosen])
+        # What later stages need of the converted partitions: the column kinds and the time
+        # columns' ranges; then the workers let them go (the chosen rows carry every column).
+        stat_names = self._stat_names(cols[0], names, kinds, levels, ft)
+        self._time_ranges = list(self._compute(*[delayed(_time_ranges, pure=True)(p, names, kinds, levels, ft, s) for p in cols]))
+        cols = cols[:1]
         per_part = self._compute(*[delayed(len)(c["rows"]) for c in chosen])
         starts = np.concatenate([[0], np.cumsum(per_part)]).astype(np.int64)
 
@@ -687,8 +692,6 @@ class Run:
             axes.append((lo_hi[0], lo_hi[1], iv))
         n1 = len(axes[0][2])
         n_elements = n1 * (len(axes[1][2]) if len(axes) > 1 else 1)
-        stat_names = self._stat_names(cols[0], names, kinds, levels, ft)
-        self._time_parts = [delayed(_time_ranges, pure=True)(p, names, kinds, levels, ft, s) for p in cols]
         second = len(lenses) > 1
 
         def frame_of(k, slots):
@@ -829,7 +832,7 @@ class Run:
     def _file(self, got, counts_json, axes, sizes, shared, cols0, names, kinds, levels, ft, n_rows) -> str:
         s = self.settings
         # Each time column's first and last instant and precision joined over the parts.
-        ranges = list(self._compute(*self._time_parts))
+        ranges = self._time_ranges
         info = self._compute(self.dask.delayed(_info_of_part, pure=True)(cols0, names, kinds, levels, ft, s, self.source.name, n_rows, ranges))[0]
         node_element = np.concatenate([np.full(r["nodes"], r["element"], dtype=np.uint64) for r in got]) if got else np.zeros(0, np.uint64)
         node_size = np.concatenate([np.asarray(r["size"], dtype=np.uint64) for r in got]) if got else np.zeros(0, np.uint64)

@@ -121,7 +121,7 @@ def test_fixture_table_equals_the_runner(runner, tmp_path, gappy_csv, client, ca
 def test_circle_in_many_small_partitions(runner, tmp_path, circle_csv, client):
     g, got = same_as_runner(runner, tmp_path, circle_csv, CIRCLE_SETTINGS, client, blocksize=4096)
     assert (got["summary"]["components"], got["summary"]["loops"]) == (1, 1), "a circle: one component, one loop"
-    assert set(g.timings) == {"table", "points", "filter", "cover", "clusters", "nerve", "graph file"}
+    assert set(g.timings) == {"table", "points", "filter", "cover", "shuffle by element", "clusters", "nerve", "graph file"}
 
 
 @pytest.mark.parametrize("name", ["penguins", "weather-hourly", "airquality"])

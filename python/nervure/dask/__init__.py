@@ -570,7 +570,17 @@ class Run:
         return self.dask.compute(*xs)
 
     def _persist(self, xs: list) -> list:
-        return list(self.dask.persist(*xs))
+        """``xs`` computed and kept on the workers; waits for them on a distributed
+        cluster (where persist returns at once), so each stage's seconds are its own."""
+        out = list(self.dask.persist(*xs))
+        try:
+            from distributed import get_client, wait
+
+            get_client()
+        except (ImportError, ValueError):
+            return out
+        wait(out)
+        return out
 
     def _select(self, values: list, ranks: Sequence[int]) -> dict:
         """The values of the given ranks (0-based, in increasing order of value) among
@@ -702,7 +712,7 @@ class Run:
                                           for k in range(len(chosen))], _add_arrays))[0]
         self._check_sizes(sizes, axes, d, len(stat_names))
 
-        self._begin("clusters")
+        self._begin("shuffle by element")
         import dask.dataframe as dd
 
         nonempty = np.flatnonzero(sizes)
@@ -712,9 +722,11 @@ class Run:
         shuffled = dd.from_delayed([frame_of(k, slots) for k in range(len(chosen))], meta=meta, verify_meta=False)
         k_slots = max(len(nonempty), 1)
         divisions = list(range(k_slots)) + [k_slots - 1]
-        by_element = shuffled.set_index("slot", divisions=divisions)
+        by_element = self._persist(shuffled.set_index("slot", divisions=divisions).to_delayed())
+        self._begin("clusters")
         results = self._persist([delayed(_cluster_slot, pure=True)(f, s, d, stat_names, kinds, levels, second, self.rows)
-                                 for f in by_element.to_delayed()])
+                                 for f in by_element])
+        del by_element
         heads = self._compute(*[delayed(_head, pure=True)(r) for r in results])
         order = sorted(range(len(heads)), key=lambda i: heads[i][0])
         order = [i for i in order if heads[i][1] > 0]

@@ -18,8 +18,10 @@ How each stage runs (the exact method of each, and why the graph is the runner's
 1. **table**: the partitions' row counts (data row numbers are global: row ``i`` of the
    table is data row ``i + 1``), the column types (a column with one text anywhere is
    text, as the reader decides) and the text columns' levels in order of first appearance
-   (an ordered reduction); each partition converted once and kept on its worker.
-2. **points**: the rows taking part per partition; medians of the median policy by an
+   (an ordered reduction; a text column whose levels are date-times is a time column, as
+   the reader types it); each partition converted once and kept on its worker.
+2. **points**: the rows taking part per partition (the row condition, ``keepRows``,
+   decided row by row, its counts added and checked on the totals); medians of the median policy by an
    exact selection (four reductions of 65 536-bin counts of the values' bit patterns);
    column sums, then squared deviations (z-score) as ordered folds: the running state
    (d numbers) goes from partition to partition in table order, so every addition is the
@@ -30,8 +32,8 @@ How each stage runs (the exact method of each, and why the graph is the runner's
    ``max_points_one_worker``); values computed per partition.
 4. **cover**: the range (a min/max reduction; the balanced cover's few order statistics by
    the same exact selection), each partition's points assigned to elements.
-5. **clusters**: rows shuffled by element (``set_index`` on the element with one division
-   per element, Dask's shuffle), each element clustered by the engine on one worker, in
+5. **shuffle by element**, then **clusters**: rows shuffled by element (``set_index`` on
+   the element with one division per element, Dask's shuffle), each element clustered by the engine on one worker, in
    table order; an element above ``max_element_rows`` is refused before the shuffle with
    its number, interval and size. Per-node statistics of every column are made there.
 6. **nerve**: the memberships shuffled by row (a group-by on row ids), node pairs and

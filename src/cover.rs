@@ -87,27 +87,71 @@ pub fn intervals(lo: f64, hi: f64, n: usize, g: f64) -> Vec<(f64, f64)> {
 /// empty) at `p` in [0, 1].
 pub fn quantile(sorted: &[f64], p: f64) -> f64 {
     assert!(!sorted.is_empty());
-    let h = (sorted.len() - 1) as f64 * p;
+    let (i, j, t) = quantile_ranks(sorted.len(), p);
+    lerp(sorted[i], sorted[j], t)
+}
+
+/// The two order statistics (0-based ranks among `len` values) that the quantile at `p`
+/// interpolates between, and the weight of the second.
+pub fn quantile_ranks(len: usize, p: f64) -> (usize, usize, f64) {
+    let h = (len - 1) as f64 * p;
     let f = h.floor();
-    let i = (f as usize).min(sorted.len() - 1);
-    let j = (i + 1).min(sorted.len() - 1);
-    let t = h - f;
-    // NumPy's lerp: a + t (b - a), written as it does for t >= 0.5 to stay exact at t = 1.
-    let (a, b) = (sorted[i], sorted[j]);
+    let i = (f as usize).min(len - 1);
+    let j = (i + 1).min(len - 1);
+    (i, j, h - f)
+}
+
+/// NumPy's lerp: a + t (b - a), written as it does for t >= 0.5 to stay exact at t = 1.
+pub fn lerp(a: f64, b: f64, t: f64) -> f64 {
     if t >= 0.5 { b - (b - a) * (1.0 - t) } else { a + (b - a) * t }
 }
 
 /// Interval bounds of the balanced cover as defined above, from the sorted lens values.
 pub fn balanced_intervals(sorted: &[f64], n: usize, g: f64) -> Vec<(f64, f64)> {
+    balanced_intervals_by(sorted.len(), n, g, |k| sorted[k])
+}
+
+/// [`balanced_intervals`] from `len` values known through `order_stat(k)`, the value of
+/// rank k (0-based, increasing): a run in parts finds just the ranks
+/// [`balanced_ranks`] lists.
+pub fn balanced_intervals_by(len: usize, n: usize, g: f64, mut order_stat: impl FnMut(usize) -> f64) -> Vec<(f64, f64)> {
     assert!(n >= 1 && (0.0..1.0).contains(&g));
-    if sorted.is_empty() {
+    if len == 0 {
         return vec![(0.0, 0.0)];
     }
-    let (lo, hi) = (sorted[0], sorted[sorted.len() - 1]);
+    let (lo, hi) = (order_stat(0), order_stat(len - 1));
     if lo == hi {
         return vec![(lo, lo)];
     }
-    intervals(0.0, 1.0, n, g).into_iter().map(|(p, q)| (quantile(sorted, p), quantile(sorted, q))).collect()
+    let mut q = |p: f64| {
+        let (i, j, t) = quantile_ranks(len, p);
+        lerp(order_stat(i), order_stat(j), t)
+    };
+    intervals(0.0, 1.0, n, g).into_iter().map(|(a, b)| (q(a), q(b))).collect()
+}
+
+/// The ranks [`balanced_intervals_by`] reads for `len` values under `n` intervals with
+/// overlap `g`, increasing, each once.
+pub fn balanced_ranks(len: usize, n: usize, g: f64) -> Vec<usize> {
+    if len == 0 {
+        return Vec::new();
+    }
+    let mut out = vec![0, len - 1];
+    for (a, b) in intervals(0.0, 1.0, n, g) {
+        for p in [a, b] {
+            let (i, j, _) = quantile_ranks(len, p);
+            out.extend([i, j]);
+        }
+    }
+    out.sort_unstable();
+    out.dedup();
+    out
+}
+
+/// The axis of a uniform cover over a range found elsewhere (the least and greatest
+/// filter value, as [`axis`] finds them).
+pub fn uniform_axis(lo: f64, hi: f64, c: &CoverSettings) -> Axis {
+    Axis { lo, hi, intervals: intervals(lo, hi, c.intervals, c.overlap) }
 }
 
 /// The intervals of one filter's values under `c`.

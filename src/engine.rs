@@ -1185,16 +1185,20 @@ pub fn cover_stage(first: &[f64], second: Option<&[f64]>, s: &Settings) -> Cover
     cover::build(first, &s.cover, second.map(|v| (v, second_cover(s))))
 }
 
+/// `v` (one filter value per point of table rows `rows`), or the error naming the first
+/// data row whose value is not finite; `which` names the filter.
+pub fn finite_lens(v: Vec<f64>, rows: &[u32], which: &str) -> Result<Vec<f64>> {
+    if let Some(i) = v.iter().position(|x| !x.is_finite()) {
+        return Err(Error::Data(format!(
+            "the {which} gave no finite value on data row {}; choose another filter or check that column",
+            rows[i] + 1
+        )));
+    }
+    Ok(v)
+}
+
 fn lens_values(table: &Table, pts: &Points, s: &Settings) -> Result<Lenses> {
-    let finite = |v: Vec<f64>, which: &str| -> Result<Vec<f64>> {
-        if let Some(i) = v.iter().position(|x| !x.is_finite()) {
-            return Err(Error::Data(format!(
-                "the {which} gave no finite value on data row {}; choose another filter or check that column",
-                pts.rows[i] + 1
-            )));
-        }
-        Ok(v)
-    };
+    let finite = |v: Vec<f64>, which: &str| finite_lens(v, &pts.rows, which);
     let first = finite(filter::compute_lens(table, pts, s)?, "filter")?;
     let second = filter::compute_lens2(table, pts, s)?.map(|v| finite(v, "second filter (lens2)")).transpose()?;
     Ok(Lenses { first, second })
@@ -1246,7 +1250,7 @@ fn element_buffer(pts: &Points, members: &[u32]) -> Vec<f64> {
 
 /// One list of point indices per cluster (labels numbered as [`cluster::cluster`] does),
 /// keeping the clusters of at least `min_share` of the element's rows.
-fn groups_from_labels(members: &[u32], labels: &cluster::Labels, min_share: f64) -> Vec<Vec<u32>> {
+pub fn groups_from_labels(members: &[u32], labels: &cluster::Labels, min_share: f64) -> Vec<Vec<u32>> {
     let k = labels.iter().flatten().map(|&c| c as usize + 1).max().unwrap_or(0);
     let mut groups: Vec<Vec<u32>> = vec![Vec::new(); k];
     for (&p, l) in members.iter().zip(labels) {
@@ -1311,11 +1315,7 @@ fn assemble(table: &Table, pts: &Points, lens: &Lenses, cov: &Cover, c: &Cluster
     let (components, loops) = nerve.counts();
     // Mean lens value of each node: rows map back to points by binary search (rows increase).
     let means = |lens: &[f64]| -> Vec<f64> {
-        nerve
-            .nodes
-            .iter()
-            .map(|n| n.members.iter().map(|r| lens[pts.rows.binary_search(r).expect("member rows are points")]).sum::<f64>() / n.members.len() as f64)
-            .collect()
+        nerve.nodes.iter().map(|n| mean_in_order(n.members.iter().map(|r| lens[pts.rows.binary_search(r).expect("member rows are points")]))).collect()
     };
     let node_lens = means(&lens.first);
     let second = match (&lens.second, &cov.second) {
@@ -1346,9 +1346,16 @@ fn assemble(table: &Table, pts: &Points, lens: &Lenses, cov: &Cover, c: &Cluster
     Build { settings: s.clone(), summary, nerve, layout, node_lens, lens_range: (cov.lo, cov.hi), intervals: cov.intervals.clone(), second }
 }
 
+/// The mean of `values` summed in the order given (a node's mean filter value: its
+/// member rows in table order, wherever the node is made).
+pub fn mean_in_order(values: impl ExactSizeIterator<Item = f64>) -> f64 {
+    let k = values.len();
+    values.sum::<f64>() / k as f64
+}
+
 /// Warnings about settings that are valid but unlikely to be meant. More intervals than
 /// rows is allowed (the cover is still defined) but leaves most intervals empty.
-fn settings_warnings(s: &Settings, rows: usize) -> Vec<String> {
+pub fn settings_warnings(s: &Settings, rows: usize) -> Vec<String> {
     let mut out = Vec::new();
     if s.cover.intervals > rows {
         out.push(format!(

@@ -151,33 +151,7 @@ impl Nerve {
     /// Loops of the nerve once its triangles (see [`Nerve::triangles`]) are filled: never
     /// more than the graph's loops of [`Nerve::counts`].
     pub fn filled_loops(&self, min_shared: usize) -> usize {
-        let (_, loops) = self.counts();
-        let triangles = self.triangles(min_shared);
-        if triangles.is_empty() {
-            return loops;
-        }
-        let edge_index = |a: u32, b: u32| -> u32 {
-            self.edges.binary_search_by_key(&(a, b), |e| (e.a, e.b)).expect("a triangle's sides are edges") as u32
-        };
-        // Column reduction over Z/2: each column is the sorted edge indices of one triangle's
-        // boundary; a column reduced to nothing is a dependency, the others count to the rank.
-        let mut owner: HashMap<u32, Vec<u32>> = HashMap::new();
-        let mut rank = 0;
-        for t in &triangles {
-            let mut col = vec![edge_index(t[0], t[1]), edge_index(t[0], t[2]), edge_index(t[1], t[2])];
-            col.sort_unstable();
-            while let Some(&low) = col.last() {
-                match owner.get(&low) {
-                    Some(other) => col = xor_sorted(&col, other),
-                    None => {
-                        owner.insert(low, col);
-                        rank += 1;
-                        break;
-                    }
-                }
-            }
-        }
-        loops - rank
+        filled_loops(self.nodes.len(), &self.edges, &self.triangles(min_shared))
     }
 
     /// Component index of every node, numbered in order of each component's first node.
@@ -254,6 +228,38 @@ fn shares_at_least(a: &[u32], b: &[u32], c: &[u32], k: usize) -> bool {
         }
     }
     false
+}
+
+/// Loops of a nerve once its `triangles` (sorted, each side an edge of `edges`, which are
+/// sorted by (a, b)) are filled: E - V + C less the rank over Z/2 of the triangles'
+/// boundaries. [`Nerve::filled_loops`] finds the triangles from the member rows; a run in
+/// parts ([`crate::parts`]) from its group-by on rows.
+pub fn filled_loops(n_nodes: usize, edges: &[Edge], triangles: &[[u32; 3]]) -> usize {
+    let pairs: Vec<(u32, u32)> = edges.iter().map(|e| (e.a, e.b)).collect();
+    let (_, loops) = counts(n_nodes, &pairs);
+    if triangles.is_empty() {
+        return loops;
+    }
+    let edge_index = |a: u32, b: u32| -> u32 { edges.binary_search_by_key(&(a, b), |e| (e.a, e.b)).expect("a triangle's sides are edges") as u32 };
+    // Column reduction over Z/2: each column is the sorted edge indices of one triangle's
+    // boundary; a column reduced to nothing is a dependency, the others count to the rank.
+    let mut owner: HashMap<u32, Vec<u32>> = HashMap::new();
+    let mut rank = 0;
+    for t in triangles {
+        let mut col = vec![edge_index(t[0], t[1]), edge_index(t[0], t[2]), edge_index(t[1], t[2])];
+        col.sort_unstable();
+        while let Some(&low) = col.last() {
+            match owner.get(&low) {
+                Some(other) => col = xor_sorted(&col, other),
+                None => {
+                    owner.insert(low, col);
+                    rank += 1;
+                    break;
+                }
+            }
+        }
+    }
+    loops - rank
 }
 
 /// Symmetric difference of two increasing lists (addition of two chains over Z/2).

@@ -165,10 +165,34 @@ impl ColumnStats {
 
 /// [`ColumnStats`] of every column of `table` over the member rows of `nodes`.
 pub fn node_statistics(table: &Table, nodes: &[Node], missing: &Missing) -> Vec<ColumnStats> {
-    table.columns.iter().map(|c| column_statistics(&c.name, c.unit.clone(), &c.data, nodes, missing)).collect()
+    join_statistics(vec![statistics_part(table, nodes, missing)]).expect("one part of one table joins")
 }
 
-fn column_statistics(name: &str, unit: Option<String>, data: &ColumnData, nodes: &[Node], missing: &Missing) -> ColumnStats {
+/// Per-node statistics of every column over some of a graph's nodes, in a form that joins
+/// with those of its other nodes ([`join_statistics`]): a run in parts ([`crate::parts`])
+/// computes them where each cover element's nodes are made, on those rows alone.
+/// A number column's statistics are the node's own; a category column's keep each node's
+/// counts, because the levels listed and their order depend on the whole graph.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(rename_all = "camelCase")]
+pub enum StatsPart {
+    Number(ColumnStats),
+    Category {
+        name: String,
+        /// Every level of the table's column, in the table's order.
+        levels: Vec<String>,
+        /// Per node: (level, rows) for each level it holds (by level), rows with a value,
+        /// rows without one.
+        nodes: Vec<(Vec<(u32, usize)>, usize, u32)>,
+    },
+}
+
+/// [`StatsPart`] of every column of `table` over the member rows of `nodes`.
+pub fn statistics_part(table: &Table, nodes: &[Node], missing: &Missing) -> Vec<StatsPart> {
+    table.columns.iter().map(|c| column_part(&c.name, c.unit.clone(), &c.data, nodes, missing)).collect()
+}
+
+fn column_part(name: &str, unit: Option<String>, data: &ColumnData, nodes: &[Node], missing: &Missing) -> StatsPart {
     let some = |x: f64| x.is_finite().then_some(x);
     match data {
         ColumnData::Number(v) | ColumnData::Time(Times { seconds: v, .. }) => {
@@ -188,12 +212,11 @@ fn column_statistics(name: &str, unit: Option<String>, data: &ColumnData, nodes:
                 spread.push(some(NodeStat::Spread.of(&mut buf)));
                 median.push(some(NodeStat::Median.of(&mut buf)));
             }
-            ColumnStats::Number { name: name.to_string(), unit, mean, median, spread, min, max, missing: miss }
+            StatsPart::Number(ColumnStats::Number { name: name.to_string(), unit, mean, median, spread, min, max, missing: miss })
         }
         ColumnData::Category { codes, levels } => {
-            let mut overall = vec![0usize; levels.len()];
             let mut counts = vec![0usize; levels.len()];
-            let mut per_node: Vec<(Vec<(u32, usize)>, usize, u32)> = Vec::with_capacity(nodes.len());
+            let mut per_node = Vec::with_capacity(nodes.len());
             for n in nodes {
                 let mut total = 0;
                 let mut miss = 0;
@@ -212,48 +235,96 @@ fn column_statistics(name: &str, unit: Option<String>, data: &ColumnData, nodes:
                 }
                 let mut held: Vec<(u32, usize)> = touched.iter().map(|&c| (c, std::mem::take(&mut counts[c as usize]))).collect();
                 held.sort_unstable();
-                for &(c, k) in &held {
-                    overall[c as usize] += k;
-                }
                 per_node.push((held, total, miss));
             }
-            // The node's dominant level: most rows, ties to the lower code (as the engine's).
-            let tops: Vec<Option<(u32, f64)>> = per_node
-                .iter()
-                .map(|(held, total, _)| {
-                    held.iter().max_by_key(|&&(c, k)| (k, std::cmp::Reverse(c))).map(|&(c, k)| (c, k as f64 / *total as f64))
-                })
-                .collect();
-            let mut order: Vec<u32> = (0..levels.len() as u32).filter(|&c| overall[c as usize] > 0).collect();
-            order.sort_by_key(|&c| (std::cmp::Reverse(overall[c as usize]), c));
-            order.truncate(SHARE_LEVELS);
-            for &(c, _) in tops.iter().flatten() {
-                if !order.contains(&c) {
-                    order.push(c);
+            StatsPart::Category { name: name.to_string(), levels: levels.clone(), nodes: per_node }
+        }
+    }
+}
+
+/// The statistics of every column over all nodes from the [`StatsPart`]s of consecutive
+/// groups of nodes (in node order), each part listing the same columns.
+pub fn join_statistics(parts: Vec<Vec<StatsPart>>) -> Result<Vec<ColumnStats>> {
+    let mut parts = parts.into_iter();
+    let Some(first) = parts.next() else { return Ok(Vec::new()) };
+    let mut acc: Vec<StatsPart> = first;
+    for part in parts {
+        if part.len() != acc.len() {
+            return Err(Error::Data("internal: the statistics of two groups of nodes list different columns".into()));
+        }
+        for (a, b) in acc.iter_mut().zip(part) {
+            match (a, b) {
+                (
+                    StatsPart::Number(ColumnStats::Number { name, mean, median, spread, min, max, missing, .. }),
+                    StatsPart::Number(ColumnStats::Number { name: n2, mean: m2, median: d2, spread: s2, min: l2, max: h2, missing: x2, .. }),
+                ) if *name == n2 => {
+                    mean.extend(m2);
+                    median.extend(d2);
+                    spread.extend(s2);
+                    min.extend(l2);
+                    max.extend(h2);
+                    missing.extend(x2);
                 }
-            }
-            let mut index = vec![u32::MAX; levels.len()];
-            for (k, &c) in order.iter().enumerate() {
-                index[c as usize] = k as u32;
-            }
-            let mut shares = vec![vec![0.0; nodes.len()]; order.len()];
-            for (i, (held, total, _)) in per_node.iter().enumerate() {
-                for &(c, k) in held {
-                    let at = index[c as usize];
-                    if at != u32::MAX {
-                        shares[at as usize][i] = k as f64 / *total as f64;
-                    }
+                (StatsPart::Category { name, levels, nodes }, StatsPart::Category { name: n2, levels: l2, nodes: x2 }) if *name == n2 && *levels == l2 => {
+                    nodes.extend(x2);
                 }
-            }
-            ColumnStats::Category {
-                name: name.to_string(),
-                levels: order.iter().map(|&c| levels[c as usize].clone()).collect(),
-                shares,
-                top: tops.iter().map(|t| t.map(|(c, _)| index[c as usize])).collect(),
-                top_share: tops.iter().map(|t| t.map(|(_, s)| s)).collect(),
-                missing: per_node.iter().map(|(_, _, m)| *m).collect(),
+                (a, _) => {
+                    let name = match a {
+                        StatsPart::Number(c) => c.name().to_string(),
+                        StatsPart::Category { name, .. } => name.clone(),
+                    };
+                    return Err(Error::Data(format!("internal: column '{name}' differs between two groups of nodes (kind, name or levels)")));
+                }
             }
         }
+    }
+    Ok(acc.into_iter().map(finish_column).collect())
+}
+
+fn finish_column(part: StatsPart) -> ColumnStats {
+    let (name, levels, per_node) = match part {
+        StatsPart::Number(c) => return c,
+        StatsPart::Category { name, levels, nodes } => (name, levels, nodes),
+    };
+    let mut overall = vec![0usize; levels.len()];
+    for (held, _, _) in &per_node {
+        for &(c, k) in held {
+            overall[c as usize] += k;
+        }
+    }
+    // The node's dominant level: most rows, ties to the lower code (as the engine's).
+    let tops: Vec<Option<(u32, f64)>> = per_node
+        .iter()
+        .map(|(held, total, _)| held.iter().max_by_key(|&&(c, k)| (k, std::cmp::Reverse(c))).map(|&(c, k)| (c, k as f64 / *total as f64)))
+        .collect();
+    let mut order: Vec<u32> = (0..levels.len() as u32).filter(|&c| overall[c as usize] > 0).collect();
+    order.sort_by_key(|&c| (std::cmp::Reverse(overall[c as usize]), c));
+    order.truncate(SHARE_LEVELS);
+    for &(c, _) in tops.iter().flatten() {
+        if !order.contains(&c) {
+            order.push(c);
+        }
+    }
+    let mut index = vec![u32::MAX; levels.len()];
+    for (k, &c) in order.iter().enumerate() {
+        index[c as usize] = k as u32;
+    }
+    let mut shares = vec![vec![0.0; per_node.len()]; order.len()];
+    for (i, (held, total, _)) in per_node.iter().enumerate() {
+        for &(c, k) in held {
+            let at = index[c as usize];
+            if at != u32::MAX {
+                shares[at as usize][i] = k as f64 / *total as f64;
+            }
+        }
+    }
+    ColumnStats::Category {
+        name,
+        levels: order.iter().map(|&c| levels[c as usize].clone()).collect(),
+        shares,
+        top: tops.iter().map(|t| t.map(|(c, _)| index[c as usize])).collect(),
+        top_share: tops.iter().map(|t| t.map(|(_, s)| s)).collect(),
+        missing: per_node.iter().map(|(_, _, m)| *m).collect(),
     }
 }
 
@@ -313,28 +384,7 @@ impl GraphFile {
             .collect();
         GraphFile {
             version: GRAPH_FILE_VERSION,
-            table: Some(TableInfo {
-                name: table.name.clone(),
-                rows: table.n_rows,
-                columns: table
-                    .columns
-                    .iter()
-                    .map(|c| ColumnInfo {
-                        name: c.name.clone(),
-                        kind: match c.data {
-                            ColumnData::Number(_) => "number",
-                            ColumnData::Time(_) => "time",
-                            ColumnData::Category { .. } => "category",
-                        }
-                        .into(),
-                        unit: c.unit.clone(),
-                        time: c.as_times().map(|t| {
-                            let (lo, hi) = t.seconds.iter().filter(|x| !x.is_nan()).fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), &x| (lo.min(x), hi.max(x)));
-                            crate::table::TimeSummary::new(t, lo.is_finite().then_some(lo), hi.is_finite().then_some(hi))
-                        }),
-                    })
-                    .collect(),
-            }),
+            table: Some(GraphFile::of_table(table)),
             settings: b.settings.clone(),
             summary: b.summary.clone(),
             cover: Some(CoverInfo {
@@ -346,6 +396,32 @@ impl GraphFile {
             nodes,
             edges: b.nerve.edges.iter().map(|e| EdgeRecord { source: e.a, target: e.b, shared: e.shared }).collect(),
             statistics: node_statistics(table, &b.nerve.nodes, &b.settings.missing),
+        }
+    }
+
+    /// The description of `table` (its name, rows and columns) a graph file carries.
+    pub fn of_table(table: &Table) -> TableInfo {
+        TableInfo {
+            name: table.name.clone(),
+            rows: table.n_rows,
+            columns: table
+                .columns
+                .iter()
+                .map(|c| ColumnInfo {
+                    name: c.name.clone(),
+                    kind: match c.data {
+                        ColumnData::Number(_) => "number",
+                        ColumnData::Time(_) => "time",
+                        ColumnData::Category { .. } => "category",
+                    }
+                    .into(),
+                    unit: c.unit.clone(),
+                    time: c.as_times().map(|t| {
+                        let (lo, hi) = t.seconds.iter().filter(|x| !x.is_nan()).fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), &x| (lo.min(x), hi.max(x)));
+                        crate::table::TimeSummary::new(t, lo.is_finite().then_some(lo), hi.is_finite().then_some(hi))
+                    }),
+                })
+                .collect(),
         }
     }
 

@@ -69,12 +69,19 @@ pub fn disc_radius(rows: usize, most: usize) -> f64 {
 
 /// Lays out a graph; `node_lens` is each node's mean lens value.
 pub fn layout(nerve: &Nerve, node_lens: &[f64], seed: u64) -> Layout {
+    let sizes: Vec<usize> = nerve.nodes.iter().map(|x| x.members.len()).collect();
+    layout_sized(nerve, &sizes, node_lens, seed)
+}
+
+/// [`layout`] with each node's row count given (`sizes`), for a nerve whose nodes do not
+/// list their members (a run in parts, [`crate::parts`]).
+pub fn layout_sized(nerve: &Nerve, sizes: &[usize], node_lens: &[f64], seed: u64) -> Layout {
     let n = nerve.nodes.len();
     if n == 0 {
         return Layout::default();
     }
-    let most = nerve.nodes.iter().map(|x| x.members.len()).max().unwrap_or(1);
-    let mut radii: Vec<f64> = nerve.nodes.iter().map(|x| disc_radius(x.members.len(), most)).collect();
+    let most = sizes.iter().copied().max().unwrap_or(1);
+    let mut radii: Vec<f64> = sizes.iter().map(|&k| disc_radius(k, most)).collect();
     let comp = nerve.component_of();
     let n_comp = comp.iter().map(|&c| c as usize + 1).max().unwrap_or(0);
     let mut by_comp: Vec<Vec<usize>> = vec![Vec::new(); n_comp];
@@ -112,7 +119,7 @@ pub fn layout(nerve: &Nerve, node_lens: &[f64], seed: u64) -> Layout {
             turn_along_lens(members, &mut pos, &lens);
         }
     }
-    pack(nerve, &by_comp, &mut pos, &radii);
+    pack(sizes, &by_comp, &mut pos, &radii);
     normalise(&mut pos, &mut radii);
     Layout { positions: pos, radii }
 }
@@ -474,8 +481,8 @@ type Placed = Vec<(usize, f64, f64)>;
 /// most rows first, each row centred; those of one or two nodes in a compact band under the
 /// block or beside it. The widths of the block and of the band are chosen among a few so
 /// that the whole drawing is shown largest in a box of [`ASPECT`].
-fn pack(nerve: &Nerve, by_comp: &[Vec<usize>], pos: &mut [[f64; 2]], radii: &[f64]) {
-    let rows = |c: usize| by_comp[c].iter().map(|&i| nerve.nodes[i].members.len()).sum::<usize>();
+fn pack(node_rows: &[usize], by_comp: &[Vec<usize>], pos: &mut [[f64; 2]], radii: &[f64]) {
+    let rows = |c: usize| by_comp[c].iter().map(|&i| node_rows[i]).sum::<usize>();
     let mut order: Vec<usize> = (0..by_comp.len()).collect();
     // By rows, as the page's hiding of small components counts them: what it hides is then
     // the end of each row of the packing, not holes in the middle.

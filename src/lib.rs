@@ -33,6 +33,7 @@ pub mod first_look;
 pub mod shape;
 pub mod export;
 pub mod graphfile;
+pub mod parts;
 pub mod results;
 pub mod explain;
 pub mod rng;

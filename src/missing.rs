@@ -40,6 +40,16 @@ impl<'a> ColumnValues<'a> {
         ColumnValues { raw, fills, fill_with }
     }
 
+    /// [`ColumnValues::new`] with the median given (taken over the whole table by a run
+    /// in parts, [`crate::parts`]) instead of computed from `raw`.
+    pub fn with_median(name: &str, raw: &'a [f64], m: &'a Missing, median: Option<f64>) -> Self {
+        let fill_with = match m.policy_for(name) {
+            MissingPolicy::LeaveOut => None,
+            MissingPolicy::Median => median,
+        };
+        ColumnValues { raw, fills: m.fills_for(name), fill_with }
+    }
+
     pub fn is_missing(&self, row: usize) -> bool {
         is_missing(self.raw[row], self.fills)
     }
@@ -69,7 +79,12 @@ pub fn median_in_place(v: &mut [f64]) -> Option<f64> {
         return Some(upper);
     }
     let lower = v[..n / 2].iter().copied().fold(f64::NEG_INFINITY, f64::max);
-    Some((lower + upper) / 2.0)
+    Some(middle_of(lower, upper))
+}
+
+/// The median of an even count from its two middle values (NumPy's: their mean).
+pub fn middle_of(lower: f64, upper: f64) -> f64 {
+    (lower + upper) / 2.0
 }
 
 #[cfg(test)]

@@ -92,6 +92,163 @@ pub fn build_points(table: &Table, s: &Settings) -> Result<Points> {
 /// The points of `s` over the rows `rows` keeps (every row when `None`); `rows` must be
 /// [`crate::subset::select`]'s answer for `table` and `s`.
 pub fn build_points_in(table: &Table, s: &Settings, rows: Option<&RowSubset>) -> Result<Points> {
+    let subset = rows;
+    let chosen = choose_rows(table, s, 0, None, subset.map(|r| &r.keep[..]))?;
+    let (left_out_by_column, filled_by_column) = chosen.counts.finish(subset)?;
+    let columns = PointsKey::of(s).columns;
+    let d = columns.len();
+    let mut sums = ColumnSums::new(d);
+    sums.add_rows(&chosen.raw);
+    let squares = (s.scaling == Scaling::Zscore).then(|| {
+        let mut q = SquareSums::new(sums.means());
+        q.add_rows(&chosen.raw);
+        q
+    });
+    let scales = scales(s.scaling, &columns, &sums, squares.as_ref()).map_err(|e| match (e, subset) {
+        (Error::Data(m), Some(r)) => Error::Data(m.replacen(
+            "; leave it out",
+            &format!(" (the rows used are those kept by the condition {}); leave it out", r.condition),
+            1,
+        )),
+        (e, _) => e,
+    })?;
+    let m = chosen.rows.len();
+    let data = Array2::from_shape_vec((m, d), scale_rows(chosen.raw, &scales)).expect("m rows of d values");
+    let pts = Points {
+        data,
+        rows: chosen.rows,
+        columns,
+        left_out: chosen.counts.rows - m,
+        not_kept: subset.map_or(0, |r| r.not_kept),
+        not_kept_undecided: subset.map_or(0, |r| r.undecided),
+        left_out_by_column,
+        filled_by_column,
+        set_aside: Vec::new(),
+    };
+    match &s.denoise {
+        Some(dn) => set_aside_far_rows(pts, dn),
+        None => Ok(pts),
+    }
+}
+
+/// The rows of a table (or of one part of a table) that take part, with their values
+/// before scaling. [`build_points`] is this on the whole table, then scaling; a run in
+/// parts ([`crate::parts`]) calls it on each part and merges the counts.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Chosen {
+    /// Table rows of the points: `first_row` plus the row's index in the part, increasing.
+    pub rows: Vec<u32>,
+    /// The chosen columns' values at `rows`, row-major (`rows.len()` × d), median fills
+    /// applied, not scaled.
+    pub raw: Vec<f64>,
+    /// The values of each filter column (`lens.column`, then `lens2.column`) at `rows`,
+    /// fills applied.
+    pub lens_columns: Vec<(String, Vec<f64>)>,
+    pub counts: RowCounts,
+}
+
+/// What choosing the rows counted, in a form that adds up over the parts of a table.
+#[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
+pub struct RowCounts {
+    /// Rows looked at.
+    pub rows: usize,
+    /// Rows that take part.
+    pub kept: usize,
+    /// For each column under the leave-out rule (the chosen columns, then the filter
+    /// columns, each once), the rows without a value there.
+    pub missing: Vec<(String, usize)>,
+    /// For each column under the median policy, the rows taking part that took its median.
+    pub filled: Vec<(String, usize)>,
+    /// Under a row condition: the rows it did not keep, those of them where it could not
+    /// be decided, and the first row it kept (0-based table row).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub condition: Option<ConditionCounts>,
+}
+
+/// What a row condition set aside in one part (see [`RowCounts::condition`]).
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize, serde::Deserialize)]
+pub struct ConditionCounts {
+    pub not_kept: usize,
+    pub undecided: usize,
+    pub first_kept: Option<usize>,
+}
+
+impl RowCounts {
+    /// Adds the counts of another part of the same table under the same settings.
+    pub fn add(&mut self, other: &RowCounts) -> Result<()> {
+        let same = |a: &[(String, usize)], b: &[(String, usize)]| a.len() == b.len() && a.iter().zip(b).all(|(x, y)| x.0 == y.0);
+        if !same(&self.missing, &other.missing) || !same(&self.filled, &other.filled) {
+            return Err(Error::Data("internal: the parts of the table were counted under different missing-value rules".into()));
+        }
+        if self.condition.is_some() != other.condition.is_some() {
+            return Err(Error::Data("internal: the parts of the table were counted under different row conditions".into()));
+        }
+        if let (Some(a), Some(b)) = (&mut self.condition, &other.condition) {
+            a.not_kept += b.not_kept;
+            a.undecided += b.undecided;
+            a.first_kept = match (a.first_kept, b.first_kept) {
+                (Some(x), Some(y)) => Some(x.min(y)),
+                (x, y) => x.or(y),
+            };
+        }
+        self.rows += other.rows;
+        self.kept += other.kept;
+        self.missing.iter_mut().zip(&other.missing).for_each(|(a, b)| a.1 += b.1);
+        self.filled.iter_mut().zip(&other.filled).for_each(|(a, b)| a.1 += b.1);
+        Ok(())
+    }
+
+    /// The rows left out and filled per column (the columns that cost or filled rows),
+    /// or the error for a column with no value in any row, or for no row taking part.
+    /// `subset` is the row condition's answer the rows were chosen among (its words go
+    /// into the errors).
+    pub fn finish(&self, subset: Option<&RowSubset>) -> Result<(Vec<(String, usize)>, Vec<(String, usize)>)> {
+        self.finish_words(subset.map(|r| (r.condition.as_str(), r.kept)))
+    }
+
+    /// [`RowCounts::finish`] with the condition's text and the rows it kept given apart (a
+    /// run in parts has no [`RowSubset`] of the whole table).
+    pub fn finish_words(&self, subset: Option<(&str, usize)>) -> Result<(Vec<(String, usize)>, Vec<(String, usize)>)> {
+        let n = self.rows;
+        let kept_words = |r: (&str, usize)| format!(" of the {} rows kept by the condition {}", r.1, r.0);
+        if let Some((c, _)) = self.missing.iter().find(|(_, k)| *k == n && n > 0) {
+            let place = subset.map_or_else(|| " in any row".to_string(), |r| format!(" in any{}", kept_words(r)));
+            return Err(Error::Data(format!(
+                "column '{c}' has no value{place} (every cell is empty, a missing marker or a fill value); leave it out"
+            )));
+        }
+        let by_column: Vec<(String, usize)> = self.missing.iter().filter(|(_, k)| *k > 0).cloned().collect();
+        if self.kept == 0 {
+            let worst = by_column.iter().max_by_key(|(_, c)| *c).map(|(c, k)| format!(" ('{c}' is missing in {k} rows)")).unwrap_or_default();
+            let place = subset.map_or_else(String::new, kept_words);
+            return Err(Error::Data(format!(
+                "no row{place} has a value in every chosen column{worst}; choose other columns or declare fewer fill values"
+            )));
+        }
+        Ok((by_column, self.filled.iter().filter(|(_, k)| *k > 0).cloned().collect()))
+    }
+}
+
+/// The columns under the median policy among the chosen and filter columns, each once:
+/// the medians a run in parts computes over the whole table and hands to [`choose_rows`].
+pub fn median_columns(s: &Settings) -> Vec<String> {
+    let key = PointsKey::of(s);
+    let mut out: Vec<String> = Vec::new();
+    for c in key.columns.iter().chain(&key.lens_columns) {
+        if s.missing.policy_for(c) == crate::settings::MissingPolicy::Median && !out.contains(c) {
+            out.push(c.clone());
+        }
+    }
+    out
+}
+
+/// The rows of `table` that take part under `s` and their values (see [`Chosen`]).
+/// `first_row` is the table row of the part's first row (0 for a whole table). `medians`
+/// gives the median of each of [`median_columns`] over the whole table (`None` where no
+/// row has a value); when `medians` is `None` they are taken from `table` itself (over the
+/// rows `among` flags). `among` flags the rows the row condition keeps (every row when
+/// `None`): the others are not looked at, nor counted.
+pub fn choose_rows(table: &Table, s: &Settings, first_row: u32, medians: Option<&[(String, Option<f64>)]>, among: Option<&[bool]>) -> Result<Chosen> {
     let key = PointsKey::of(s);
     let mut seen = std::collections::HashSet::new();
     for c in &key.columns {
@@ -99,16 +256,22 @@ pub fn build_points_in(table: &Table, s: &Settings, rows: Option<&RowSubset>) ->
             return Err(Error::settings("columns", format!("column '{c}' is listed twice")));
         }
     }
-    let among = rows.map(|r| &r.keep[..]);
-    let view = |c: &str, field: &str| -> Result<ColumnValues<'_>> { Ok(ColumnValues::among(c, table.numbers(c, field)?, &s.missing, among)) };
+    let view = |c: &str, field: &str| -> Result<ColumnValues<'_>> {
+        let raw = table.numbers(c, field)?;
+        Ok(match medians {
+            None => ColumnValues::among(c, raw, &s.missing, among),
+            Some(m) => ColumnValues::with_median(c, raw, &s.missing, m.iter().find(|(k, _)| k == c).and_then(|(_, v)| *v)),
+        })
+    };
     let cols: Vec<ColumnValues> = key.columns.iter().map(|c| view(c, "columns")).collect::<Result<_>>()?;
     let lens_fields = if matches!(s.lens, Lens::Column { .. }) { ["lens.column", "lens2.column"] } else { ["lens2.column", "lens2.column"] };
     let lens_cols: Vec<ColumnValues> = key.lens_columns.iter().zip(lens_fields).map(|(c, f)| view(c, f)).collect::<Result<_>>()?;
-    let n = rows.map_or(table.n_rows, |r| r.kept);
+    let n = table.n_rows;
+    let looked_at = among.map_or(n, |a| a.iter().filter(|&&k| k).count());
     let d = cols.len();
 
-    let mut keep = rows.map_or_else(|| vec![true; table.n_rows], |r| r.keep.clone());
-    let mut by_column = Vec::new();
+    let mut keep = among.map_or_else(|| vec![true; n], |a| a.to_vec());
+    let mut missing = Vec::new();
     let mut filled_cols = Vec::new();
     for (name, col) in key.columns.iter().zip(&cols).chain(key.lens_columns.iter().zip(&lens_cols)) {
         if col.fill_with.is_some() {
@@ -124,67 +287,140 @@ pub fn build_points_in(table: &Table, s: &Settings, rows: Option<&RowSubset>) ->
                 count += 1;
             }
         }
-        if count > 0 && !by_column.iter().any(|(c, _): &(String, usize)| c == name) {
-            by_column.push((name.clone(), count));
+        if !missing.iter().any(|(c, _): &(String, usize)| c == name) {
+            missing.push((name.clone(), count));
         }
     }
-    let subset = rows;
-    let rows: Vec<u32> = (0..table.n_rows as u32).filter(|&i| keep[i as usize]).collect();
-    let kept_words = |r: &RowSubset| format!(" of the {} rows kept by the condition {}", r.kept, r.condition);
-    if let Some((c, _)) = by_column.iter().find(|(_, k)| *k == n && n > 0) {
-        let place = subset.map_or_else(|| " in any row".to_string(), |r| format!(" in any{}", kept_words(r)));
-        return Err(Error::Data(format!(
-            "column '{c}' has no value{place} (every cell is empty, a missing marker or a fill value); leave it out"
-        )));
-    }
-    let filled_by_column: Vec<(String, usize)> = filled_cols
-        .iter()
-        .map(|(name, col)| ((*name).clone(), rows.iter().filter(|&&r| col.is_missing(r as usize)).count()))
-        .filter(|(_, k)| *k > 0)
-        .collect();
-    if rows.is_empty() {
-        let worst = by_column.iter().max_by_key(|(_, c)| *c).map(|(c, k)| format!(" ('{c}' is missing in {k} rows)")).unwrap_or_default();
-        let place = subset.map_or_else(String::new, kept_words);
-        return Err(Error::Data(format!(
-            "no row{place} has a value in every chosen column{worst}; choose other columns or declare fewer fill values"
-        )));
-    }
-    let m = rows.len();
-    let mut values = Vec::with_capacity(m);
-    let mut scales = Vec::with_capacity(d);
-    for (j, col) in cols.iter().enumerate() {
-        values.clear();
-        values.extend(rows.iter().map(|&r| col.get(r as usize).expect("kept rows have a value or a fill")));
-        scales.push(scaling_of(&values, s.scaling).map_err(|why| {
-            let kept = subset.map_or_else(String::new, |r| format!(" (the rows used are those kept by the condition {})", r.condition));
-            Error::Data(format!("column '{}' {why}{kept}; leave it out or choose scaling 'none'", key.columns[j]))
-        })?);
-    }
-    drop(values);
+    let local: Vec<u32> = (0..n as u32).filter(|&i| keep[i as usize]).collect();
+    let filled: Vec<(String, usize)> =
+        filled_cols.iter().map(|(name, col)| ((*name).clone(), local.iter().filter(|&&r| col.is_missing(r as usize)).count())).collect();
     // Written row by row: one pass over the rows in memory order (a column at a time wrote
     // one value per cache line of a large table, `d` times over).
-    let mut flat = Vec::with_capacity(m * d);
-    for &r in &rows {
-        flat.extend(cols.iter().zip(&scales).map(|(col, &(shift, scale))| {
-            (col.get(r as usize).expect("kept rows have a value or a fill") - shift) / scale
-        }));
+    let mut raw = Vec::with_capacity(local.len() * d);
+    for &r in &local {
+        raw.extend(cols.iter().map(|col| col.get(r as usize).expect("kept rows have a value or a fill")));
     }
-    let data = Array2::from_shape_vec((m, d), flat).expect("m rows of d values");
-    let pts = Points {
-        data,
-        rows,
-        columns: key.columns,
-        left_out: n - m,
-        not_kept: subset.map_or(0, |r| r.not_kept),
-        not_kept_undecided: subset.map_or(0, |r| r.undecided),
-        left_out_by_column: by_column,
-        filled_by_column,
-        set_aside: Vec::new(),
-    };
-    match &s.denoise {
-        Some(dn) => set_aside_far_rows(pts, dn),
-        None => Ok(pts),
+    let lens_columns = key
+        .lens_columns
+        .iter()
+        .zip(&lens_cols)
+        .map(|(name, col)| (name.clone(), local.iter().map(|&r| col.get(r as usize).expect("kept rows have a filter value")).collect()))
+        .collect();
+    // What the condition set aside is counted by its caller ([`crate::parts::choose`]).
+    let counts = RowCounts { rows: looked_at, kept: local.len(), missing, filled, condition: None };
+    Ok(Chosen { rows: local.into_iter().map(|r| first_row + r).collect(), raw, lens_columns, counts })
+}
+
+/// Running sums, least and greatest value of each of d columns over rows added in table
+/// order: the one order in which the engine and a run in parts ([`crate::parts`], part
+/// after part) add, so both get the same bits.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ColumnSums {
+    pub count: usize,
+    pub sum: Vec<f64>,
+    pub lo: Vec<f64>,
+    pub hi: Vec<f64>,
+}
+
+impl ColumnSums {
+    pub fn new(d: usize) -> Self {
+        ColumnSums { count: 0, sum: vec![0.0; d], lo: vec![f64::INFINITY; d], hi: vec![f64::NEG_INFINITY; d] }
     }
+
+    /// Adds rows given row-major, d values each, in order.
+    pub fn add_rows(&mut self, rows: &[f64]) {
+        let d = self.sum.len();
+        if d == 0 {
+            return;
+        }
+        for row in rows.chunks_exact(d) {
+            for (j, &x) in row.iter().enumerate() {
+                self.sum[j] += x;
+                self.lo[j] = self.lo[j].min(x);
+                self.hi[j] = self.hi[j].max(x);
+            }
+        }
+        self.count += rows.len() / d;
+    }
+
+    /// Each column's mean (sum / count).
+    pub fn means(&self) -> Vec<f64> {
+        let m = self.count as f64;
+        self.sum.iter().map(|s| s / m).collect()
+    }
+}
+
+/// Running sums of squared deviations from given means, rows added in table order (the
+/// second pass of the z-score).
+#[derive(Debug, Clone, PartialEq)]
+pub struct SquareSums {
+    pub means: Vec<f64>,
+    pub sq: Vec<f64>,
+}
+
+impl SquareSums {
+    pub fn new(means: Vec<f64>) -> Self {
+        let d = means.len();
+        SquareSums { means, sq: vec![0.0; d] }
+    }
+
+    pub fn add_rows(&mut self, rows: &[f64]) {
+        let d = self.means.len();
+        if d == 0 {
+            return;
+        }
+        for row in rows.chunks_exact(d) {
+            for (j, &x) in row.iter().enumerate() {
+                self.sq[j] += (x - self.means[j]).powi(2);
+            }
+        }
+    }
+}
+
+/// (shift, scale) of each column so that (x - shift) / scale is its scaled value: from
+/// the sums over the rows taking part (and, for the z-score, the squared deviations from
+/// their means); the error names the first column that cannot be scaled.
+pub fn scales(scaling: Scaling, columns: &[String], sums: &ColumnSums, squares: Option<&SquareSums>) -> Result<Vec<(f64, f64)>> {
+    let m = sums.count as f64;
+    (0..columns.len())
+        .map(|j| {
+            let r = match scaling {
+                Scaling::None => Ok((0.0, 1.0)),
+                Scaling::Zscore => {
+                    let mean = sums.sum[j] / m;
+                    let sq = squares.expect("the z-score needs its second pass").sq[j];
+                    let sd = (sq / m).sqrt();
+                    if !(sd > 0.0) || !sd.is_finite() {
+                        Err("has the same value in every used row, so z-score cannot scale it")
+                    } else {
+                        Ok((mean, sd))
+                    }
+                }
+                Scaling::MinMax => {
+                    let (lo, hi) = (sums.lo[j], sums.hi[j]);
+                    if !(hi > lo) || !(hi - lo).is_finite() {
+                        Err("has the same value in every used row, so min-max cannot scale it")
+                    } else {
+                        Ok((lo, hi - lo))
+                    }
+                }
+            };
+            r.map_err(|why| Error::Data(format!("column '{}' {why}; leave it out or choose scaling 'none'", columns[j])))
+        })
+        .collect()
+}
+
+/// Rows (row-major, one (shift, scale) per column) scaled in place: (x - shift) / scale.
+pub fn scale_rows(mut raw: Vec<f64>, scales: &[(f64, f64)]) -> Vec<f64> {
+    let d = scales.len();
+    if d > 0 {
+        for row in raw.chunks_exact_mut(d) {
+            for (x, &(shift, scale)) in row.iter_mut().zip(scales) {
+                *x = (*x - shift) / scale;
+            }
+        }
+    }
+    raw
 }
 
 /// The denoising stage: each point's value under `dn.measure` with `dn.k` neighbours
@@ -234,30 +470,6 @@ pub fn quantile(values: &[f64], q: f64) -> f64 {
     let lo = pos.floor() as usize;
     let hi = (lo + 1).min(v.len() - 1);
     v[lo] + (pos - lo as f64) * (v[hi] - v[lo])
-}
-
-/// (shift, scale) so that (x - shift) / scale is the scaled value, from the used values.
-fn scaling_of(values: &[f64], scaling: Scaling) -> std::result::Result<(f64, f64), &'static str> {
-    let m = values.len() as f64;
-    match scaling {
-        Scaling::None => Ok((0.0, 1.0)),
-        Scaling::Zscore => {
-            let mean = values.iter().sum::<f64>() / m;
-            let var = values.iter().map(|&x| (x - mean).powi(2)).sum::<f64>() / m;
-            let sd = var.sqrt();
-            if !(sd > 0.0) || !sd.is_finite() {
-                return Err("has the same value in every used row, so z-score cannot scale it");
-            }
-            Ok((mean, sd))
-        }
-        Scaling::MinMax => {
-            let (lo, hi) = values.iter().fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), &x| (lo.min(x), hi.max(x)));
-            if !(hi > lo) || !(hi - lo).is_finite() {
-                return Err("has the same value in every used row, so min-max cannot scale it");
-            }
-            Ok((lo, hi - lo))
-        }
-    }
 }
 
 #[cfg(test)]

@@ -51,32 +51,50 @@ pub fn validate(text: &str) -> Result<()> {
 /// The rows of `table` (with the settings' derived columns already appended) that the
 /// settings' condition keeps, or `None` when there is no condition (every row).
 pub fn select(table: &Table, s: &Settings) -> Result<Option<RowSubset>> {
+    let Some((keep, undecided)) = flags(table, s)? else { return Ok(None) };
+    let kept = keep.iter().filter(|&&k| k).count();
+    let first_kept = keep.iter().position(|&k| k);
+    check_kept(s, &table.name, table.n_rows, kept, undecided, first_kept)?;
+    let text = s.keep_rows.clone().expect("a condition");
+    Ok(Some(RowSubset { condition: text, keep, kept, not_kept: table.n_rows - kept, undecided }))
+}
+
+/// The condition's verdict on each row of `table` (kept or not) and the number of rows
+/// where it could not be decided, with no check on how many rows it keeps; `None` when
+/// there is no condition. A run in parts ([`crate::parts`]) calls it on each part (the
+/// verdict of a row reads that row alone) and checks the totals with [`check_kept`].
+pub fn flags(table: &Table, s: &Settings) -> Result<Option<(Vec<bool>, usize)>> {
     let Some(text) = &s.keep_rows else { return Ok(None) };
     validate(text)?;
     let e = derive::parse_condition(text).expect("validated");
     let verdicts = condition::verdicts(&e, table, &s.missing).map_err(|err| Error::settings(FIELD, err.render(text)))?;
     let keep: Vec<bool> = verdicts.iter().map(|&v| v == condition::YES).collect();
-    let kept = keep.iter().filter(|&&k| k).count();
     let undecided = verdicts.iter().filter(|&&v| v == condition::UNKNOWN).count();
-    let not_kept = table.n_rows - kept;
+    Ok(Some((keep, undecided)))
+}
+
+/// Refuses a condition that keeps no row or a single row (0-based `first_kept`) of the
+/// `n_rows` rows of the table named `name`.
+pub fn check_kept(s: &Settings, name: &str, n_rows: usize, kept: usize, undecided: usize, first_kept: Option<usize>) -> Result<()> {
+    let Some(text) = &s.keep_rows else { return Ok(()) };
     let why = if undecided > 0 {
-        format!(" ({undecided} of the {} rows could not be decided: a value the condition reads is missing there)", table.n_rows)
+        format!(" ({undecided} of the {n_rows} rows could not be decided: a value the condition reads is missing there)")
     } else {
         String::new()
     };
     match kept {
         0 => Err(Error::settings(
             FIELD,
-            format!("no row of {} satisfies the condition {text}{why}; a graph needs at least two rows: widen the condition or clear it", table.name),
+            format!("no row of {name} satisfies the condition {text}{why}; a graph needs at least two rows: widen the condition or clear it"),
         )),
         1 => {
-            let row = keep.iter().position(|&k| k).expect("one row kept") + 1;
+            let row = first_kept.expect("one row kept") + 1;
             Err(Error::settings(
                 FIELD,
-                format!("only data row {row} of {} satisfies the condition {text}{why}; a graph needs at least two rows: widen the condition or clear it", table.name),
+                format!("only data row {row} of {name} satisfies the condition {text}{why}; a graph needs at least two rows: widen the condition or clear it"),
             ))
         }
-        _ => Ok(Some(RowSubset { condition: text.clone(), keep, kept, not_kept, undecided })),
+        _ => Ok(()),
     }
 }
 

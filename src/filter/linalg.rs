@@ -2,34 +2,79 @@
 //! columns, so tens at most): column means, covariance, a symmetric eigensolver and a
 //! Cholesky factor. Not for large matrices.
 
-use ndarray::{Array1, Array2, ArrayView2, Axis};
+use ndarray::{Array1, Array2, ArrayView2};
 
-/// Column means of an n × d matrix.
+/// Column means of an n × d matrix: sums over the rows in order ([`crate::points::ColumnSums`],
+/// the order a run in parts repeats), divided by n; zeros for no row.
 pub fn column_means(x: ArrayView2<f64>) -> Array1<f64> {
-    x.mean_axis(Axis(0)).unwrap_or_else(|| Array1::zeros(x.ncols()))
+    let (n, d) = x.dim();
+    if n == 0 {
+        return Array1::zeros(d);
+    }
+    let mut sums = crate::points::ColumnSums::new(d);
+    for row in x.rows() {
+        sums.add_rows(&row.to_vec());
+    }
+    Array1::from(sums.means())
 }
 
 /// Covariance with divisor n - ddof (NumPy's `np.cov` uses ddof = 1).
 pub fn covariance(x: ArrayView2<f64>, ddof: usize) -> Array2<f64> {
-    let (n, d) = x.dim();
     let mu = column_means(x);
-    let mut c = Array2::<f64>::zeros((d, d));
+    let mut c = CrossSums::new(mu.to_vec());
     for row in x.rows() {
+        c.add_rows(&row.to_vec());
+    }
+    c.finish(ddof)
+}
+
+/// Running sums of the products of centred columns over rows added in table order (the
+/// second pass of a covariance, the first being the means): the engine adds all rows at
+/// once, a run in parts ([`crate::parts`]) part after part, with the same bits.
+#[derive(Debug, Clone, PartialEq)]
+pub struct CrossSums {
+    pub mu: Vec<f64>,
+    /// d × d, row-major; only the upper triangle (j >= i) is summed.
+    pub c: Vec<f64>,
+    pub count: usize,
+}
+
+impl CrossSums {
+    pub fn new(mu: Vec<f64>) -> Self {
+        let d = mu.len();
+        CrossSums { mu, c: vec![0.0; d * d], count: 0 }
+    }
+
+    /// Adds rows given row-major, d values each, in order.
+    pub fn add_rows(&mut self, rows: &[f64]) {
+        let d = self.mu.len();
+        if d == 0 {
+            return;
+        }
+        for row in rows.chunks_exact(d) {
+            for i in 0..d {
+                let a = row[i] - self.mu[i];
+                for j in i..d {
+                    self.c[i * d + j] += a * (row[j] - self.mu[j]);
+                }
+            }
+            self.count += 1;
+        }
+    }
+
+    /// The covariance matrix, divisor n - ddof (at least 1).
+    pub fn finish(&self, ddof: usize) -> Array2<f64> {
+        let d = self.mu.len();
+        let div = (self.count.saturating_sub(ddof)).max(1) as f64;
+        let mut c = Array2::<f64>::zeros((d, d));
         for i in 0..d {
-            let a = row[i] - mu[i];
             for j in i..d {
-                c[[i, j]] += a * (row[j] - mu[j]);
+                c[[i, j]] = self.c[i * d + j] / div;
+                c[[j, i]] = c[[i, j]];
             }
         }
+        c
     }
-    let div = (n.saturating_sub(ddof)).max(1) as f64;
-    for i in 0..d {
-        for j in i..d {
-            c[[i, j]] /= div;
-            c[[j, i]] = c[[i, j]];
-        }
-    }
-    c
 }
 
 /// Eigenvalues (descending) and unit eigenvectors (as columns, same order) of a symmetric

@@ -34,7 +34,12 @@ pub fn compute_lens_of(table: &Table, points: &Points, lens: &Lens, s: &Settings
     let x = points.data.view();
     let out = match lens {
         Lens::Column { column } => {
-            let col = crate::missing::ColumnValues::new(column, table.numbers(column, &format!("{field}.column"))?, &s.missing);
+            let raw = table.numbers(column, &format!("{field}.column"))?;
+            // Under the median policy, the median of the rows the row condition keeps, as
+            // the points' own columns take it ([`crate::points`]).
+            let median_among = s.keep_rows.is_some() && s.missing.policy_for(column) == crate::settings::MissingPolicy::Median;
+            let kept = if median_among { crate::subset::select(table, s)? } else { None };
+            let col = crate::missing::ColumnValues::among(column, raw, &s.missing, kept.as_ref().map(|k| &k.keep[..]));
             // Rows without a value (and no fill) are not points, so `get` always answers.
             Ok(points.rows.iter().map(|&r| col.get(r as usize).unwrap_or(f64::NAN)).collect())
         }
@@ -60,6 +65,16 @@ pub fn compute_lens_of(table: &Table, points: &Points, lens: &Lens, s: &Settings
 /// that the eigenvector's largest-magnitude loading is positive.
 pub fn principal_scores(x: ArrayView2<f64>, component: usize) -> Result<Vec<f64>> {
     let (n, d) = x.dim();
+    check_component(component, d, n)?;
+    let cov = linalg::covariance(x, 1);
+    let v = principal_axis(&cov, component);
+    let mu = linalg::column_means(x).to_vec();
+    Ok(x.rows().into_iter().map(|r| project(&r.to_vec(), &mu, &v)).collect())
+}
+
+/// The checks of [`principal_scores`] before any work: the component exists among `d`
+/// columns, and there are at least 2 of `n` points.
+pub fn check_component(component: usize, d: usize, n: usize) -> Result<()> {
     if component == 0 || component > d {
         return Err(Error::settings(
             "lens.component",
@@ -69,11 +84,19 @@ pub fn principal_scores(x: ArrayView2<f64>, component: usize) -> Result<Vec<f64>
     if n < 2 {
         return Err(Error::Data("principal components need at least 2 rows".into()));
     }
-    let cov = linalg::covariance(x, 1);
-    let (_, vecs) = linalg::symmetric_eigen(&cov);
-    let v = vecs.column(component - 1);
-    let mu = linalg::column_means(x);
-    Ok(x.rows().into_iter().map(|r| r.iter().zip(mu.iter()).zip(v.iter()).map(|((a, m), w)| (a - m) * w).sum()).collect())
+    Ok(())
+}
+
+/// The unit eigenvector of principal component `component` of a covariance matrix, sign
+/// fixed as [`linalg::symmetric_eigen`] fixes it.
+pub fn principal_axis(cov: &ndarray::Array2<f64>, component: usize) -> Vec<f64> {
+    let (_, vecs) = linalg::symmetric_eigen(cov);
+    vecs.column(component - 1).to_vec()
+}
+
+/// One point's score: its centred values (`row` - `mu`) projected on `v`.
+pub fn project(row: &[f64], mu: &[f64], v: &[f64]) -> f64 {
+    row.iter().zip(mu).zip(v).map(|((a, m), w)| (a - m) * w).sum()
 }
 
 /// Exact Gaussian kernel density at every point, as SciPy's `gaussian_kde` defines it:
@@ -82,6 +105,60 @@ pub fn principal_scores(x: ArrayView2<f64>, component: usize) -> Result<Vec<f64>
 /// normal density. O(n² d).
 pub fn density(x: ArrayView2<f64>, bandwidth: Option<f64>) -> Result<Vec<f64>> {
     density_estimate(x, bandwidth, usize::MAX, 0)
+}
+
+/// The point indices among `n` that the O(n²) filters sum over: all of them up to
+/// `limit`, else a seeded subsample of `limit` (increasing).
+pub fn reference_points(n: usize, limit: usize, seed: u64) -> Vec<usize> {
+    if n > limit { SplitMix64::new(seed).sample_indices(n, limit) } else { (0..n).collect() }
+}
+
+/// The Gaussian kernel of [`density_estimate`]: the Cholesky factor of the kernel
+/// covariance and the log of the normal density's constant.
+#[derive(Debug, Clone)]
+pub struct Kernel {
+    l: ndarray::Array2<f64>,
+    log_norm: f64,
+}
+
+impl Kernel {
+    /// The kernel of `n` points of `d` columns with data covariance `cov` (ddof = 1).
+    pub fn new(mut cov: ndarray::Array2<f64>, n: usize, bandwidth: Option<f64>) -> Result<Kernel> {
+        let d = cov.nrows();
+        if n < 2 {
+            return Err(Error::Data("a density needs at least 2 rows".into()));
+        }
+        let factor = bandwidth.unwrap_or_else(|| (n as f64).powf(-1.0 / (d as f64 + 4.0)));
+        cov.mapv_inplace(|c| c * factor * factor);
+        let l = linalg::cholesky(&cov).ok_or_else(|| {
+            Error::Data("the chosen columns are constant or perfectly correlated, so a density over them is undefined; leave one out".into())
+        })?;
+        let log_norm = 0.5 * d as f64 * (2.0 * std::f64::consts::PI).ln() + (0..d).map(|i| l[[i, i]].ln()).sum::<f64>();
+        Ok(Kernel { l, log_norm })
+    }
+
+    /// A point whitened: y = L⁻¹ x, so (x-xi)ᵀ Σ⁻¹ (x-xi) = |y - yi|².
+    pub fn whiten(&self, row: &[f64]) -> Vec<f64> {
+        let mut out = row.to_vec();
+        linalg::forward_substitute(&self.l, &mut out);
+        out
+    }
+
+    /// The density at whitened point `yi` from the `refs` whitened reference points
+    /// (row-major, in order): the mean of the kernel over them.
+    pub fn value(&self, yi: &[f64], refs: &[f64]) -> f64 {
+        let d = yi.len().max(1);
+        let m = (refs.len() / d) as f64;
+        let scale = (-self.log_norm).exp() / m;
+        let s: f64 = refs
+            .chunks_exact(d)
+            .map(|yj| {
+                let q: f64 = yi.iter().zip(yj).map(|(a, b)| (a - b) * (a - b)).sum();
+                (-0.5 * q).exp()
+            })
+            .sum();
+        s * scale
+    }
 }
 
 /// [`density`], with the kernel sum taken over a seeded subsample of `limit` reference
@@ -94,37 +171,16 @@ pub fn density_estimate(x: ArrayView2<f64>, bandwidth: Option<f64>, limit: usize
     if n < 2 {
         return Err(Error::Data("a density needs at least 2 rows".into()));
     }
-    let factor = bandwidth.unwrap_or_else(|| (n as f64).powf(-1.0 / (d as f64 + 4.0)));
-    let mut cov = linalg::covariance(x, 1);
-    cov.mapv_inplace(|c| c * factor * factor);
-    let l = linalg::cholesky(&cov).ok_or_else(|| {
-        Error::Data("the chosen columns are constant or perfectly correlated, so a density over them is undefined; leave one out".into())
-    })?;
-    // Whitened points: y = L⁻¹ x, so (x-xi)ᵀ Σ⁻¹ (x-xi) = |y - yi|².
-    let mut y = vec![0.0; n * d];
-    for (i, row) in x.rows().into_iter().enumerate() {
-        let out = &mut y[i * d..(i + 1) * d];
-        out.copy_from_slice(row.as_slice().expect("points are contiguous"));
-        linalg::forward_substitute(&l, out);
+    let kernel = Kernel::new(linalg::covariance(x, 1), n, bandwidth)?;
+    let mut y = Vec::with_capacity(n * d);
+    for row in x.rows() {
+        y.extend(kernel.whiten(&row.to_vec()));
     }
-    let log_norm = 0.5 * d as f64 * (2.0 * std::f64::consts::PI).ln() + (0..d).map(|i| l[[i, i]].ln()).sum::<f64>();
-    let refs: Vec<usize> = if n > limit { SplitMix64::new(seed).sample_indices(n, limit) } else { (0..n).collect() };
-    let m = refs.len() as f64;
-    let scale = (-log_norm).exp() / m;
-    Ok((0..n)
-        .map(|i| {
-            let yi = &y[i * d..(i + 1) * d];
-            let s: f64 = refs
-                .iter()
-                .map(|&j| {
-                    let yj = &y[j * d..(j + 1) * d];
-                    let q: f64 = yi.iter().zip(yj).map(|(a, b)| (a - b) * (a - b)).sum();
-                    (-0.5 * q).exp()
-                })
-                .sum();
-            s * scale
-        })
-        .collect())
+    let mut refs = Vec::new();
+    for j in reference_points(n, limit, seed) {
+        refs.extend_from_slice(&y[j * d..(j + 1) * d]);
+    }
+    Ok((0..n).map(|i| kernel.value(&y[i * d..(i + 1) * d], &refs)).collect())
 }
 
 /// Exact eccentricity (Singh, Mémoli, Carlsson 2007, §4.2): for p = 1, 2 the p-mean of
@@ -132,6 +188,31 @@ pub fn density_estimate(x: ArrayView2<f64>, bandwidth: Option<f64>, limit: usize
 /// largest such distance.
 pub fn eccentricity(x: ArrayView2<f64>, norm: Spread) -> Result<Vec<f64>> {
     eccentricity_estimate(x, norm, usize::MAX, 0)
+}
+
+/// A point's squared length, as the root-mean-square eccentricity sums it.
+pub fn norm_sq(row: &[f64]) -> f64 {
+    let r = ndarray::ArrayView1::from(row);
+    r.dot(&r)
+}
+
+/// Root-mean-square eccentricity of one point from the points' means `mu` and the mean
+/// of their squared lengths ([`norm_sq`]).
+pub fn rms_eccentricity(row: &[f64], mu: &[f64], mean_sq: f64) -> f64 {
+    let r = ndarray::ArrayView1::from(row);
+    let v = r.dot(&r) - 2.0 * r.dot(&ndarray::ArrayView1::from(mu)) + mean_sq;
+    v.max(0.0).sqrt()
+}
+
+/// The mean (`Spread::Mean`) or largest (otherwise) distance from `xi` to the reference
+/// points `refs` (row-major, in order).
+pub fn spread_to(xi: &[f64], refs: &[f64], norm: Spread) -> f64 {
+    let d = xi.len().max(1);
+    let dists = refs.chunks_exact(d).map(|xj| xi.iter().zip(xj).map(|(a, b)| (a - b) * (a - b)).sum::<f64>().sqrt());
+    match norm {
+        Spread::Mean => dists.sum::<f64>() / (refs.len() / d) as f64,
+        _ => dists.fold(0.0, f64::max),
+    }
 }
 
 /// [`eccentricity`], exact for [`Spread::Rms`] at any size (Σ|x-y|² = n|x|² - 2x·Σy + Σ|y|²,
@@ -144,34 +225,18 @@ pub fn eccentricity_estimate(x: ArrayView2<f64>, norm: Spread, limit: usize, see
     if n == 0 {
         return Err(Error::Data("no rows".into()));
     }
-    if norm == Spread::Rms {
-        let mu = linalg::column_means(x);
-        let mean_sq: f64 = x.rows().into_iter().map(|r| r.dot(&r)).sum::<f64>() / n as f64;
-        return Ok(x
-            .rows()
-            .into_iter()
-            .map(|r| {
-                let v = r.dot(&r) - 2.0 * r.dot(&mu) + mean_sq;
-                v.max(0.0).sqrt()
-            })
-            .collect());
-    }
-    let refs: Vec<usize> = if n > limit { SplitMix64::new(seed).sample_indices(n, limit) } else { (0..n).collect() };
     let flat = x.as_standard_layout();
     let flat = flat.as_slice().expect("standard layout");
-    Ok((0..n)
-        .map(|i| {
-            let xi = &flat[i * d..(i + 1) * d];
-            let dists = refs.iter().map(|&j| {
-                let xj = &flat[j * d..(j + 1) * d];
-                xi.iter().zip(xj).map(|(a, b)| (a - b) * (a - b)).sum::<f64>().sqrt()
-            });
-            match norm {
-                Spread::Mean => dists.sum::<f64>() / refs.len() as f64,
-                _ => dists.fold(0.0, f64::max),
-            }
-        })
-        .collect())
+    if norm == Spread::Rms {
+        let mu = linalg::column_means(x).to_vec();
+        let mean_sq: f64 = flat.chunks_exact(d.max(1)).map(norm_sq).sum::<f64>() / n as f64;
+        return Ok(flat.chunks_exact(d.max(1)).map(|r| rms_eccentricity(r, &mu, mean_sq)).collect());
+    }
+    let mut refs = Vec::new();
+    for j in reference_points(n, limit, seed) {
+        refs.extend_from_slice(&flat[j * d..(j + 1) * d]);
+    }
+    Ok((0..n).map(|i| spread_to(&flat[i * d..(i + 1) * d], &refs, norm)).collect())
 }
 
 #[cfg(test)]

@@ -424,6 +424,18 @@ impl ColumnBuilder {
         Ok(())
     }
 
+    /// The column as text from here on: numbers read so far become their texts as
+    /// [`ColumnBuilder::push`] writes them when a text turns up, and every later cell is
+    /// kept as text. A run over a table in parts ([`crate::parts::read_cells`]) reads so
+    /// the parts before and after the part where a column's first text stands.
+    pub fn as_text(mut self) -> Self {
+        if matches!(self.kind, Kind::Number(_)) {
+            self.become_category(0, "");
+            self.first_text = None;
+        }
+        self
+    }
+
     fn become_category(&mut self, row: usize, text: &str) {
         let Kind::Number(values) = &self.kind else { return };
         let mut codes = Vec::with_capacity(values.len() + 1);
@@ -465,12 +477,24 @@ impl ColumnBuilder {
     /// The column: numbers, or text typed by [`Column::from_text`] (a time column when its
     /// values are date-times).
     pub fn finish(self) -> Column {
+        self.finish_typed(true)
+    }
+
+    /// [`ColumnBuilder::finish`]; with `typed` false a column of text stays a category
+    /// column even when its values are date-times: one part of a column read by
+    /// [`crate::parts::read_cells`], typed later from the whole column's levels.
+    pub fn finish_typed(self, typed: bool) -> Column {
         match self.kind {
             Kind::Number(values) => Column::of(self.name, ColumnData::numbers(values)),
             Kind::Category { codes, index, .. } => {
                 let mut levels = vec![String::new(); index.len()];
                 for (text, code) in index {
                     levels[code as usize] = text;
+                }
+                if !typed {
+                    let mut col = Column::category(self.name, codes, levels);
+                    col.first_text = self.first_text;
+                    return col;
                 }
                 let mut col = Column::from_text(self.name, codes, levels);
                 if !col.is_time() {

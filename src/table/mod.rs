@@ -7,7 +7,7 @@
 //! This module parses and types; choosing columns, fill values and scaling happen later,
 //! in [`crate::points`], so changing them never re-reads the file.
 
-mod cells;
+pub(crate) mod cells;
 mod encoding;
 pub mod icartt;
 pub mod ingest;

@@ -261,6 +261,7 @@ pub fn graph_file(s: &Settings, g: Gathered) -> Result<GraphFile> {
         left_out_by_column,
         filled_by_column,
         warnings: settings_warnings(s, kept),
+        first_look: None,
     };
     let nodes = g
         .nodes

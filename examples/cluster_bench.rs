@@ -2,7 +2,8 @@
 //! thread (what a pool helper of the page does with each element), for profiling and for
 //! comparing two builds of the clustering on the same elements. Prints one line per
 //! element and a total; with `--dump DIR` it also writes each element's points as raw
-//! little-endian f64 values (row-major) for closer study.
+//! little-endian f64 values (row-major) for closer study, and the settings used as
+//! `DIR/settings.json` (tests/bench/cluster.mjs clusters the same files as wasm).
 //!
 //!   cargo build --release --example cluster_bench
 //!   $CARGO_TARGET_DIR/release/examples/cluster_bench DATA.csv [--settings S.json] [--element E] [--dump DIR]
@@ -63,6 +64,9 @@ fn main() {
     let mut bench = Workbench::new();
     bench.set_table(reader.finish().expect("read"));
     let settings = settings.unwrap_or_else(|| bench.auto_settings().expect("automatic settings"));
+    if let Some(d) = &dump {
+        std::fs::write(format!("{d}/settings.json"), settings.to_json()).expect("dump");
+    }
     let n = bench.prepare_elements(&settings, &mut |_, _| {}).expect("prepare");
     let dim = bench.point_dim();
     println!("{n} elements, {dim} columns, clustering {:?}", settings.clustering);
@@ -79,7 +83,7 @@ fn main() {
         total += secs;
         let k = labels.iter().flatten().max().map_or(0, |&c| c + 1);
         let noise = labels.iter().filter(|l| l.is_none()).count();
-        println!("element {e}: {} points, {secs:.3} s, {k} clusters, {noise} noise, labels {:016x}", pts.len() / dim, digest(&labels));
+        println!("element {e}: {} points, {secs:.6} s, {k} clusters, {noise} noise, labels {:016x}", pts.len() / dim, digest(&labels));
     }
     println!("total {total:.3} s");
 }

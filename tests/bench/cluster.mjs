@@ -24,11 +24,10 @@
 
 import { readFileSync, writeFileSync, mkdtempSync, rmSync, readdirSync } from "node:fs";
 import { execFileSync } from "node:child_process";
-import { gunzipSync } from "node:zlib";
 import { tmpdir } from "node:os";
 import { dirname, join, resolve } from "node:path";
 import { fileURLToPath, pathToFileURL } from "node:url";
-import vm from "node:vm";
+import { workerSource, loadInNode } from "./page-wasm.mjs";
 
 const here = dirname(fileURLToPath(import.meta.url));
 const root = join(here, "..", "..");
@@ -46,13 +45,6 @@ const data = args[0];
 if (!data) {
   console.error("usage: node tests/bench/cluster.mjs DATA.csv [--settings S.json] [--html PAGE.html] [--native BINARY] [--repeat N] [--no-chromium] [--json]");
   process.exit(2);
-}
-
-/** The worker's source as the page holds it: glue, then the wasm, then worker.js. */
-function workerSource() {
-  const html = readFileSync(htmlPath, "utf8");
-  const open = html.indexOf('id="nervure-worker-source">');
-  return html.slice(html.indexOf(">", open) + 1, html.indexOf("</script>", open));
 }
 
 /** Clusters each element `repeat` times, keeps the fastest time and the labels' digest
@@ -107,13 +99,7 @@ function readElement(dir, e) {
 }
 
 async function runNode(dir, n, dim, clustering) {
-  const source = workerSource();
-  const marker = 'self.NERVURE_WASM_GZIP_BASE64 = "';
-  const at = source.indexOf(marker);
-  const wasm = gunzipSync(Buffer.from(source.slice(at + marker.length, source.indexOf('"', at + marker.length)), "base64"));
-  globalThis.self = globalThis;
-  vm.runInThisContext(source.slice(0, at) + "\n;globalThis.wasm_bindgen = wasm_bindgen;\n" + TIMING + "\n;globalThis.timeElements = timeElements;");
-  await globalThis.wasm_bindgen({ module_or_path: wasm });
+  await loadInNode(htmlPath, TIMING, ["timeElements"]);
   const elements = [];
   for (let e = 0; e < n; e++) elements.push(readElement(dir, e));
   return globalThis.timeElements(elements, dim, clustering, repeat);
@@ -130,7 +116,7 @@ self.onmessage = async function (event) {
   const elements = event.data.files.map((f) => new Float64Array(reader.readAsArrayBuffer(f)));
   self.postMessage(timeElements(elements, event.data.dim, event.data.clustering, event.data.repeat));
 };`;
-    const workerText = workerSource() + "\n" + TIMING + "\n" + probe;
+    const workerText = workerSource(htmlPath) + "\n" + TIMING + "\n" + probe;
     writeFileSync(join(work, "probe.html"), `<!doctype html><input type="file" id="f" multiple>`);
     const context = await chromium.launchPersistentContext(join(work, "profile"), {
       executablePath: process.env.CHROMIUM || "/usr/bin/chromium", headless: true,

@@ -19,11 +19,10 @@
 
 import { readFileSync, writeFileSync, mkdtempSync, rmSync, openSync, readSync, fstatSync, closeSync } from "node:fs";
 import { execFileSync } from "node:child_process";
-import { gunzipSync } from "node:zlib";
 import { tmpdir } from "node:os";
 import { dirname, join, resolve } from "node:path";
 import { fileURLToPath, pathToFileURL } from "node:url";
-import vm from "node:vm";
+import { workerSource, loadInNode } from "./page-wasm.mjs";
 
 const here = dirname(fileURLToPath(import.meta.url));
 const root = join(here, "..", "..");
@@ -42,13 +41,6 @@ if (!data) {
 }
 const SLICE_BYTES = 4 << 20;
 const size = fstatSync(openSync(data, "r")).size;
-
-/** The worker's source as the page holds it: glue, then the wasm, then worker.js. */
-function workerSource() {
-  const html = readFileSync(htmlPath, "utf8");
-  const open = html.indexOf('id="nervure-worker-source">');
-  return html.slice(html.indexOf(">", open) + 1, html.indexOf("</script>", open));
-}
 
 /** The phases, timed the same way in node and in the worker (this text runs in both). */
 const PHASES = `
@@ -91,13 +83,7 @@ function withRates(t) {
 }
 
 async function runNode() {
-  const source = workerSource();
-  const marker = 'self.NERVURE_WASM_GZIP_BASE64 = "';
-  const at = source.indexOf(marker);
-  const wasm = gunzipSync(Buffer.from(source.slice(at + marker.length, source.indexOf('"', at + marker.length)), "base64"));
-  globalThis.self = globalThis;
-  vm.runInThisContext(source.slice(0, at) + "\n;globalThis.wasm_bindgen = wasm_bindgen;\n" + PHASES + "\n;globalThis.timeLoad = timeLoad;");
-  await globalThis.wasm_bindgen({ module_or_path: wasm });
+  await loadInNode(htmlPath, PHASES, ["timeLoad"]);
   const fd = openSync(data, "r");
   const slices = [];
   for (let offset = 0; offset < size; offset += SLICE_BYTES) {
@@ -134,7 +120,7 @@ self.onmessage = async function (event) {
   }
   self.postMessage(runs);
 };`;
-    writeFileSync(join(dir, "worker.js"), workerSource() + "\n" + PHASES + "\n" + probe);
+    writeFileSync(join(dir, "worker.js"), workerSource(htmlPath) + "\n" + PHASES + "\n" + probe);
     writeFileSync(join(dir, "probe.html"), `<!doctype html><input type="file" id="f">`);
     const context = await chromium.launchPersistentContext(join(dir, "profile"), {
       executablePath: process.env.CHROMIUM || "/usr/bin/chromium", headless: true,

@@ -7,6 +7,12 @@
 //!
 //!   cargo build --release --example cluster_bench
 //!   $CARGO_TARGET_DIR/release/examples/cluster_bench DATA.csv [--settings S.json] [--element E] [--dump DIR]
+//!   $CARGO_TARGET_DIR/release/examples/cluster_bench --from DIR [--passes P]
+//!
+//! `--from DIR` clusters the elements dumped in DIR (with the settings dumped beside them)
+//! in a process that did nothing else before, as the wasm runners of cluster.mjs do, and
+//! prints each element's fastest of P passes (default 1): the figure cluster.mjs sets
+//! beside the wasm ones, pass by pass in turn with them.
 //!
 //! Without `--settings` the automatic settings are used, as the page does for a dropped file.
 
@@ -19,9 +25,42 @@ fn digest(labels: &[Option<u32>]) -> u64 {
     labels.iter().fold(0xcbf29ce484222325u64, |h, l| (h ^ l.unwrap_or(u32::MAX) as u64).wrapping_mul(0x100000001b3))
 }
 
+/// Clusters each element dumped in `dir`, `passes` times, and prints its fastest time.
+fn from_dumped(dir: &str, passes: usize) {
+    let settings = Settings::from_json(&std::fs::read_to_string(format!("{dir}/settings.json")).expect("settings.json in the folder")).expect("settings");
+    let dim: usize = std::fs::read_to_string(format!("{dir}/dim")).expect("dim in the folder").trim().parse().expect("dim");
+    let mut elements = Vec::new();
+    while let Ok(bytes) = std::fs::read(format!("{dir}/element-{}.f64", elements.len())) {
+        elements.push(bytes.chunks_exact(8).map(|c| f64::from_le_bytes(c.try_into().unwrap())).collect::<Vec<f64>>());
+    }
+    let mut fastest = vec![f64::INFINITY; elements.len()];
+    let mut digests = vec![0u64; elements.len()];
+    for _ in 0..passes {
+        for (e, pts) in elements.iter().enumerate() {
+            let t = Instant::now();
+            let labels = nervure::cluster::cluster(pts, dim, &settings.clustering);
+            fastest[e] = fastest[e].min(t.elapsed().as_secs_f64());
+            digests[e] = digest(&labels);
+        }
+    }
+    println!("{} elements, {dim} columns, clustering {:?}", elements.len(), settings.clustering);
+    for (e, pts) in elements.iter().enumerate() {
+        println!("element {e}: {} points, {:.6} s, labels {:016x}", pts.len() / dim, fastest[e], digests[e]);
+    }
+}
+
 fn main() {
     let mut args = std::env::args().skip(1);
-    let data = args.next().expect("usage: cluster_bench DATA.csv [--settings S.json] [--element E] [--dump DIR]");
+    let data = args.next().expect("usage: cluster_bench DATA.csv [--settings S.json] [--element E] [--dump DIR] | --from DIR [--passes P]");
+    if data == "--from" {
+        let dir = args.next().expect("--from needs a folder");
+        let passes = match (args.next().as_deref(), args.next()) {
+            (Some("--passes"), Some(p)) => p.parse::<usize>().expect("passes"),
+            (None, _) => 1,
+            (Some(a), _) => panic!("unknown option {a}"),
+        };
+        return from_dumped(&dir, passes.max(1));
+    }
     let (mut settings, mut only, mut dump) = (None, None, None);
     while let Some(a) = args.next() {
         let v = args.next().unwrap_or_else(|| panic!("{a} needs a value"));
@@ -64,11 +103,12 @@ fn main() {
     let mut bench = Workbench::new();
     bench.set_table(reader.finish().expect("read"));
     let settings = settings.unwrap_or_else(|| bench.auto_settings().expect("automatic settings"));
-    if let Some(d) = &dump {
-        std::fs::write(format!("{d}/settings.json"), settings.to_json()).expect("dump");
-    }
     let n = bench.prepare_elements(&settings, &mut |_, _| {}).expect("prepare");
     let dim = bench.point_dim();
+    if let Some(d) = &dump {
+        std::fs::write(format!("{d}/settings.json"), settings.to_json()).expect("dump");
+        std::fs::write(format!("{d}/dim"), dim.to_string()).expect("dump");
+    }
     println!("{n} elements, {dim} columns, clustering {:?}", settings.clustering);
     let mut total = 0.0;
     for e in (0..n).filter(|e| only.map_or(true, |o| o == *e)) {

@@ -498,7 +498,7 @@ pub fn scale_of(points: Vec<f64>, dim: usize, lens: &[f64], k: usize, seed: u64)
     }
     let chosen = SplitMix64::new(seed).sample_indices(n, SCALE_SAMPLE);
     let queries: Vec<f64> = chosen.iter().flat_map(|&i| points[i * dim..(i + 1) * dim].iter().copied()).collect();
-    let tree = KdTree::from_rows(points, dim, AUTO_LEAF_SIZE);
+    let mut tree = KdTree::from_rows(points, dim, AUTO_LEAF_SIZE);
     let mut near: Vec<Neighbour> = Vec::with_capacity(k);
     let mut kth = Vec::with_capacity(chosen.len());
     let mut distinct = Vec::with_capacity(chosen.len());
@@ -525,16 +525,13 @@ pub fn scale_of(points: Vec<f64>, dim: usize, lens: &[f64], k: usize, seed: u64)
     if !(eps > 0.0) || !eps.is_finite() {
         eps = 1.0;
     }
-    let jumps: Vec<f64> = chosen
-        .iter()
-        .zip(queries.chunks_exact(dim))
-        .map(|(&i, q)| {
-            let f = lens[i];
-            let mut most: f64 = 0.0;
-            tree.for_each_within(q, eps, |j| most = most.max((lens[j] - f).abs()));
-            most
-        })
-        .collect();
+    // The largest filter difference within eps, by the tree's bounded query: the same value
+    // as the largest over every row within eps, without visiting each (on the demo data at
+    // 1.5 million rows that visit read about 100 000 rows a query, a third of the time from
+    // the last byte read to the table shown).
+    let ranges = tree.order_leaves_by(lens);
+    let jumps: Vec<f64> =
+        chosen.iter().zip(queries.chunks_exact(dim)).map(|(&i, q)| tree.largest_gap_within(q, eps, lens[i], &ranges)).collect();
     Scale { eps, kth: q98, distinct: med, jump: crate::points::quantile(&jumps, 0.98) }
 }
 

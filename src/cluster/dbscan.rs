@@ -84,7 +84,7 @@
 //! Not here: choosing eps (see the automatic settings), other metrics, weights.
 
 use super::index::{box_far_within, diagonal2, dist2, gap, point_box_far_within, point_box_near, Any, Bounds, Dim, Fixed, Index};
-use super::kdtree::KdTree;
+use super::kdtree::{larger, smaller, KdTree};
 use super::unionfind::UnionFind;
 use super::Labels;
 
@@ -393,15 +393,15 @@ impl<D: Dim> Work<'_, D> {
                     let off = 2 * d * (c - n - 1);
                     let (l, r) = rest[off..off + 4 * d].split_at(2 * d);
                     for i in 0..d {
-                        lo[i] = l[i].min(r[i]);
-                        hi[i] = l[d + i].max(r[d + i]);
+                        lo[i] = smaller(l[i], r[i]);
+                        hi[i] = larger(l[d + i], r[d + i]);
                     }
                 }
                 None => {
                     for p in range.filter(|&p| f.core[p]) {
                         for (i, &v) in self.framed(p).iter().enumerate() {
-                            lo[i] = lo[i].min(v);
-                            hi[i] = hi[i].max(v);
+                            lo[i] = smaller(lo[i], v);
+                            hi[i] = larger(hi[i], v);
                         }
                     }
                 }

@@ -15,7 +15,7 @@
 //!
 //! Not here: the clustering itself; other metrics.
 
-use super::kdtree::{KdTree, Split, LEAF_SIZE};
+use super::kdtree::{larger, KdTree, Split, LEAF_SIZE};
 
 /// The index over one set of points (module doc).
 pub(super) struct Index {
@@ -104,15 +104,6 @@ pub(super) fn dist2<D: Dim>(d: D, a: &[f64], b: &[f64]) -> f64 {
     a[..n].iter().zip(&b[..n]).map(|(x, y)| (x - y) * (x - y)).sum()
 }
 
-/// The larger of two finite values. Unlike `f64::max` (which wasm32 turns into a call to
-/// `fmax`, for the NaN rules) a plain comparison: one instruction natively and in wasm.
-/// The two differ only on NaN (never here) and on the sign of a zero, which the squares
-/// below remove.
-#[inline(always)]
-pub(super) fn max(a: f64, b: f64) -> f64 {
-    if a > b { a } else { b }
-}
-
 /// The gap between the intervals `[alo, ahi]` and `[blo, bhi]` (0 when they meet): the
 /// one of `blo - ahi`, `alo - bhi` that is positive (at most one is, as `alo <= ahi` and
 /// `blo <= bhi`), otherwise 0. Natively without branches (faster there); in wasm by
@@ -128,7 +119,7 @@ pub(super) fn gap(alo: f64, ahi: f64, blo: f64, bhi: f64) -> f64 {
             0.0
         }
     } else {
-        max(max(blo - ahi, alo - bhi), 0.0)
+        larger(larger(blo - ahi, alo - bhi), 0.0)
     }
 }
 
@@ -156,7 +147,7 @@ pub(super) fn box_far_within<D: Dim>(d: D, a: Bounds, b: Bounds, r2: f64) -> boo
     let n = d.n();
     let (alo, ahi, blo, bhi) = (&a.0[..n], &a.1[..n], &b.0[..n], &b.1[..n]);
     sum_within(n, r2, |k| {
-        let f = max(bhi[k] - alo[k], ahi[k] - blo[k]);
+        let f = larger(bhi[k] - alo[k], ahi[k] - blo[k]);
         f * f
     })
 }
@@ -179,7 +170,7 @@ pub(super) fn point_box_far_within<D: Dim>(d: D, q: &[f64], b: Bounds, r2: f64) 
     let n = d.n();
     let (q, lo, hi) = (&q[..n], &b.0[..n], &b.1[..n]);
     sum_within(n, r2, |k| {
-        let f = max(q[k] - lo[k], hi[k] - q[k]);
+        let f = larger(q[k] - lo[k], hi[k] - q[k]);
         f * f
     })
 }
@@ -215,7 +206,7 @@ pub(super) fn principal_frame<D: Dim>(points: &[f64], d: D) -> Option<(Vec<f64>,
     for (row, o) in points.chunks_exact(dim).zip(out.chunks_exact_mut(dim)) {
         let (row, o, centred) = (&row[..dim], &mut o[..dim], &mut centred[..dim]);
         for k in 0..dim {
-            largest = largest.max(row[k].abs());
+            largest = larger(largest, row[k].abs());
             centred[k] = row[k] - mean[k];
         }
         for (j, v) in o.iter_mut().enumerate() {

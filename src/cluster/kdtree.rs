@@ -63,6 +63,17 @@ pub struct KdTree {
     bounds: Vec<f64>,
 }
 
+/// Values of the points for [`KdTree::largest_gap_within`] ([`KdTree::order_leaves_by`]).
+#[derive(Debug, Clone)]
+pub struct ValueRanges {
+    /// The value at each tree position (each leaf's in increasing order, NaN last).
+    by_pos: Vec<f64>,
+    /// For a leaf, how many of its points have a value (not NaN).
+    valid: Vec<u32>,
+    /// Each node's least and greatest value (infinite ends reversed for none).
+    node: Vec<(f64, f64)>,
+}
+
 /// One answer of a nearest-neighbour query.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct Neighbour {
@@ -70,6 +81,37 @@ pub struct Neighbour {
     pub index: usize,
     /// Euclidean distance to the query.
     pub dist: f64,
+}
+
+/// The larger of two values, neither of them NaN. Unlike `f64::max` (which wasm32 compiles
+/// to a call to libm's `fmax`, for its NaN rule: a fifth of the wasm clustering's time went
+/// to such calls) a plain comparison: one instruction natively and in wasm. The two differ
+/// only on NaN (coordinates are finite) and on the sign of a zero, which no box test or
+/// square tells apart.
+#[inline(always)]
+pub(crate) fn larger(a: f64, b: f64) -> f64 {
+    if a > b { a } else { b }
+}
+
+/// The smaller of two values, neither of them NaN (see [`larger`]).
+#[inline(always)]
+pub(crate) fn smaller(a: f64, b: f64) -> f64 {
+    if a < b { a } else { b }
+}
+
+/// Whether `dist2(a, b) <= r2`, stopping as soon as the partial sum exceeds `r2` (the same
+/// answer: the partial sums of non-negative terms never decrease, in floating point too).
+/// Cheaper where most points tested are outside the ball.
+#[inline(always)]
+fn within2(a: &[f64], b: &[f64], r2: f64) -> bool {
+    let mut sum = 0.0;
+    for (x, y) in a.iter().zip(b) {
+        sum += (x - y) * (x - y);
+        if sum > r2 {
+            return false;
+        }
+    }
+    true
 }
 
 fn dist2(a: &[f64], b: &[f64]) -> f64 {
@@ -147,8 +189,8 @@ impl KdTree {
         loose.extend(std::iter::repeat(f64::NEG_INFINITY).take(dim));
         for row in points.chunks_exact(dim) {
             for (k, &v) in row.iter().enumerate() {
-                loose[k] = loose[k].min(v);
-                loose[dim + k] = loose[dim + k].max(v);
+                loose[k] = smaller(loose[k], v);
+                loose[dim + k] = larger(loose[dim + k], v);
             }
         }
         let mut keyed: Vec<(f64, u32)> = Vec::with_capacity(m);
@@ -247,8 +289,8 @@ impl KdTree {
             if node.children == 0 {
                 for row in data[node.start as usize * dim..node.end as usize * dim].chunks_exact(dim) {
                     for k in 0..dim {
-                        lo[k] = lo[k].min(row[k]);
-                        hi[k] = hi[k].max(row[k]);
+                        lo[k] = smaller(lo[k], row[k]);
+                        hi[k] = larger(hi[k], row[k]);
                     }
                 }
             } else {
@@ -256,8 +298,8 @@ impl KdTree {
                 let off = 2 * dim * (node.children as usize - n - 1);
                 let (l, r) = rest[off..off + 4 * dim].split_at(2 * dim);
                 for k in 0..dim {
-                    lo[k] = l[k].min(r[k]);
-                    hi[k] = l[dim + k].max(r[dim + k]);
+                    lo[k] = smaller(l[k], r[k]);
+                    hi[k] = larger(l[dim + k], r[dim + k]);
                 }
             }
         }
@@ -301,7 +343,7 @@ impl KdTree {
             let (a, c) = (lo[k] - q[k], q[k] - hi[k]);
             let d = if a > 0.0 { a } else if c > 0.0 { c } else { 0.0 };
             near += d * d;
-            let f = (q[k] - lo[k]).abs().max((hi[k] - q[k]).abs());
+            let f = larger((q[k] - lo[k]).abs(), (hi[k] - q[k]).abs());
             far += f * f;
         }
         (near, far)
@@ -422,6 +464,123 @@ impl KdTree {
             self.nearest_rec(c + 1, dr, q, k, best);
             self.nearest_rec(c, dl, q, k, best);
         }
+    }
+
+    /// Puts each leaf's points in increasing order of `values` (one per caller's row; NaN
+    /// last) and returns the values in tree order with each node's least and greatest: the
+    /// input of [`KdTree::largest_gap_within`]. The leaves keep the same points and boxes,
+    /// so the other queries' answers do not change. NaN values are passed over, as
+    /// `f64::max` passes them over.
+    pub fn order_leaves_by(&mut self, values: &[f64]) -> ValueRanges {
+        assert_eq!(values.len(), self.len(), "k-d tree: {} values for {} points", values.len(), self.len());
+        let dim = self.dim;
+        let mut by_pos = vec![f64::NAN; self.len()];
+        let mut valid = vec![0u32; self.nodes.len()];
+        let mut node = vec![(f64::INFINITY, f64::NEG_INFINITY); self.nodes.len()];
+        let mut keyed: Vec<(f64, u32)> = Vec::new();
+        let mut rows: Vec<f64> = Vec::new();
+        let mut old_index: Vec<u32> = Vec::new();
+        // Children come after their parents, so a reverse sweep sees children first.
+        for n in (0..self.nodes.len()).rev() {
+            let Node { start, end, children } = self.nodes[n];
+            if children != 0 {
+                let (l, r) = (node[children as usize], node[children as usize + 1]);
+                node[n] = (l.0.min(r.0), l.1.max(r.1));
+                continue;
+            }
+            let (s, e) = (start as usize, end as usize);
+            keyed.clear();
+            keyed.extend((s..e).map(|pos| (values[self.index[pos] as usize], pos as u32)));
+            keyed.sort_unstable_by(|a, b| a.0.is_nan().cmp(&b.0.is_nan()).then(a.0.total_cmp(&b.0)));
+            // The leaf's rows gathered in the new order, then written back over it.
+            rows.clear();
+            old_index.clear();
+            for &(_, old) in &keyed {
+                rows.extend_from_slice(&self.data[old as usize * dim..(old as usize + 1) * dim]);
+                old_index.push(self.index[old as usize]);
+            }
+            self.data[s * dim..e * dim].copy_from_slice(&rows);
+            self.index[s..e].copy_from_slice(&old_index);
+            for (k, &(v, _)) in keyed.iter().enumerate() {
+                by_pos[s + k] = v;
+            }
+            let count = keyed.iter().take_while(|(v, _)| !v.is_nan()).count();
+            valid[n] = count as u32;
+            if count > 0 {
+                node[n] = (keyed[0].0, keyed[count - 1].0);
+            }
+        }
+        ValueRanges { by_pos, valid, node }
+    }
+
+    /// The largest `|value - centre|` over the points within distance `r` of `q` (0 if
+    /// there are none), for the values given to [`KdTree::order_leaves_by`]. Equal to the
+    /// largest over [`KdTree::for_each_within`]'s rows, found without visiting each (at a
+    /// million rows a ball can hold a hundred thousand): a node whose value range cannot
+    /// raise the largest found so far is skipped, a node whose box lies inside the ball
+    /// gives its range's ends without a scan, and a leaf is read from both ends of its
+    /// value order, each end stopping at its first point inside the ball.
+    pub fn largest_gap_within(&self, q: &[f64], r: f64, centre: f64, ranges: &ValueRanges) -> f64 {
+        assert_eq!(q.len(), self.dim, "k-d tree: query has {} values, the points have {}", q.len(), self.dim);
+        assert_eq!(ranges.node.len(), self.nodes.len(), "k-d tree: value ranges of another tree");
+        let mut best = 0.0;
+        if !self.is_empty() && r >= 0.0 {
+            self.gap_rec(0, q, r * r, centre, ranges, &mut best);
+        }
+        best
+    }
+
+    fn gap_rec(&self, n: usize, q: &[f64], r2: f64, centre: f64, ranges: &ValueRanges, best: &mut f64) {
+        let reach = |n: usize| {
+            let (lo, hi) = ranges.node[n];
+            larger(hi - centre, centre - lo)
+        };
+        // Also false for a node with no value (its range is empty: the reach is -inf).
+        if !(reach(n) > *best) {
+            return;
+        }
+        let (near, far) = self.box_dist2(n, q);
+        if near > r2 {
+            return;
+        }
+        let children = self.nodes[n].children;
+        if far <= r2 {
+            // The whole box is inside the ball (see `within_rec`): its range's ends are values of its points.
+            *best = reach(n);
+            return;
+        }
+        if children == 0 {
+            // The leaf's points are in value order (NaN last): from the largest value down
+            // and from the smallest up, each stopping at its first point inside the ball.
+            let start = self.nodes[n].start as usize;
+            let end = start + ranges.valid[n] as usize;
+            for pos in (start..end).rev() {
+                let v = ranges.by_pos[pos];
+                if !(v - centre > *best) {
+                    break;
+                }
+                if within2(q, self.point_at(pos), r2) {
+                    *best = v - centre;
+                    break;
+                }
+            }
+            for pos in start..end {
+                let v = ranges.by_pos[pos];
+                if !(centre - v > *best) {
+                    break;
+                }
+                if within2(q, self.point_at(pos), r2) {
+                    *best = centre - v;
+                    break;
+                }
+            }
+            return;
+        }
+        // The child that could give more first: the other is then more often skipped.
+        let c = children as usize;
+        let (first, second) = if reach(c) >= reach(c + 1) { (c, c + 1) } else { (c + 1, c) };
+        self.gap_rec(first, q, r2, centre, ranges, best);
+        self.gap_rec(second, q, r2, centre, ranges, best);
     }
 
     /// Fills `out` with one label per node: the component shared by all its points, or
@@ -597,6 +756,49 @@ mod tests {
                             assert_eq!(got, want, "dim {dim}, m {m}, r {r}");
                             let limit = 3;
                             assert_eq!(tree.count_within(&q, r, limit), want.len().min(limit));
+                        }
+                    }
+                }
+            }
+        }
+    }
+
+    fn sorted(rows: &[u32]) -> Vec<usize> {
+        let mut v: Vec<usize> = rows.iter().map(|&r| r as usize).collect();
+        v.sort_unstable();
+        v
+    }
+
+    /// The bounded query gives exactly the largest gap over the brute-force ball, including
+    /// with NaN values (passed over), ties and repeated points.
+    #[test]
+    fn largest_gap_within_equals_the_largest_over_the_ball() {
+        let mut rng = SplitMix64::new(13);
+        for &dim in &[1usize, 2, 5] {
+            for &m in &[1usize, 17, 300, 3000] {
+                // Points on a coarse grid (many coincide) and values with repeats and NaN.
+                let pts: Vec<f64> = (0..m * dim).map(|_| (rng.below(9) as f64) - 4.0).collect();
+                let values: Vec<f64> =
+                    (0..m).map(|i| if i % 23 == 5 { f64::NAN } else { (rng.below(50) as f64) * 0.25 }).collect();
+                for mut tree in [KdTree::new(&pts, dim), KdTree::from_rows(pts.clone(), dim, 64)] {
+                    let before: Vec<Vec<usize>> = (0..tree.node_count()).map(|n| sorted(tree.rows_in(n))).collect();
+                    let ranges = tree.order_leaves_by(&values);
+                    // The same points in every node, each row with its own coordinates.
+                    assert_eq!(before, (0..tree.node_count()).map(|n| sorted(tree.rows_in(n))).collect::<Vec<_>>());
+                    for pos in 0..m {
+                        let row = tree.row_at(pos);
+                        assert_eq!(tree.point_at(pos), &pts[row * dim..(row + 1) * dim]);
+                    }
+                    for &r in &[0.0, 1.0, 2.5, 6.0, 40.0] {
+                        for _ in 0..15 {
+                            let i = rng.below(m);
+                            let q = &pts[i * dim..(i + 1) * dim];
+                            let centre = values[(i + 1) % m];
+                            let want = brute_within(&pts, dim, q, r)
+                                .into_iter()
+                                .fold(0.0, |most: f64, j| most.max((values[j] - centre).abs()));
+                            let got = tree.largest_gap_within(q, r, centre, &ranges);
+                            assert!(got == want || (got.is_nan() && want.is_nan()), "dim {dim}, m {m}, r {r}: {got} against {want}");
                         }
                     }
                 }

@@ -128,12 +128,9 @@ pub fn suggest(table: &Table, settings: &Settings, seed: u64) -> Result<Suggesti
         return Err(Error::Data("the rows are (nearly) all equal in the chosen columns, so no clustering scale can be estimated".into()));
     }
     let lens = r.lens();
-    let tree = KdTree::new(flat, d);
-    let mut jump: f64 = 0.0;
-    for i in 0..n {
-        let fi = lens[i];
-        tree.for_each_within(&flat[i * d..(i + 1) * d], delta, |j| jump = jump.max((lens[j] - fi).abs()));
-    }
+    let mut tree = KdTree::new(flat, d);
+    let ranges = tree.order_leaves_by(lens);
+    let jump = (0..n).map(|i| tree.largest_gap_within(&flat[i * d..(i + 1) * d], delta, lens[i], &ranges)).fold(0.0, f64::max);
     let (lo, hi) = lens.iter().fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), &v| (a.min(v), b.max(v)));
     let resolution = jump / GAIN;
     let intervals = interval_count(hi - lo, resolution, GAIN);

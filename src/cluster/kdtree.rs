@@ -1,6 +1,7 @@
 //! A k-d tree over a row-major slice of points, the one spatial index the clustering
-//! methods share: radius queries for DBSCAN, nearest-neighbour queries, and the
-//! "nearest point in another component" query that drives Borůvka's minimum spanning tree.
+//! methods share: radius queries for DBSCAN, nearest-neighbour queries, the "nearest point
+//! in another component" query that drives Borůvka's minimum spanning tree, and the
+//! automatic settings' "largest difference of a value within a radius" (`largest_gap_within`).
 //!
 //! Why our own tree: the number of columns is chosen by the user at run time, while the
 //! well-kept k-d tree crates fix the dimension as a const generic parameter at compile

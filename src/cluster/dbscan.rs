@@ -392,16 +392,17 @@ impl<D: Dim> Work<'_, D> {
                     // Children come after their parent.
                     let off = 2 * d * (c - n - 1);
                     let (l, r) = rest[off..off + 4 * d].split_at(2 * d);
-                    for i in 0..d {
-                        lo[i] = smaller(l[i], r[i]);
-                        hi[i] = larger(l[d + i], r[d + i]);
+                    let ((llo, lhi), (rlo, rhi)) = (l.split_at(d), r.split_at(d));
+                    for (((lo, hi), (a, b)), (c, e)) in lo.iter_mut().zip(hi.iter_mut()).zip(llo.iter().zip(rlo)).zip(lhi.iter().zip(rhi)) {
+                        *lo = smaller(*a, *b);
+                        *hi = larger(*c, *e);
                     }
                 }
                 None => {
                     for p in range.filter(|&p| f.core[p]) {
-                        for (i, &v) in self.framed(p).iter().enumerate() {
-                            lo[i] = smaller(lo[i], v);
-                            hi[i] = larger(hi[i], v);
+                        for ((l, h), &v) in lo.iter_mut().zip(hi.iter_mut()).zip(self.framed(p)) {
+                            *l = smaller(*l, v);
+                            *h = larger(*h, v);
                         }
                     }
                 }

@@ -33,7 +33,13 @@ impl Index {
         match principal_frame(points, dim) {
             Some((rotated, margin)) => {
                 let tree = KdTree::from_rows_split(rotated, d, LEAF_SIZE, Split::Variance);
-                let given = (0..tree.len()).flat_map(|pos| points[tree.row_at(pos) * d..(tree.row_at(pos) + 1) * d].iter().copied()).collect();
+                // Row by row into a buffer of the final size (a flat_map over values grew it
+                // value by value, slow in wasm).
+                let mut given = Vec::with_capacity(points.len());
+                for pos in 0..tree.len() {
+                    let row = tree.row_at(pos);
+                    given.extend_from_slice(&points[row * d..(row + 1) * d]);
+                }
                 Index { tree, given: Some(given), margin }
             }
             None => Index { tree: KdTree::from_rows_split(points.to_vec(), d, LEAF_SIZE, Split::Variance), given: None, margin: 0.0 },

@@ -64,6 +64,14 @@ pub struct KdTree {
     bounds: Vec<f64>,
 }
 
+/// Buffers a build reuses from split to split (an allocation per split was measurable in wasm).
+struct Scratch {
+    /// A node's coordinates on its split axis, beside their rows.
+    keyed: Vec<(f64, u32)>,
+    /// `dim` sums then `dim` sums of squares, for [`Split::Variance`].
+    sums: Vec<f64>,
+}
+
 /// Values of the points for [`KdTree::largest_gap_within`] ([`KdTree::order_leaves_by`]).
 #[derive(Debug, Clone)]
 pub struct ValueRanges {
@@ -194,13 +202,13 @@ impl KdTree {
                 loose[dim + k] = larger(loose[dim + k], v);
             }
         }
-        let mut keyed: Vec<(f64, u32)> = Vec::with_capacity(m);
+        let mut scratch = Scratch { keyed: Vec::with_capacity(m), sums: vec![0.0; 2 * dim] };
         // Nodes are finished in creation order, so node `i` is processed at step `i`.
         let mut i = 0;
         while i < nodes.len() {
             let Node { start, end, .. } = nodes[i];
             if (end - start) as usize > leaf_size {
-                Self::split(points, dim, i, rule, &mut perm, &mut nodes, &mut loose, &mut keyed);
+                Self::split(points, dim, i, rule, &mut perm, &mut nodes, &mut loose, &mut scratch);
             }
             i += 1;
         }
@@ -214,7 +222,7 @@ impl KdTree {
     /// a running one.
     #[inline(never)]
     #[allow(clippy::too_many_arguments)]
-    fn split(points: &[f64], dim: usize, i: usize, rule: Split, perm: &mut [u32], nodes: &mut Vec<Node>, loose: &mut Vec<f64>, keyed: &mut Vec<(f64, u32)>) {
+    fn split(points: &[f64], dim: usize, i: usize, rule: Split, perm: &mut [u32], nodes: &mut Vec<Node>, loose: &mut Vec<f64>, scratch: &mut Scratch) {
         let Node { start, end, .. } = nodes[i];
         let (s, e) = (start as usize, end as usize);
         let base = 2 * dim * i;
@@ -226,7 +234,7 @@ impl KdTree {
                     wa.total_cmp(&wb)
                 })
                 .unwrap_or(0),
-            Split::Variance => Self::most_varied(points, dim, &perm[s..e]),
+            Split::Variance => Self::most_varied(points, dim, &perm[s..e], &mut scratch.sums),
         };
         let mid = s + (e - s) / 2;
         // The node's coordinates on the axis, gathered beside their rows, so the
@@ -234,6 +242,7 @@ impl KdTree {
         // at each comparison (a read from memory per comparison on large tables).
         // Same comparisons in the same order as selecting `perm` through `points`,
         // so the same permutation (a test checks it).
+        let keyed = &mut scratch.keyed;
         keyed.clear();
         keyed.extend(perm[s..e].iter().map(|&r| (points[r as usize * dim + axis], r)));
         keyed.select_nth_unstable_by(mid - s, |a, b| a.0.total_cmp(&b.0));
@@ -245,10 +254,11 @@ impl KdTree {
         nodes[i].children = children;
         nodes.push(Node { start, end: mid as u32, children: 0 });
         nodes.push(Node { start: mid as u32, end, children: 0 });
-        let parent: Vec<f64> = loose[base..base + 2 * dim].to_vec();
-        loose.extend_from_slice(&parent);
+        // The parent's box copied twice, without a buffer of its own (a build makes one
+        // split per two leaves; an allocation each was measurable in wasm).
+        loose.extend_from_within(base..base + 2 * dim);
         loose[base + 2 * dim * (children as usize - i) + dim + axis] = split;
-        loose.extend_from_slice(&parent);
+        loose.extend_from_within(base..base + 2 * dim);
         loose[base + 2 * dim * (children as usize + 1 - i) + axis] = split;
     }
 
@@ -259,9 +269,11 @@ impl KdTree {
     /// current order (which rows is fixed by the build, so the tree is the same every
     /// time): reading every row through the permutation cost more than the rest of the
     /// build, and the axis needs no more precision.
-    fn most_varied(points: &[f64], dim: usize, rows: &[u32]) -> usize {
+    fn most_varied(points: &[f64], dim: usize, rows: &[u32], sums: &mut [f64]) -> usize {
         let first = rows[0] as usize * dim;
-        let (mut sum, mut sq) = (vec![0.0; dim], vec![0.0; dim]);
+        let (sum, sq) = sums[..2 * dim].split_at_mut(dim);
+        sum.fill(0.0);
+        sq.fill(0.0);
         let step = rows.len().div_ceil(VARIANCE_SAMPLE);
         let mut n = 0.0;
         for &r in rows.iter().step_by(step) {
@@ -289,18 +301,20 @@ impl KdTree {
             hi.fill(f64::NEG_INFINITY);
             if node.children == 0 {
                 for row in data[node.start as usize * dim..node.end as usize * dim].chunks_exact(dim) {
-                    for k in 0..dim {
-                        lo[k] = smaller(lo[k], row[k]);
-                        hi[k] = larger(hi[k], row[k]);
+                    // Zipped rather than indexed: no bounds check per value (they weigh in wasm).
+                    for ((l, h), &v) in lo.iter_mut().zip(hi.iter_mut()).zip(row) {
+                        *l = smaller(*l, v);
+                        *h = larger(*h, v);
                     }
                 }
             } else {
                 // Children come after their parent.
                 let off = 2 * dim * (node.children as usize - n - 1);
                 let (l, r) = rest[off..off + 4 * dim].split_at(2 * dim);
-                for k in 0..dim {
-                    lo[k] = smaller(l[k], r[k]);
-                    hi[k] = larger(l[dim + k], r[dim + k]);
+                let ((llo, lhi), (rlo, rhi)) = (l.split_at(dim), r.split_at(dim));
+                for (((lo, hi), (a, b)), (c, e)) in lo.iter_mut().zip(hi.iter_mut()).zip(llo.iter().zip(rlo)).zip(lhi.iter().zip(rhi)) {
+                    *lo = smaller(*a, *b);
+                    *hi = larger(*c, *e);
                 }
             }
         }

@@ -108,21 +108,6 @@ pub(crate) fn smaller(a: f64, b: f64) -> f64 {
     if a < b { a } else { b }
 }
 
-/// Whether `dist2(a, b) <= r2`, stopping as soon as the partial sum exceeds `r2` (the same
-/// answer: the partial sums of non-negative terms never decrease, in floating point too).
-/// Cheaper where most points tested are outside the ball.
-#[inline(always)]
-fn within2(a: &[f64], b: &[f64], r2: f64) -> bool {
-    let mut sum = 0.0;
-    for (x, y) in a.iter().zip(b) {
-        sum += (x - y) * (x - y);
-        if sum > r2 {
-            return false;
-        }
-    }
-    true
-}
-
 fn dist2(a: &[f64], b: &[f64]) -> f64 {
     a.iter().zip(b).map(|(x, y)| (x - y) * (x - y)).sum()
 }
@@ -546,6 +531,14 @@ impl KdTree {
     }
 
     fn gap_rec(&self, n: usize, q: &[f64], r2: f64, centre: f64, ranges: &ValueRanges, best: &mut f64) {
+        // Whether `p` is within the ball, the sum stopping early once past it (most points
+        // a leaf's ends offer are outside).
+        let inside = |q: &[f64], p: &[f64], r2: f64| {
+            super::index::sum_within(q.len(), r2, |k| {
+                let d = q[k] - p[k];
+                d * d
+            })
+        };
         let reach = |n: usize| {
             let (lo, hi) = ranges.node[n];
             larger(hi - centre, centre - lo)
@@ -574,7 +567,7 @@ impl KdTree {
                 if !(v - centre > *best) {
                     break;
                 }
-                if within2(q, self.point_at(pos), r2) {
+                if inside(q, self.point_at(pos), r2) {
                     *best = v - centre;
                     break;
                 }
@@ -584,7 +577,7 @@ impl KdTree {
                 if !(centre - v > *best) {
                     break;
                 }
-                if within2(q, self.point_at(pos), r2) {
+                if inside(q, self.point_at(pos), r2) {
                     *best = centre - v;
                     break;
                 }

@@ -27,18 +27,11 @@
 import { readFileSync, writeFileSync, mkdtempSync, rmSync, readdirSync } from "node:fs";
 import { execFileSync } from "node:child_process";
 import { tmpdir } from "node:os";
-import { dirname, join, resolve } from "node:path";
-import { fileURLToPath, pathToFileURL } from "node:url";
-import { workerSource, loadInNode } from "./page-wasm.mjs";
+import { join } from "node:path";
+import { pathToFileURL } from "node:url";
+import { commandLine, workerSource, loadInNode } from "./page-wasm.mjs";
 
-const here = dirname(fileURLToPath(import.meta.url));
-const root = join(here, "..", "..");
-const args = process.argv.slice(2);
-const opt = (name, dflt) => { const i = args.indexOf(name); return i >= 0 ? args.splice(i, 2)[1] : dflt; };
-const flag = (name) => { const i = args.indexOf(name); if (i >= 0) args.splice(i, 1); return i >= 0; };
-const targetDir = process.env.CARGO_TARGET_DIR || join(process.env.HOME, ".cache", "nervure-target");
-const htmlPath = resolve(opt("--html", join(root, "dist", "nervure.html")));
-const native = opt("--native", join(targetDir, "release", "examples", "cluster_bench"));
+const { args, opt, flag, htmlPath, native } = commandLine("cluster_bench");
 const settingsPath = opt("--settings", null);
 const repeat = Number(opt("--repeat", "1"));
 const noChromium = flag("--no-chromium");

@@ -4,7 +4,24 @@
 
 import { readFileSync } from "node:fs";
 import { gunzipSync } from "node:zlib";
+import { dirname, join, resolve } from "node:path";
+import { fileURLToPath } from "node:url";
 import vm from "node:vm";
+
+/** The command line both scripts share: `--html PAGE` (default dist/nervure.html) and
+ *  `--native BINARY` (default the release example `example` under $CARGO_TARGET_DIR)
+ *  taken out of the arguments; `opt(name, default)` and `flag(name)` take out others, and
+ *  `args` keeps what is left. */
+export function commandLine(example) {
+  const args = process.argv.slice(2);
+  const opt = (name, dflt) => { const i = args.indexOf(name); return i >= 0 ? args.splice(i, 2)[1] : dflt; };
+  const flag = (name) => { const i = args.indexOf(name); if (i >= 0) args.splice(i, 1); return i >= 0; };
+  const root = join(dirname(fileURLToPath(import.meta.url)), "..", "..");
+  const targetDir = process.env.CARGO_TARGET_DIR || join(process.env.HOME, ".cache", "nervure-target");
+  const htmlPath = resolve(opt("--html", join(root, "dist", "nervure.html")));
+  const native = opt("--native", join(targetDir, "release", "examples", example));
+  return { args, opt, flag, htmlPath, native };
+}
 
 /** The worker's source as the page holds it: glue, then the wasm, then worker.js. */
 export function workerSource(htmlPath) {

@@ -76,12 +76,38 @@ async function gunzip(bytes) {
   return new Uint8Array(await new Response(stream).arrayBuffer());
 }
 
+/** A module of one function that returns a SIMD constant (`v128.const`): valid only where
+ *  WebAssembly has SIMD, which the engine is built with (.cargo/config.toml). */
+const SIMD_PROBE = new Uint8Array([
+  0x00, 0x61, 0x73, 0x6d, 0x01, 0x00, 0x00, 0x00, // "\0asm", version 1
+  0x01, 0x05, 0x01, 0x60, 0x00, 0x01, 0x7b, // types: () -> v128
+  0x03, 0x02, 0x01, 0x00, // one function of type 0
+  0x0a, 0x16, 0x01, 0x14, 0x00, 0xfd, 0x0c, // code: no locals, v128.const ...
+  0, 0, 0, 0, 0, 0, 0, 0, 0, 0, 0, 0, 0, 0, 0, 0, 0x0b, // ... sixteen zero bytes, end
+]);
+
+/** What the engine needs of the browser, or null when it has it all. */
+function missingFeature() {
+  if (typeof WebAssembly !== "object") return "WebAssembly";
+  if (!WebAssembly.validate(SIMD_PROBE)) return "WebAssembly SIMD";
+  if (typeof DecompressionStream !== "function") return "DecompressionStream";
+  return null;
+}
+
 const ready = (async function () {
+  const missing = missingFeature();
+  if (missing) {
+    const e = new Error("this browser lacks " + missing + ", which the engine needs; Chrome or Edge 91, Firefox 113, Safari 16.4 and later have everything it needs");
+    e.unsupported = true; // not fatal: a restart cannot help
+    throw e;
+  }
   const wasm = await gunzip(decodeBase64(self.NERVURE_WASM_GZIP_BASE64));
   await wasm_bindgen({ module_or_path: wasm });
   self.NERVURE_WASM_GZIP_BASE64 = null;
   return new wasm_bindgen.Engine();
 })();
+// A failed start is reported to each request that waits on it, not as an unhandled error.
+ready.catch(function () {});
 
 /** Posts progress at most every 40 ms, and always the end of a stage. */
 function progressPoster(id) {
@@ -562,7 +588,7 @@ self.onmessage = function (event) {
     try {
       engine = await ready;
     } catch (e) {
-      self.postMessage({ id: msg.id, type: "error", fatal: true, message: "The engine could not start in this browser: " + (e && e.message ? e.message : String(e)) });
+      self.postMessage({ id: msg.id, type: "error", fatal: !(e && e.unsupported), message: "The engine could not start in this browser: " + (e && e.message ? e.message : String(e)) });
       return;
     }
     try {

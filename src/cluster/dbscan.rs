@@ -83,7 +83,7 @@
 //!
 //! Not here: choosing eps (see the automatic settings), other metrics, weights.
 
-use super::index::{box_far_within, diagonal2, dist2, gap, point_box_far_within, point_box_near, Any, Bounds, Dim, Fixed, Index};
+use super::index::{box_far_within, diagonal2, dist2, gap2, point_box_far_within, point_box_near, Any, Bounds, Dim, Fixed, Index};
 use super::kdtree::{larger, smaller, KdTree};
 use super::unionfind::UnionFind;
 use super::Labels;
@@ -109,6 +109,11 @@ pub fn dbscan(points: &[f64], dim: usize, eps: f64, min_points: usize) -> Labels
     }
 }
 
+/// The three steps of the module doc. Each step, and the small sweeps around them, is a
+/// function of its own, never inlined: as one body they ran in wasm at 2.3 times their
+/// native time, as separate functions nearer 1.5 (V8 optimises a function as a whole and
+/// swaps its optimised code in between calls, see [`Work::core_leaf`]); the first
+/// clustering of a new page helper gained most.
 fn run<D: Dim>(points: &[f64], dim: D, eps: f64, min_points: usize) -> Labels {
     let index = Index::new(points, dim);
     let (tree, margin) = (&index.tree, index.margin);
@@ -117,11 +122,23 @@ fn run<D: Dim>(points: &[f64], dim: D, eps: f64, min_points: usize) -> Labels {
     // No box is known to hold only neighbours when the margin swallows eps (-1: no squared
     // distance is that small).
     let far2 = if eps > margin { (eps - margin) * (eps - margin) } else if margin == 0.0 { eps2 } else { -1.0 };
-    let small = (0..tree.node_count()).map(|n| diagonal2(dim, tree.node_box(n)) <= 4.0 * near2).collect();
+    let small = small_boxes(tree, dim, near2);
     let w = Work { tree, frame: tree.tree_points(), data: index.points(), dim, eps2, near2, far2, small };
     let found = w.core_points(min_points.max(1));
     let mut links = w.components(&found);
     let label = w.labels(&found, &mut links);
+    by_row(tree, &label)
+}
+
+/// Per node: whether its box's diagonal is at most 2 (eps + margin) ([`Work::small`]).
+#[inline(never)]
+fn small_boxes<D: Dim>(tree: &KdTree, dim: D, near2: f64) -> Vec<bool> {
+    (0..tree.node_count()).map(|n| diagonal2(dim, tree.node_box(n)) <= 4.0 * near2).collect()
+}
+
+/// The labels by row from the labels by tree position, clusters renumbered.
+#[inline(never)]
+fn by_row(tree: &KdTree, label: &[u32]) -> Labels {
     let mut labels: Labels = vec![None; tree.len()];
     for (pos, &c) in label.iter().enumerate() {
         if c != NONE {
@@ -221,31 +238,22 @@ impl<D: Dim> Work<'_, D> {
         (&lo[..d], &hi[..d])
     }
 
-    /// Squared distance from `q` to the nearest corner of node `n`'s box (0 inside it).
+    /// Squared distance from `q` to the nearest corner of node `n`'s box (0 inside it), or
+    /// some value above `near2` when it is farther (all that pruning and ordering need).
     #[inline(always)]
     fn gap_to(&self, q: &[f64], n: usize) -> f64 {
-        let (lo, hi) = self.node_box(n);
-        let mut s = 0.0;
-        for k in 0..self.dim.n() {
-            let g = gap(q[k], q[k], lo[k], hi[k]);
-            s += g * g;
-        }
-        s
+        gap2(self.dim, (q, q), self.node_box(n), self.near2)
     }
 
-    /// Squared distance between the nearest corners of two boxes.
+    /// Squared distance between the nearest corners of two boxes, or some value above
+    /// `near2` when it is farther.
     #[inline(always)]
     fn gap_between(&self, a: Bounds, b: Bounds) -> f64 {
-        let ((alo, ahi), (blo, bhi)) = (a, b);
-        let mut s = 0.0;
-        for k in 0..self.dim.n() {
-            let g = gap(alo[k], ahi[k], blo[k], bhi[k]);
-            s += g * g;
-        }
-        s
+        gap2(self.dim, a, b, self.near2)
     }
 
     /// Step 1 of the module doc: which points are core, with the neighbours met on the way.
+    #[inline(never)]
     fn core_points(&self, min_points: usize) -> Found {
         let tree = self.tree;
         let m = tree.len();
@@ -363,6 +371,7 @@ impl<D: Dim> Work<'_, D> {
 impl<D: Dim> Work<'_, D> {
     /// Step 2 of the module doc: the components of the core points, two core points being
     /// joined when they lie within eps of each other.
+    #[inline(never)]
     fn components(&self, f: &Found) -> Links {
         let tree = self.tree;
         let (m, nodes) = (tree.len(), tree.node_count());
@@ -615,6 +624,7 @@ impl<D: Dim> Work<'_, D> {
 
     /// Step 3 of the module doc: clusters numbered in the order they are grown (by their
     /// lowest core row), each border point given the lowest among its core neighbours.
+    #[inline(never)]
     fn labels(&self, f: &Found, k: &mut Links) -> Vec<u32> {
         let tree = self.tree;
         let m = tree.len();

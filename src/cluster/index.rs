@@ -15,7 +15,7 @@
 //!
 //! Not here: the clustering itself; other metrics.
 
-use super::kdtree::{larger, KdTree, Split, LEAF_SIZE};
+use super::kdtree::{gather_rows, larger, KdTree, Split, LEAF_SIZE};
 
 /// The index over one set of points (module doc).
 pub(super) struct Index {
@@ -33,13 +33,7 @@ impl Index {
         match principal_frame(points, dim) {
             Some((rotated, margin)) => {
                 let tree = KdTree::from_rows_split(rotated, d, LEAF_SIZE, Split::Variance);
-                // Row by row into a buffer of the final size (a flat_map over values grew it
-                // value by value, slow in wasm).
-                let mut given = Vec::with_capacity(points.len());
-                for pos in 0..tree.len() {
-                    let row = tree.row_at(pos);
-                    given.extend_from_slice(&points[row * d..(row + 1) * d]);
-                }
+                let given = gather_rows(points, d, (0..tree.len()).map(|pos| tree.row_at(pos)));
                 Index { tree, given: Some(given), margin }
             }
             None => Index { tree: KdTree::from_rows_split(points.to_vec(), d, LEAF_SIZE, Split::Variance), given: None, margin: 0.0 },
@@ -130,6 +124,54 @@ pub(super) fn gap(alo: f64, ahi: f64, blo: f64, bhi: f64) -> f64 {
 }
 
 
+/// The sum over the coordinates of `max(u[k] - v[k], w[k] - z[k], floor)²`, the squares
+/// added in coordinate order, or some partial sum above `stop` as soon as one passes it
+/// (exact, as in [`sum_within`]). Every box test below is such a sum.
+///
+/// With wasm SIMD, two coordinates at a time by `f64x2.pmax`, one instruction: the scalar
+/// maximum branches there (a scalar select is slower still), and the box tests of the
+/// clustering spent about three times their native time on it. The same values, added
+/// one by one in the same order, so the same answers.
+#[inline(always)]
+#[allow(clippy::modulo_one)] // CHUNK is 1 in wasm: a check after every coordinate.
+fn larger_squares(n: usize, (u, v, w, z): (&[f64], &[f64], &[f64], &[f64]), floor: f64, stop: f64) -> f64 {
+    let (u, v, w, z) = (&u[..n], &v[..n], &w[..n], &z[..n]);
+    let mut s = 0.0;
+    let mut k = 0;
+    #[cfg(all(target_arch = "wasm32", target_feature = "simd128"))]
+    {
+        use core::arch::wasm32::{f64x2, f64x2_extract_lane, f64x2_mul, f64x2_pmax, f64x2_splat, f64x2_sub};
+        while k + 2 <= n {
+            let lanes = |x: &[f64]| f64x2(x[k], x[k + 1]);
+            let t = f64x2_pmax(f64x2_pmax(f64x2_sub(lanes(u), lanes(v)), f64x2_sub(lanes(w), lanes(z))), f64x2_splat(floor));
+            let t2 = f64x2_mul(t, t);
+            s += f64x2_extract_lane::<0>(t2);
+            s += f64x2_extract_lane::<1>(t2);
+            if s > stop {
+                return s;
+            }
+            k += 2;
+        }
+    }
+    while k < n {
+        let t = larger(larger(u[k] - v[k], w[k] - z[k]), floor);
+        s += t * t;
+        k += 1;
+        if (k % CHUNK == 0 || k == n) && s > stop {
+            return s;
+        }
+    }
+    s
+}
+
+/// The squared distance between the nearest corners of two boxes (0 when they meet; a point
+/// is a box whose bounds are equal), or some value above `stop` when it is larger.
+#[inline(always)]
+pub(super) fn gap2<D: Dim>(d: D, a: Bounds, b: Bounds, stop: f64) -> f64 {
+    // Per coordinate the positive one of `blo - ahi`, `alo - bhi`, otherwise 0 (`gap`).
+    larger_squares(d.n(), (b.0, a.1, a.0, b.1), 0.0, stop)
+}
+
 /// A box as `n` lower and `n` upper bounds.
 pub(super) type Bounds<'a> = (&'a [f64], &'a [f64]);
 
@@ -150,35 +192,21 @@ pub(super) fn diagonal2<D: Dim>(d: D, a: Bounds) -> f64 {
 /// pair of their points is).
 #[inline(always)]
 pub(super) fn box_far_within<D: Dim>(d: D, a: Bounds, b: Bounds, r2: f64) -> bool {
-    let n = d.n();
-    let (alo, ahi, blo, bhi) = (&a.0[..n], &a.1[..n], &b.0[..n], &b.1[..n]);
-    sum_within(n, r2, |k| {
-        let f = larger(bhi[k] - alo[k], ahi[k] - blo[k]);
-        f * f
-    })
+    // Per coordinate the larger of `bhi - alo`, `ahi - blo`.
+    larger_squares(d.n(), (b.1, a.0, a.1, b.0), f64::NEG_INFINITY, r2) <= r2
 }
 
 /// Whether a point is within squared distance `r2` of a box (nearest corner).
 #[inline(always)]
 pub(super) fn point_box_near<D: Dim>(d: D, q: &[f64], b: Bounds, r2: f64) -> bool {
-    let n = d.n();
-    let (q, lo, hi) = (&q[..n], &b.0[..n], &b.1[..n]);
-    sum_within(n, r2, |k| {
-        let g = gap(q[k], q[k], lo[k], hi[k]);
-        g * g
-    })
+    gap2(d, (q, q), b, r2) <= r2
 }
 
 /// Whether the farthest corner of a box is within squared distance `r2` of a point (so
 /// every point of the box is).
 #[inline(always)]
 pub(super) fn point_box_far_within<D: Dim>(d: D, q: &[f64], b: Bounds, r2: f64) -> bool {
-    let n = d.n();
-    let (q, lo, hi) = (&q[..n], &b.0[..n], &b.1[..n]);
-    sum_within(n, r2, |k| {
-        let f = larger(q[k] - lo[k], hi[k] - q[k]);
-        f * f
-    })
+    box_far_within(d, (q, q), b, r2)
 }
 
 /// The fewest and the most columns for which the index is built in the points' principal
@@ -204,24 +232,21 @@ pub(super) fn principal_frame<D: Dim>(points: &[f64], d: D) -> Option<(Vec<f64>,
     let x = ndarray::ArrayView2::from_shape((sample.len() / dim, dim), &sample).expect("rows of dim values");
     let mean = crate::filter::linalg::column_means(x).to_vec();
     let (_, axes) = crate::filter::linalg::symmetric_eigen(&crate::filter::linalg::covariance(x, 0));
-    // Axis j's components, contiguous.
-    let axes: Vec<f64> = (0..dim).flat_map(|j| (0..dim).map(move |k| (j, k))).map(|(j, k)| axes[[k, j]]).collect();
+    // Component k of every axis, contiguous: `by_k[k * dim + j]` is axis j's component k.
+    let by_k: Vec<f64> = (0..dim).flat_map(|k| (0..dim).map(move |j| (j, k))).map(|(j, k)| axes[[k, j]]).collect();
     let mut out = vec![0.0; points.len()];
-    let mut centred = vec![0.0; dim];
     let mut largest = 0.0f64;
     for (row, o) in points.chunks_exact(dim).zip(out.chunks_exact_mut(dim)) {
-        let (row, o, centred) = (&row[..dim], &mut o[..dim], &mut centred[..dim]);
+        let (row, o) = (&row[..dim], &mut o[..dim]);
+        // Every coordinate's sum grows by one term per k, in the order k = 0, 1, ... (so
+        // each is the dot product added in coordinate order); the coordinates are
+        // independent of each other, so this inner loop runs several at once.
         for k in 0..dim {
             largest = larger(largest, row[k].abs());
-            centred[k] = row[k] - mean[k];
-        }
-        for (j, v) in o.iter_mut().enumerate() {
-            let axis = &axes[j * dim..(j + 1) * dim];
-            let mut s = 0.0;
-            for k in 0..dim {
-                s += centred[k] * axis[k];
+            let c = row[k] - mean[k];
+            for (v, &a) in o.iter_mut().zip(&by_k[k * dim..(k + 1) * dim]) {
+                *v += c * a;
             }
-            *v = s;
         }
     }
     Some((out, 1e-10 * dim as f64 * (1.0 + largest)))

@@ -480,6 +480,31 @@ test("cancelling while the pool clusters keeps the worker, its helpers, the grap
   await closePage(p);
 });
 
+test("a browser without WebAssembly SIMD is told what it lacks and which browsers have it", async () => {
+  const page = await context.newPage();
+  const errors = [];
+  page.on("pageerror", (e) => errors.push(e.message));
+  // The worker's script (which the page makes into a Blob) starts by giving it a WebAssembly
+  // that accepts no SIMD module, as in Chrome before 91 (the engine is built with SIMD,
+  // .cargo/config.toml).
+  await page.addInitScript(() => {
+    const OriginalBlob = window.Blob;
+    window.Blob = function (parts, options) {
+      const script = options && options.type === "text/javascript";
+      return new OriginalBlob(script ? ["WebAssembly.validate = function () { return false; };\n", ...parts] : parts, options);
+    };
+    window.Blob.prototype = OriginalBlob.prototype;
+  });
+  await page.goto(pageUrl);
+  await page.click("#demo-button");
+  const shown = await waitForMessage(page, /lacks WebAssembly SIMD/);
+  assert.match(shown, /^The engine could not start in this browser: this browser lacks WebAssembly SIMD, which the engine needs; Chrome or Edge 91, Firefox 113, Safari 16\.4 and later/);
+  assert.equal(await page.evaluate(() => window.nervure.summary()), null, "no graph without an engine");
+  assert.deepEqual(errors, []);
+  results.push({ input: "a browser without WebAssembly SIMD", message: shown, survived: "nothing to keep (no engine)" });
+  await page.close();
+});
+
 test("a whole session makes no request beyond the page itself and blob:/data: URLs", async () => {
   const seen = [];
   const record = (r) => seen.push(r.url());

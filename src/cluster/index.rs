@@ -104,26 +104,6 @@ pub(super) fn dist2<D: Dim>(d: D, a: &[f64], b: &[f64]) -> f64 {
     a[..n].iter().zip(&b[..n]).map(|(x, y)| (x - y) * (x - y)).sum()
 }
 
-/// The gap between the intervals `[alo, ahi]` and `[blo, bhi]` (0 when they meet): the
-/// one of `blo - ahi`, `alo - bhi` that is positive (at most one is, as `alo <= ahi` and
-/// `blo <= bhi`), otherwise 0. Natively without branches (faster there); in wasm by
-/// comparisons, which V8 runs faster than selects. The same value either way.
-#[inline(always)]
-pub(super) fn gap(alo: f64, ahi: f64, blo: f64, bhi: f64) -> f64 {
-    if cfg!(target_arch = "wasm32") {
-        if blo > ahi {
-            blo - ahi
-        } else if alo > bhi {
-            alo - bhi
-        } else {
-            0.0
-        }
-    } else {
-        larger(larger(blo - ahi, alo - bhi), 0.0)
-    }
-}
-
-
 /// The sum over the coordinates of `max(u[k] - v[k], w[k] - z[k], floor)²`, the squares
 /// added in coordinate order, or some partial sum above `stop` as soon as one passes it
 /// (exact, as in [`sum_within`]). Every box test below is such a sum.
@@ -154,7 +134,7 @@ fn larger_squares(n: usize, (u, v, w, z): (&[f64], &[f64], &[f64], &[f64]), floo
         }
     }
     while k < n {
-        let t = larger(larger(u[k] - v[k], w[k] - z[k]), floor);
+        let t = largest(u[k] - v[k], w[k] - z[k], floor);
         s += t * t;
         k += 1;
         if (k % CHUNK == 0 || k == n) && s > stop {
@@ -164,11 +144,27 @@ fn larger_squares(n: usize, (u, v, w, z): (&[f64], &[f64], &[f64], &[f64]), floo
     s
 }
 
+/// The largest of three values, none of them NaN; with wasm SIMD by `f64x2.pmax` on one
+/// lane (see [`larger_squares`]), otherwise by [`larger`]. The same value either way.
+#[inline(always)]
+fn largest(a: f64, b: f64, c: f64) -> f64 {
+    #[cfg(all(target_arch = "wasm32", target_feature = "simd128"))]
+    {
+        use core::arch::wasm32::{f64x2_extract_lane, f64x2_pmax, f64x2_splat};
+        f64x2_extract_lane::<0>(f64x2_pmax(f64x2_pmax(f64x2_splat(a), f64x2_splat(b)), f64x2_splat(c)))
+    }
+    #[cfg(not(all(target_arch = "wasm32", target_feature = "simd128")))]
+    {
+        larger(larger(a, b), c)
+    }
+}
+
 /// The squared distance between the nearest corners of two boxes (0 when they meet; a point
 /// is a box whose bounds are equal), or some value above `stop` when it is larger.
 #[inline(always)]
 pub(super) fn gap2<D: Dim>(d: D, a: Bounds, b: Bounds, stop: f64) -> f64 {
-    // Per coordinate the positive one of `blo - ahi`, `alo - bhi`, otherwise 0 (`gap`).
+    // Per coordinate the positive one of `blo - ahi`, `alo - bhi` (at most one is, as
+    // `alo <= ahi` and `blo <= bhi`), otherwise 0.
     larger_squares(d.n(), (b.0, a.1, a.0, b.1), 0.0, stop)
 }
 
@@ -252,3 +248,51 @@ pub(super) fn principal_frame<D: Dim>(points: &[f64], d: D) -> Option<(Vec<f64>,
     Some((out, 1e-10 * dim as f64 * (1.0 + largest)))
 }
 
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::rng::SplitMix64;
+
+    /// The box tests against their definitions, coordinate by coordinate, on random boxes
+    /// and points (some touching, some overlapping, some apart), in 1 to 13 columns: the
+    /// same sums exactly when within `stop`, and above `stop` whenever the full sum is.
+    #[test]
+    fn box_tests_are_their_definitions() {
+        let mut rng = SplitMix64::new(7);
+        for trial in 0..4000 {
+            let n = 1 + trial % 13;
+            let mut corner = |spread: f64| -> (Vec<f64>, Vec<f64>) {
+                let lo: Vec<f64> = (0..n).map(|_| (rng.next_f64() - 0.5) * 4.0).collect();
+                let hi = lo.iter().map(|&l| if rng.next_f64() < 0.2 { l } else { l + rng.next_f64() * spread }).collect();
+                (lo, hi)
+            };
+            let (a, b) = (corner(2.0), corner(2.0));
+            let (a, b): (Bounds, Bounds) = ((&a.0, &a.1), (&b.0, &b.1));
+            let mut near = 0.0;
+            let mut far = 0.0;
+            for k in 0..n {
+                let g = if b.0[k] > a.1[k] { b.0[k] - a.1[k] } else if a.0[k] > b.1[k] { a.0[k] - b.1[k] } else { 0.0 };
+                near += g * g;
+                let f = (b.1[k] - a.0[k]).max(a.1[k] - b.0[k]);
+                far += f * f;
+            }
+            let stop = rng.next_f64() * 2.0 * near.max(far);
+            assert_eq!(gap2(Any(n), a, b, f64::INFINITY), near, "trial {trial}");
+            let bounded = gap2(Any(n), a, b, stop);
+            assert!(if near <= stop { bounded == near } else { bounded > stop }, "trial {trial}: {bounded} for {near} against {stop}");
+            assert_eq!(box_far_within(Any(n), a, b, stop), far <= stop, "trial {trial}");
+            let q = a.0;
+            let mut point_near = 0.0;
+            let mut point_far = 0.0;
+            for k in 0..n {
+                let g = if b.0[k] > q[k] { b.0[k] - q[k] } else if q[k] > b.1[k] { q[k] - b.1[k] } else { 0.0 };
+                point_near += g * g;
+                let f = (q[k] - b.0[k]).max(b.1[k] - q[k]);
+                point_far += f * f;
+            }
+            assert_eq!(point_box_near(Any(n), q, b, stop), point_near <= stop, "trial {trial}");
+            assert_eq!(point_box_far_within(Any(n), q, b, stop), point_far <= stop, "trial {trial}");
+        }
+    }
+}

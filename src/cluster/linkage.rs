@@ -49,7 +49,7 @@
 //!
 //! Not here: other linkages (average, complete), other cut rules, non-Euclidean metrics.
 
-use super::index::{dist2, gap, Any, Dim, Fixed, Index};
+use super::index::{dist2, gap2, Any, Dim, Fixed, Index};
 use super::kdtree::KdTree;
 use super::unionfind::UnionFind;
 use super::Labels;
@@ -171,15 +171,7 @@ impl<'a, D: Dim> Search<'a, D> {
     /// Squared distance in the frame from `q` to the nearest corner of node `n`'s box.
     #[inline(always)]
     fn near2(&self, q: &[f64], n: usize) -> f64 {
-        let k = self.dim.n();
-        let (lo, hi) = self.tree.node_box(n);
-        let (q, lo, hi) = (&q[..k], &lo[..k], &hi[..k]);
-        let mut s = 0.0;
-        for i in 0..k {
-            let g = gap(q[i], q[i], lo[i], hi[i]);
-            s += g * g;
-        }
-        s
+        gap2(self.dim, (q, q), self.tree.node_box(n), f64::INFINITY)
     }
 
     /// The point nearest to the point at tree position `p` whose component differs from

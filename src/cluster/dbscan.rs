@@ -111,7 +111,7 @@ pub fn dbscan(points: &[f64], dim: usize, eps: f64, min_points: usize) -> Labels
 
 /// The three steps of the module doc. Each step, and the small sweeps around them, is a
 /// function of its own, never inlined: as one body they ran in wasm at 2.3 times their
-/// native time, as separate functions nearer 1.5 (V8 optimises a function as a whole and
+/// native time, as separate functions at 1.4 to 1.8 (the demo's profile under node; V8 optimises a function as a whole and
 /// swaps its optimised code in between calls, see [`Work::core_leaf`]); the first
 /// clustering of a new page helper gained most.
 fn run<D: Dim>(points: &[f64], dim: D, eps: f64, min_points: usize) -> Labels {

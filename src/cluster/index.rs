@@ -248,7 +248,6 @@ pub(super) fn principal_frame<D: Dim>(points: &[f64], d: D) -> Option<(Vec<f64>,
     Some((out, 1e-10 * dim as f64 * (1.0 + largest)))
 }
 
-
 #[cfg(test)]
 mod tests {
     use super::*;
